@@ -1,0 +1,77 @@
+import express, { type Express } from 'express';
+import cookieParser from 'cookie-parser';
+import helmet from 'helmet';
+import { existsSync } from 'node:fs';
+import { join } from 'node:path';
+import { RequestContext, type MikroORM } from '@mikro-orm/postgresql';
+import type { Pool } from 'pg';
+import type { AppConfig } from './config';
+import { csrfProtection } from './common/csrf';
+import { errorMiddleware, notFoundHandler } from './common/error-middleware';
+import { adminRoutes } from './modules/admin/admin.routes';
+import { authRoutes } from './modules/auth/auth.routes';
+import { currentUserMiddleware, sessionMiddleware } from './modules/auth/session';
+import { boardRoutes } from './modules/boards/board.routes';
+import { caseRoutes } from './modules/cases/case.routes';
+import { healthRoutes } from './modules/health/health.routes';
+
+export interface Services {
+  orm: MikroORM;
+  /** For the session store; separate from the ORM's pool. */
+  sessionPool: Pool;
+  config: AppConfig;
+  log: (message: string, error?: unknown) => void;
+}
+
+export const samlCallbackPath = '/api/auth/saml/callback';
+
+/** The whole HTTP application, with nothing global: tests build one per suite. */
+export function createApp(services: Services): Express {
+  const { orm, config } = services;
+  const app = express();
+  app.disable('x-powered-by');
+  app.set('trust proxy', config.trustProxy);
+  app.use(
+    helmet({
+      contentSecurityPolicy: {
+        directives: {
+          defaultSrc: ["'self'"],
+          scriptSrc: ["'self'"],
+          styleSrc: ["'self'", "'unsafe-inline'"],
+          fontSrc: ["'self'"],
+          imgSrc: ["'self'", 'data:', 'blob:'],
+          connectSrc: ["'self'"],
+          workerSrc: ["'self'", 'blob:'],
+          formAction: ["'self'", ...(config.saml ? [new URL(config.saml.entryPoint).origin] : [])],
+          upgradeInsecureRequests: config.isCookieSecure ? [] : null,
+        },
+      },
+      strictTransportSecurity: config.isCookieSecure,
+    }),
+  );
+  app.use(express.json({ limit: '256kb' }));
+  app.use(express.urlencoded({ extended: false, limit: '512kb' }));
+  app.use(cookieParser());
+  app.use('/api', sessionMiddleware(config, services.sessionPool));
+  app.use((_request, _response, next) => RequestContext.create(orm.em, next));
+  app.use('/api', currentUserMiddleware(orm, config));
+  app.use('/api', csrfProtection({ secret: config.sessionSecret, isSecure: config.isCookieSecure, exemptPaths: ['/auth/saml/callback'] }));
+
+  app.use('/api/health', healthRoutes(orm));
+  app.use('/api/auth', authRoutes(orm, config));
+  app.use('/api/boards', boardRoutes(orm));
+  app.use('/api/cases', caseRoutes(orm));
+  app.use('/api/admin', adminRoutes(orm));
+  app.use('/api', notFoundHandler);
+
+  if (config.clientDist && existsSync(join(config.clientDist, 'index.html'))) {
+    const dist = config.clientDist;
+    app.use(express.static(dist, { index: false, maxAge: '1h' }));
+    app.get('/{*splat}', (_request, response) => {
+      response.sendFile(join(dist, 'index.html'), { headers: { 'Cache-Control': 'no-cache' } });
+    });
+  }
+
+  app.use(errorMiddleware((message, error) => services.log(message, error)));
+  return app;
+}

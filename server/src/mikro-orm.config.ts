@@ -1,0 +1,58 @@
+import { defineConfig } from '@mikro-orm/postgresql';
+import { Migrator } from '@mikro-orm/migrations';
+import { fileURLToPath } from 'node:url';
+import { AuditEvent } from './modules/audit/audit-event.entity';
+import { Board } from './modules/boards/board.entity';
+import { BoardMembership } from './modules/boards/board-membership.entity';
+import { ClinicalCase } from './modules/cases/case.entity';
+import { LabPanel } from './modules/cases/lab-panel.entity';
+import { Lesion } from './modules/cases/lesion.entity';
+import { SamlAssertionSeen } from './modules/saml/saml-assertion.entity';
+import { SamlRequest } from './modules/saml/saml-request.entity';
+import { HttpSession } from './modules/sessions/http-session.entity';
+import { RolePolicy } from './modules/users/role-policy.entity';
+import { User } from './modules/users/user.entity';
+import { databaseUrl } from './database-url';
+
+const migrationsPath = fileURLToPath(new URL('../migrations', import.meta.url));
+
+export const entities = [
+  User,
+  RolePolicy,
+  Board,
+  BoardMembership,
+  ClinicalCase,
+  Lesion,
+  LabPanel,
+  AuditEvent,
+  HttpSession,
+  SamlRequest,
+  SamlAssertionSeen,
+];
+
+/** MikroORM settings; `clientUrl` decides the database (tests pass their own). */
+export function ormConfig(clientUrl = databaseUrl()) {
+  return defineConfig({
+    clientUrl,
+    entities,
+    extensions: [Migrator],
+    // Explicit property types everywhere: tsx/esbuild emits no decorator metadata.
+    discovery: { requireEntitiesArray: true },
+    migrations: {
+      path: migrationsPath,
+      pathTs: migrationsPath,
+      glob: '!(*.d).{js,ts}',
+      transactional: true,
+      allOrNothing: true,
+      snapshot: true,
+      emit: 'ts',
+    },
+    preferTs: import.meta.url.endsWith('.ts'),
+    pool: { min: 0, max: 10 },
+    debug: false,
+    // Migrations, never schema sync: nothing creates tables at start.
+    ensureDatabase: false,
+  });
+}
+
+export default ormConfig();

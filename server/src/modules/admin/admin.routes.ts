@@ -1,0 +1,72 @@
+import { Router } from 'express';
+import type { MikroORM } from '@mikro-orm/postgresql';
+import { z } from 'zod';
+import {
+  addMembershipSchema,
+  auditQuerySchema,
+  createBoardSchema,
+  createUserSchema,
+  rolePolicySchema,
+  roles,
+  updateUserSchema,
+} from '@emberline/shared';
+import { actorOf, requireRole } from '../../common/auth-middleware';
+import { NotFoundError } from '../../common/errors';
+import { parse } from '../../common/validate';
+import { listAuditEvents } from '../audit/audit.service';
+import { AdminService } from './admin.service';
+
+function id(value: unknown, what: string): string {
+  const result = z.uuid().safeParse(value);
+  if (!result.success) throw new NotFoundError(what);
+  return result.data;
+}
+
+export function adminRoutes(orm: MikroORM): Router {
+  const router = Router();
+  router.use(requireRole('administrator'));
+  const service = () => new AdminService(orm.em);
+
+  router.get('/users', async (_request, response) => {
+    response.json(await service().listUsers());
+  });
+  router.post('/users', async (request, response) => {
+    response.status(201).json(await service().createUser(actorOf(request), parse(createUserSchema, request.body)));
+  });
+  router.patch('/users/:id', async (request, response) => {
+    const body = parse(updateUserSchema, request.body);
+    response.json(await service().updateUser(actorOf(request), id(request.params.id, 'The user'), body));
+  });
+
+  router.get('/boards', async (_request, response) => {
+    response.json(await service().listBoards());
+  });
+  router.post('/boards', async (request, response) => {
+    response.status(201).json(await service().createBoard(actorOf(request), parse(createBoardSchema, request.body)));
+  });
+  router.post('/boards/:id/members', async (request, response) => {
+    const body = parse(addMembershipSchema, request.body);
+    await service().addMembership(actorOf(request), id(request.params.id, 'The board'), body.userId, body.specialty);
+    response.status(204).end();
+  });
+  router.delete('/boards/:id/members/:userId', async (request, response) => {
+    await service().removeMembership(actorOf(request), id(request.params.id, 'The board'), id(request.params.userId, 'The user'));
+    response.status(204).end();
+  });
+
+  router.get('/role-policies', async (_request, response) => {
+    response.json(await service().listRolePolicies());
+  });
+  router.put('/role-policies/:role', async (request, response) => {
+    const role = z.enum(roles).safeParse(request.params.role);
+    if (!role.success) throw new NotFoundError('The role');
+    const body = parse(rolePolicySchema, request.body);
+    response.json(await service().setRolePolicy(actorOf(request), role.data, body.requiresTotp));
+  });
+
+  router.get('/audit', async (request, response) => {
+    response.json(await listAuditEvents(orm.em, parse(auditQuerySchema, request.query)));
+  });
+
+  return router;
+}

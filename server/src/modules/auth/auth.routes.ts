@@ -1,0 +1,115 @@
+import { Router } from 'express';
+import { rateLimit, ipKeyGenerator } from 'express-rate-limit';
+import type { MikroORM } from '@mikro-orm/postgresql';
+import { loginRequestSchema, totpConfirmSchema, type ProblemDetails } from '@emberline/shared';
+import type { AppConfig } from '../../config';
+import { actorOf, signedInUser } from '../../common/auth-middleware';
+import { AppError, UnauthenticatedError, ValidationError } from '../../common/errors';
+import { issueCsrfToken } from '../../common/csrf';
+import { parse } from '../../common/validate';
+import { recordAudit, writeAudit } from '../audit/audit.service';
+import { verifyPassword } from '../users/password';
+import { isTotpCodeValid, newTotpSecret, totpUri } from '../users/totp';
+import { User } from '../users/user.entity';
+import { loadSignedInUser, toCurrentUser } from '../users/user.service';
+import { destroySession, establishSession, sessionCookieName } from './session';
+
+const refusal = 'The e-mail address or password is not correct.';
+
+export function authRoutes(orm: MikroORM, config: AppConfig): Router {
+  const router = Router();
+
+  const loginLimiter = rateLimit({
+    windowMs: config.loginRateLimit.windowMs,
+    limit: config.loginRateLimit.limit,
+    standardHeaders: 'draft-8',
+    legacyHeaders: false,
+    // Per address and account, so one noisy client does not lock out a whole ward.
+    keyGenerator: (request) =>
+      `${ipKeyGenerator(request.ip ?? '')}|${String((request.body as { email?: unknown } | undefined)?.email ?? '').toLowerCase()}`,
+    handler: (_request, response) => {
+      const problem: ProblemDetails = {
+        type: 'urn:emberline:problem:rate-limited',
+        title: 'Too many attempts',
+        status: 429,
+        detail: 'Too many sign-in attempts. Wait a few minutes, then try again.',
+      };
+      response.status(429).type('application/problem+json').json(problem);
+    },
+  });
+
+  router.post('/login', loginLimiter, async (request, response) => {
+    const body = parse(loginRequestSchema, request.body);
+    const em = orm.em;
+    const user = await em.findOne(User, { email: body.email.toLowerCase() }, { populate: ['passwordHash', 'totpSecret'] });
+    const isPasswordRight = await verifyPassword(user?.passwordHash ?? null, body.password);
+    const actor = { id: user?.id ?? null, email: body.email.toLowerCase(), ip: request.ip ?? null };
+    if (!user || !user.isActive || !isPasswordRight) {
+      await writeAudit(em, actor, { action: 'auth.sign-in-failed', outcome: 'refused', detail: { reason: 'credentials' } });
+      throw new UnauthenticatedError(refusal);
+    }
+    if (user.totpEnabledAt && user.totpSecret) {
+      if (!body.code) {
+        throw new UnauthenticatedError('Enter the six-digit code from your authenticator app.', 'urn:emberline:problem:totp-required');
+      }
+      if (!isTotpCodeValid(user.totpSecret, body.code)) {
+        await writeAudit(em, actor, { action: 'auth.sign-in-failed', outcome: 'refused', detail: { reason: 'totp' } });
+        throw new UnauthenticatedError('The code is not correct.', 'urn:emberline:problem:totp-required');
+      }
+    }
+    await establishSession(request, response, config, user.id, 'local');
+    user.lastSignInAt = new Date();
+    recordAudit(em, actor, { action: 'auth.sign-in', entityType: 'user', entityId: user.id, detail: { method: 'local' } });
+    await em.flush();
+    const current = await loadSignedInUser(em, user.id, 'local');
+    response.json(current && toCurrentUser(current));
+  });
+
+  router.post('/logout', async (request, response) => {
+    if (request.currentUser) {
+      await writeAudit(orm.em, actorOf(request), { action: 'auth.sign-out', entityType: 'user', entityId: request.currentUser.id });
+    }
+    if (request.session) await destroySession(request);
+    response.clearCookie(sessionCookieName, { path: '/' });
+    delete request.currentUser;
+    issueCsrfToken(config.sessionSecret, request, response, config.isCookieSecure);
+    response.status(204).end();
+  });
+
+  router.get('/me', (request, response) => {
+    response.json(toCurrentUser(signedInUser(request)));
+  });
+
+  router.post('/totp/setup', async (request, response) => {
+    const user = signedInUser(request);
+    if (user.signInMethod !== 'local') {
+      throw new AppError(409, 'Conflict', 'Single sign-on accounts use the hospital identity provider\'s second factor.');
+    }
+    if (user.hasTotp) throw new AppError(409, 'Conflict', 'A second factor is set up already.');
+    const secret = newTotpSecret();
+    request.session.pendingTotpSecret = secret;
+    response.json({ secret, otpauthUri: totpUri(secret, user.email) });
+  });
+
+  router.post('/totp/confirm', async (request, response) => {
+    const current = signedInUser(request);
+    const { code } = parse(totpConfirmSchema, request.body);
+    const secret = request.session.pendingTotpSecret;
+    if (!secret) throw new AppError(409, 'Conflict', 'Start the set-up first.');
+    if (!isTotpCodeValid(secret, code)) {
+      throw new ValidationError('code: the code does not match; check the clock of the device', [
+        { path: 'code', message: 'does not match' },
+      ]);
+    }
+    const user = await orm.em.findOneOrFail(User, current.id);
+    user.totpSecret = secret;
+    user.totpEnabledAt = new Date();
+    delete request.session.pendingTotpSecret;
+    recordAudit(orm.em, actorOf(request), { action: 'auth.totp-enabled', entityType: 'user', entityId: user.id });
+    await orm.em.flush();
+    const refreshed = await loadSignedInUser(orm.em, user.id, current.signInMethod);
+    response.json(refreshed && toCurrentUser(refreshed));
+  });
+
+  return router;
+}

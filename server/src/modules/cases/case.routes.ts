@@ -1,0 +1,75 @@
+import { Router } from 'express';
+import type { MikroORM } from '@mikro-orm/postgresql';
+import {
+  caseListQuerySchema,
+  createCaseSchema,
+  createLabPanelSchema,
+  createLesionSchema,
+  updateCaseSchema,
+} from '@emberline/shared';
+import { z } from 'zod';
+import { actorOf, requireSignIn, signedInUser } from '../../common/auth-middleware';
+import { NotFoundError } from '../../common/errors';
+import { parse } from '../../common/validate';
+import { CaseService } from './case.service';
+
+const idSchema = z.uuid();
+
+export function caseRoutes(orm: MikroORM): Router {
+  const router = Router();
+  router.use(requireSignIn);
+  const service = () => new CaseService(orm.em);
+  const caseId = (value: unknown) => {
+    // A malformed id names no case: the same 404 as a case out of reach.
+    const result = idSchema.safeParse(value);
+    if (!result.success) throw new NotFoundError('The case');
+    return result.data;
+  };
+
+  router.get('/', async (request, response) => {
+    const query = parse(caseListQuerySchema, request.query);
+    response.json(await service().list(signedInUser(request), query));
+  });
+
+  router.post('/', async (request, response) => {
+    const body = parse(createCaseSchema, request.body);
+    const created = await service().create(signedInUser(request), actorOf(request), body);
+    response.status(201).location(`/api/cases/${created.id}`).json(created);
+  });
+
+  router.get('/:id', async (request, response) => {
+    response.json(await service().get(signedInUser(request), actorOf(request), caseId(request.params.id)));
+  });
+
+  router.patch('/:id', async (request, response) => {
+    const body = parse(updateCaseSchema, request.body);
+    response.json(await service().update(signedInUser(request), actorOf(request), caseId(request.params.id), body));
+  });
+
+  router.delete('/:id', async (request, response) => {
+    await service().remove(signedInUser(request), actorOf(request), caseId(request.params.id));
+    response.status(204).end();
+  });
+
+  router.post('/:id/lesions', async (request, response) => {
+    const body = parse(createLesionSchema, request.body);
+    response.status(201).json(await service().addLesion(signedInUser(request), actorOf(request), caseId(request.params.id), body));
+  });
+
+  router.delete('/:id/lesions/:lesionId', async (request, response) => {
+    const detail = await service().removeLesion(
+      signedInUser(request),
+      actorOf(request),
+      caseId(request.params.id),
+      caseId(request.params.lesionId),
+    );
+    response.json(detail);
+  });
+
+  router.post('/:id/lab-panels', async (request, response) => {
+    const body = parse(createLabPanelSchema, request.body);
+    response.status(201).json(await service().addLabPanel(signedInUser(request), actorOf(request), caseId(request.params.id), body));
+  });
+
+  return router;
+}

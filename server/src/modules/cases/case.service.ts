@@ -1,0 +1,259 @@
+import type { EntityManager } from '@mikro-orm/postgresql';
+import type { FilterQuery } from '@mikro-orm/core';
+import {
+  computeLiverScores,
+  albuminToGDl,
+  bilirubinToMgDl,
+  creatinineToMgDl,
+  coordinatorVisibleStatuses,
+  type CaseDetail,
+  type CaseListQuery,
+  type CaseSummary,
+  type LiverScores,
+  type Page,
+  createCaseSchema,
+  createLabPanelSchema,
+  createLesionSchema,
+  updateCaseSchema,
+} from '@emberline/shared';
+import type { z } from 'zod';
+import { hasRole } from '../../common/auth-middleware';
+import { ConflictError, ForbiddenError, NotFoundError } from '../../common/errors';
+import type { Actor, SignedInUser } from '../../common/request-context';
+import { recordAudit } from '../audit/audit.service';
+import { Board } from '../boards/board.entity';
+import { User } from '../users/user.entity';
+import { ClinicalCase } from './case.entity';
+import { LabPanel } from './lab-panel.entity';
+import { Lesion } from './lesion.entity';
+import { CaseRepository } from './case.repository';
+
+type CreateCase = z.output<typeof createCaseSchema>;
+type UpdateCase = z.output<typeof updateCaseSchema>;
+type CreateLesion = z.output<typeof createLesionSchema>;
+type CreateLabPanel = z.output<typeof createLabPanelSchema>;
+
+/**
+ * Case rules (DESIGN.md §2): a case is seen only by members of its board; clinicians see every
+ * state, a nurse coordinator only decided ones; the presenting physician edits own cases.
+ * A case the user may not see answers 404, a forbidden action on a visible case 403.
+ */
+export class CaseService {
+  constructor(private readonly em: EntityManager) {}
+
+  private get cases(): CaseRepository {
+    return this.em.getRepository(ClinicalCase) as CaseRepository;
+  }
+
+  async list(user: SignedInUser, query: CaseListQuery): Promise<Page<CaseSummary>> {
+    const [items, total] = await this.cases.findVisiblePage(visibilityFilter(user), query);
+    return { items: items.map(toSummary), total, page: query.page, size: query.size };
+  }
+
+  async get(user: SignedInUser, actor: Actor, id: string): Promise<CaseDetail> {
+    const found = await this.findVisible(user, id);
+    recordAudit(this.em, actor, { action: 'case.read', entityType: 'case', entityId: found.id });
+    await this.em.flush();
+    return this.toDetail(user, found);
+  }
+
+  async create(user: SignedInUser, actor: Actor, body: CreateCase): Promise<CaseDetail> {
+    if (!hasRole(user, 'presenting-physician')) throw new ForbiddenError('Only a presenting physician creates cases.');
+    if (!user.memberships.has(body.boardId)) throw new NotFoundError('The board');
+    const presenterId = body.presenterId ?? user.id;
+    await this.assertPresenter(presenterId, body.boardId);
+    if (await this.cases.count({ caseCode: body.caseCode })) {
+      throw new ConflictError(`The case code ${body.caseCode} is taken; choose another.`);
+    }
+    const created = new ClinicalCase({
+      caseCode: body.caseCode,
+      board: this.em.getReference(Board, body.boardId, { wrapped: true }),
+      presenter: this.em.getReference(User, presenterId, { wrapped: true }),
+      yearOfBirth: body.yearOfBirth,
+      sex: body.sex,
+      primaryDiagnosis: body.primaryDiagnosis,
+    });
+    created.ecogPerformanceStatus = body.ecogPerformanceStatus ?? null;
+    created.hasVascularInvasion = body.hasVascularInvasion ?? null;
+    created.hasExtrahepaticSpread = body.hasExtrahepaticSpread ?? null;
+    this.em.persist(created);
+    recordAudit(this.em, actor, { action: 'case.create', entityType: 'case', entityId: created.id });
+    await this.em.flush();
+    return this.get(user, actor, created.id);
+  }
+
+  async update(user: SignedInUser, actor: Actor, id: string, body: UpdateCase): Promise<CaseDetail> {
+    const found = await this.findEditable(user, id);
+    if (body.status && !['draft', 'ready-for-board'].includes(found.status)) {
+      throw new ConflictError('Only a draft or a case ready for board changes state here.');
+    }
+    if (body.caseCode && body.caseCode !== found.caseCode) {
+      if (await this.cases.count({ caseCode: body.caseCode })) {
+        throw new ConflictError(`The case code ${body.caseCode} is taken; choose another.`);
+      }
+    }
+    if (body.presenterId && body.presenterId !== found.presenter.id) {
+      await this.assertPresenter(body.presenterId, found.board.id);
+      found.presenter = this.em.getReference(User, body.presenterId, { wrapped: true });
+    }
+    const changed = Object.keys(body).filter((key) => key !== 'presenterId');
+    for (const key of changed) {
+      const value = body[key as keyof UpdateCase];
+      if (value !== undefined) Object.assign(found, { [key]: value });
+    }
+    recordAudit(this.em, actor, { action: 'case.update', entityType: 'case', entityId: found.id, detail: { fields: Object.keys(body) } });
+    await this.em.flush();
+    return this.toDetail(user, found);
+  }
+
+  async remove(user: SignedInUser, actor: Actor, id: string): Promise<void> {
+    const found = await this.findEditable(user, id);
+    if (found.status !== 'draft') throw new ConflictError('Only a draft case can be deleted.');
+    await found.lesions.init();
+    await found.labPanels.init();
+    this.em.remove(found);
+    recordAudit(this.em, actor, { action: 'case.delete', entityType: 'case', entityId: found.id });
+    await this.em.flush();
+  }
+
+  async addLesion(user: SignedInUser, actor: Actor, caseId: string, body: CreateLesion): Promise<CaseDetail> {
+    const found = await this.findEditable(user, caseId);
+    const lesion = new Lesion(this.em.getReference(ClinicalCase, found.id, { wrapped: true }), body.segment, body.diameterMm, body.kind);
+    this.em.persist(lesion);
+    recordAudit(this.em, actor, { action: 'lesion.create', entityType: 'case', entityId: found.id, detail: { lesionId: lesion.id } });
+    await this.em.flush();
+    return this.toDetail(user, found);
+  }
+
+  async removeLesion(user: SignedInUser, actor: Actor, caseId: string, lesionId: string): Promise<CaseDetail> {
+    const found = await this.findEditable(user, caseId);
+    const lesion = await this.em.findOne(Lesion, { id: lesionId, clinicalCase: found.id });
+    if (!lesion) throw new NotFoundError('The lesion');
+    this.em.remove(lesion);
+    recordAudit(this.em, actor, { action: 'lesion.delete', entityType: 'case', entityId: found.id, detail: { lesionId } });
+    await this.em.flush();
+    return this.toDetail(user, found);
+  }
+
+  async addLabPanel(user: SignedInUser, actor: Actor, caseId: string, body: CreateLabPanel): Promise<CaseDetail> {
+    const found = await this.findEditable(user, caseId);
+    const panel = new LabPanel(
+      this.em.getReference(ClinicalCase, found.id, { wrapped: true }),
+      this.em.getReference(User, user.id, { wrapped: true }),
+      { ...body, takenAt: new Date(body.takenAt) },
+    );
+    this.em.persist(panel);
+    recordAudit(this.em, actor, { action: 'lab-panel.create', entityType: 'case', entityId: found.id, detail: { labPanelId: panel.id } });
+    await this.em.flush();
+    return this.toDetail(user, found);
+  }
+
+  private async findVisible(user: SignedInUser, id: string): Promise<ClinicalCase> {
+    const found = await this.cases.findOne({ $and: [{ id }, visibilityFilter(user)] }, { populate: ['board', 'presenter'] });
+    if (!found) throw new NotFoundError('The case');
+    return found;
+  }
+
+  private async findEditable(user: SignedInUser, id: string): Promise<ClinicalCase> {
+    const found = await this.findVisible(user, id);
+    if (!canEdit(user, found)) throw new ForbiddenError('Only the presenting physician of this case edits it.');
+    return found;
+  }
+
+  private async assertPresenter(presenterId: string, boardId: string): Promise<void> {
+    const presenter = await this.em.findOne(User, { id: presenterId, isActive: true });
+    const isMember = presenter && (await this.em.count('BoardMembership', { user: presenterId, board: boardId })) > 0;
+    if (!presenter || !isMember || !presenter.roles.includes('presenting-physician')) {
+      throw new ConflictError('The presenter must be a presenting physician of the case\'s board.');
+    }
+  }
+
+  private async toDetail(user: SignedInUser, found: ClinicalCase): Promise<CaseDetail> {
+    const lesions = await this.em.find(Lesion, { clinicalCase: found.id }, { orderBy: { createdAt: 'asc' } });
+    const panels = await this.em.find(LabPanel, { clinicalCase: found.id }, { orderBy: { takenAt: 'desc', createdAt: 'desc' }, populate: ['enteredBy'] });
+    const board = found.board.getEntity();
+    const presenter = await found.presenter.load();
+    const isEditable = canEdit(user, found);
+    return {
+      id: found.id,
+      caseCode: found.caseCode,
+      board: { id: board.id, name: board.name },
+      presenter: { id: presenter?.id ?? found.presenter.id, displayName: presenter?.displayName ?? '' },
+      yearOfBirth: found.yearOfBirth,
+      sex: found.sex,
+      primaryDiagnosis: found.primaryDiagnosis,
+      status: found.status,
+      ecogPerformanceStatus: found.ecogPerformanceStatus,
+      hasVascularInvasion: found.hasVascularInvasion,
+      hasExtrahepaticSpread: found.hasExtrahepaticSpread,
+      lesions: lesions.map((lesion) => ({ id: lesion.id, segment: lesion.segment, diameterMm: lesion.diameterMm, kind: lesion.kind })),
+      labPanels: panels.map((panel) => ({
+        id: panel.id,
+        takenAt: panel.takenAt.toISOString(),
+        bilirubin: { value: panel.bilirubinValue, unit: panel.bilirubinUnit },
+        albumin: { value: panel.albuminValue, unit: panel.albuminUnit },
+        inr: panel.inr,
+        creatinine: { value: panel.creatinineValue, unit: panel.creatinineUnit },
+        sodiumMmolL: panel.sodiumMmolL,
+        plateletsE9L: panel.plateletsE9L,
+        ascites: panel.ascites,
+        encephalopathy: panel.encephalopathy,
+        dialysisTwiceInPastWeek: panel.dialysisTwiceInPastWeek,
+        enteredBy: panel.enteredBy.getEntity().displayName,
+        createdAt: panel.createdAt.toISOString(),
+      })),
+      scores: scoresOf(found, lesions, panels[0]),
+      permissions: { canEdit: isEditable, canDelete: isEditable && found.status === 'draft' },
+      createdAt: found.createdAt.toISOString(),
+      updatedAt: found.updatedAt.toISOString(),
+    };
+  }
+}
+
+/** Scores from the newest lab panel; a missing panel leaves every lab-based score null. */
+function scoresOf(found: ClinicalCase, lesions: Lesion[], latest: LabPanel | undefined): LiverScores {
+  return computeLiverScores({
+    bilirubinMgDl: latest ? bilirubinToMgDl({ value: latest.bilirubinValue, unit: latest.bilirubinUnit }) : null,
+    albuminGDl: latest ? albuminToGDl({ value: latest.albuminValue, unit: latest.albuminUnit }) : null,
+    inr: latest?.inr ?? null,
+    creatinineMgDl: latest ? creatinineToMgDl({ value: latest.creatinineValue, unit: latest.creatinineUnit }) : null,
+    sodiumMmolL: latest?.sodiumMmolL ?? null,
+    ascites: latest?.ascites ?? null,
+    encephalopathy: latest?.encephalopathy ?? null,
+    dialysisTwiceInPastWeek: latest?.dialysisTwiceInPastWeek ?? null,
+    lesionDiametersMm: lesions.map((lesion) => lesion.diameterMm),
+    ecogPerformanceStatus: found.ecogPerformanceStatus,
+    hasVascularInvasion: found.hasVascularInvasion,
+    hasExtrahepaticSpread: found.hasExtrahepaticSpread,
+  });
+}
+
+function canEdit(user: SignedInUser, found: ClinicalCase): boolean {
+  return hasRole(user, 'presenting-physician') && found.presenter.id === user.id;
+}
+
+/** Which cases a user may see at all: their boards; coordinators only decided cases. */
+export function visibilityFilter(user: SignedInUser): FilterQuery<ClinicalCase> {
+  const boardIds = [...user.memberships.keys()];
+  if (boardIds.length === 0) return { id: { $in: [] } };
+  if (hasRole(user, 'presenting-physician', 'board-member', 'proceduralist')) return { board: { $in: boardIds } };
+  if (hasRole(user, 'nurse-coordinator')) {
+    return { board: { $in: boardIds }, status: { $in: [...coordinatorVisibleStatuses] } };
+  }
+  return { id: { $in: [] } };
+}
+
+function toSummary(found: ClinicalCase): CaseSummary {
+  return {
+    id: found.id,
+    caseCode: found.caseCode,
+    boardId: found.board.id,
+    boardName: found.board.getEntity().name,
+    presenterName: found.presenter.getEntity().displayName,
+    primaryDiagnosis: found.primaryDiagnosis,
+    status: found.status,
+    nextMeetingAt: null,
+    updatedAt: found.updatedAt.toISOString(),
+  };
+}
+

@@ -1,0 +1,210 @@
+import { z } from 'zod';
+import type { LiverScores } from '../scores';
+
+export const primaryDiagnoses = ['hcc', 'crlm', 'icc', 'other'] as const;
+export type PrimaryDiagnosis = (typeof primaryDiagnoses)[number];
+export const primaryDiagnosisLabels: Record<PrimaryDiagnosis, string> = {
+  hcc: 'Hepatocellular carcinoma',
+  crlm: 'Colorectal liver metastasis',
+  icc: 'Intrahepatic cholangiocarcinoma',
+  other: 'Other',
+};
+
+export const sexes = ['female', 'male', 'other', 'unknown'] as const;
+export type Sex = (typeof sexes)[number];
+
+/** Case states of DESIGN.md §4, in order. */
+export const caseStatuses = [
+  'draft',
+  'ready-for-board',
+  'on-agenda',
+  'decided',
+  'booked',
+  'treated',
+  'follow-up-due',
+] as const;
+export type CaseStatus = (typeof caseStatuses)[number];
+export const caseStatusLabels: Record<CaseStatus, string> = {
+  draft: 'Draft',
+  'ready-for-board': 'Ready for board',
+  'on-agenda': 'On agenda',
+  decided: 'Decided',
+  booked: 'Booked',
+  treated: 'Treated',
+  'follow-up-due': 'Follow-up due',
+};
+/** States in which a nurse coordinator sees a case (DESIGN.md §2: "see decided cases"). */
+export const coordinatorVisibleStatuses: readonly CaseStatus[] = [
+  'decided',
+  'booked',
+  'treated',
+  'follow-up-due',
+];
+
+/** Couinaud segments I–VIII. */
+export const couinaudSegments = ['I', 'II', 'III', 'IV', 'V', 'VI', 'VII', 'VIII'] as const;
+export type CouinaudSegment = (typeof couinaudSegments)[number];
+
+export const lesionKinds = ['hcc', 'metastasis', 'cholangiocarcinoma', 'indeterminate', 'other'] as const;
+export type LesionKind = (typeof lesionKinds)[number];
+export const lesionKindLabels: Record<LesionKind, string> = {
+  hcc: 'Hepatocellular carcinoma',
+  metastasis: 'Metastasis',
+  cholangiocarcinoma: 'Cholangiocarcinoma',
+  indeterminate: 'Indeterminate',
+  other: 'Other',
+};
+
+/**
+ * A case code names the case without naming the patient: letters, digits and dashes,
+ * 3–24 characters. Never a hospital number.
+ */
+export const caseCodeSchema = z
+  .string()
+  .trim()
+  .regex(/^[A-Za-z0-9][A-Za-z0-9-]{2,23}$/, '3–24 letters, digits or dashes')
+  .transform((code) => code.toUpperCase());
+
+const currentYear = new Date().getUTCFullYear();
+
+export const createCaseSchema = z.object({
+  caseCode: caseCodeSchema,
+  boardId: z.uuid(),
+  presenterId: z.uuid().optional(),
+  yearOfBirth: z.number().int().min(1900).max(currentYear),
+  sex: z.enum(sexes),
+  primaryDiagnosis: z.enum(primaryDiagnoses),
+  ecogPerformanceStatus: z.number().int().min(0).max(4).nullable().optional(),
+  hasVascularInvasion: z.boolean().nullable().optional(),
+  hasExtrahepaticSpread: z.boolean().nullable().optional(),
+});
+export type CreateCaseRequest = z.input<typeof createCaseSchema>;
+
+export const updateCaseSchema = createCaseSchema
+  .omit({ boardId: true })
+  .partial()
+  .extend({ status: z.enum(['draft', 'ready-for-board']).optional() })
+  .refine((value) => Object.keys(value).length > 0, 'at least one field to change');
+export type UpdateCaseRequest = z.input<typeof updateCaseSchema>;
+
+const romanBySegmentNumber: Record<number, CouinaudSegment> = {
+  1: 'I', 2: 'II', 3: 'III', 4: 'IV', 5: 'V', 6: 'VI', 7: 'VII', 8: 'VIII',
+};
+
+/** Accepts a segment as its Roman numeral ("VII") or its number (7). */
+export const couinaudSegmentSchema = z.union([
+  z.enum(couinaudSegments),
+  z
+    .number()
+    .int()
+    .min(1)
+    .max(8)
+    .transform((n) => romanBySegmentNumber[n] as CouinaudSegment),
+]);
+
+export const createLesionSchema = z.object({
+  segment: couinaudSegmentSchema,
+  diameterMm: z.number().positive().max(300),
+  kind: z.enum(lesionKinds),
+});
+export type CreateLesionRequest = z.input<typeof createLesionSchema>;
+
+export const ascitesGrades = ['none', 'mild', 'moderate-severe'] as const;
+export const encephalopathyGrades = ['none', 'grade-1-2', 'grade-3-4'] as const;
+
+const measured = <U extends string>(units: readonly [U, ...U[]], max: Record<U, number>) =>
+  z
+    .object({ value: z.number().positive(), unit: z.enum(units) })
+    .refine((m) => m.value <= max[m.unit], { message: 'outside the plausible range', path: ['value'] });
+
+export const createLabPanelSchema = z.object({
+  takenAt: z.iso
+    .datetime({ offset: true })
+    .or(z.iso.date())
+    .refine((value) => Date.parse(value) <= Date.now() + 60_000, 'not in the future'),
+  bilirubin: measured(['mg/dL', 'umol/L'], { 'mg/dL': 80, 'umol/L': 1400 }),
+  albumin: measured(['g/dL', 'g/L'], { 'g/dL': 7, 'g/L': 70 }),
+  inr: z.number().min(0.5).max(15),
+  creatinine: measured(['mg/dL', 'umol/L'], { 'mg/dL': 25, 'umol/L': 2200 }),
+  sodiumMmolL: z.number().min(100).max(180),
+  plateletsE9L: z.number().min(0).max(2000),
+  ascites: z.enum(ascitesGrades),
+  encephalopathy: z.enum(encephalopathyGrades),
+  dialysisTwiceInPastWeek: z.boolean(),
+});
+export type CreateLabPanelRequest = z.input<typeof createLabPanelSchema>;
+
+export const caseSortFields = ['caseCode', 'board', 'presenter', 'primaryDiagnosis', 'status', 'updatedAt'] as const;
+export type CaseSortField = (typeof caseSortFields)[number];
+
+export const caseListQuerySchema = z.object({
+  page: z.coerce.number().int().min(0).default(0),
+  size: z.coerce.number().int().min(1).max(100).default(20),
+  sort: z
+    .string()
+    .regex(/^[A-Za-z]+(:(asc|desc))?$/, 'field or field:asc or field:desc')
+    .refine((s) => (caseSortFields as readonly string[]).includes(s.split(':')[0] ?? ''), 'unknown sort field')
+    .default('updatedAt:desc'),
+  q: z.string().trim().max(100).optional(),
+  boardId: z.uuid().optional(),
+  status: z.enum(caseStatuses).optional(),
+});
+export type CaseListQuery = z.infer<typeof caseListQuerySchema>;
+
+export interface CaseSummary {
+  id: string;
+  caseCode: string;
+  boardId: string;
+  boardName: string;
+  presenterName: string;
+  primaryDiagnosis: PrimaryDiagnosis;
+  status: CaseStatus;
+  nextMeetingAt: string | null;
+  updatedAt: string;
+}
+
+export interface LesionView {
+  id: string;
+  segment: CouinaudSegment;
+  diameterMm: number;
+  kind: LesionKind;
+}
+
+export interface LabPanelView {
+  id: string;
+  takenAt: string;
+  bilirubin: { value: number; unit: 'mg/dL' | 'umol/L' };
+  albumin: { value: number; unit: 'g/dL' | 'g/L' };
+  inr: number;
+  creatinine: { value: number; unit: 'mg/dL' | 'umol/L' };
+  sodiumMmolL: number;
+  plateletsE9L: number;
+  ascites: (typeof ascitesGrades)[number];
+  encephalopathy: (typeof encephalopathyGrades)[number];
+  dialysisTwiceInPastWeek: boolean;
+  enteredBy: string;
+  createdAt: string;
+}
+
+export interface CaseDetail {
+  id: string;
+  caseCode: string;
+  board: { id: string; name: string };
+  presenter: { id: string; displayName: string };
+  yearOfBirth: number;
+  sex: Sex;
+  primaryDiagnosis: PrimaryDiagnosis;
+  status: CaseStatus;
+  ecogPerformanceStatus: number | null;
+  hasVascularInvasion: boolean | null;
+  hasExtrahepaticSpread: boolean | null;
+  lesions: LesionView[];
+  /** Newest first. */
+  labPanels: LabPanelView[];
+  /** From the newest lab panel; decision support only. */
+  scores: LiverScores;
+  /** What the signed-in user may do with this case. */
+  permissions: { canEdit: boolean; canDelete: boolean };
+  createdAt: string;
+  updatedAt: string;
+}

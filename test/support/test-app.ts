@@ -1,0 +1,111 @@
+import pg from 'pg';
+import request from 'supertest';
+import type { Express } from 'express';
+import { inject } from 'vitest';
+import type { MikroORM } from '@mikro-orm/postgresql';
+import { createApp } from '../../server/src/app';
+import { configFromEnvironment, type AppConfig } from '../../server/src/config';
+import { migrate, openDatabase } from '../../server/src/db';
+
+export interface TestApp {
+  app: Express;
+  orm: MikroORM;
+  config: AppConfig;
+  logs: string[];
+  close(): Promise<void>;
+}
+
+/** The real application on the run's own database, migrated; logs are captured for checks. */
+export async function startTestApp(overrides: Partial<AppConfig> = {}): Promise<TestApp> {
+  const url = inject('databaseUrl');
+  const orm = await openDatabase(url);
+  await migrate(orm);
+  const sessionPool = new pg.Pool({ connectionString: url, max: 4 });
+  const config: AppConfig = {
+    ...configFromEnvironment({ PORT: '4399', LOGIN_RATE_LIMIT: '1000' }),
+    ...overrides,
+  };
+  const logs: string[] = [];
+  const app = createApp({
+    orm,
+    sessionPool,
+    config,
+    log: (message, error) => logs.push(`${message} ${error instanceof Error ? error.stack : String(error ?? '')}`),
+  });
+  return {
+    app,
+    orm,
+    config,
+    logs,
+    async close() {
+      await sessionPool.end();
+      await orm.close();
+    },
+  };
+}
+
+/** Empties every table but the migrations' own, between suites. */
+export async function truncateAll(orm: MikroORM): Promise<void> {
+  const tables = await orm.em.getConnection().execute<{ tablename: string }[]>(
+    "select tablename from pg_tables where schemaname = 'public' and tablename <> 'mikro_orm_migrations'",
+  );
+  if (tables.length) {
+    await orm.em.getConnection().execute(`truncate ${tables.map((t) => `"${t.tablename}"`).join(', ')} cascade`);
+  }
+}
+
+/**
+ * A browser-like client: keeps cookies, and echoes the XSRF-TOKEN cookie in X-XSRF-TOKEN on
+ * state-changing requests, as Angular's HttpClient does.
+ */
+export class ApiClient {
+  readonly agent: ReturnType<typeof request.agent>;
+
+  constructor(app: Express) {
+    this.agent = request.agent(app);
+  }
+
+  private csrfToken(): string | undefined {
+    return this.agent.jar.getCookie('XSRF-TOKEN', { domain: '127.0.0.1', path: '/', secure: false, script: true })?.value;
+  }
+
+  private async ensureCsrf(): Promise<string> {
+    let token = this.csrfToken();
+    if (!token) {
+      await this.agent.get('/api/health').set('Host', '127.0.0.1');
+      token = this.csrfToken();
+    }
+    if (!token) throw new Error('the server set no XSRF-TOKEN cookie');
+    return token;
+  }
+
+  get(path: string) {
+    return this.agent.get(path).set('Host', '127.0.0.1');
+  }
+
+  async send(method: 'post' | 'patch' | 'put' | 'delete', path: string, body?: object) {
+    const token = await this.ensureCsrf();
+    const call = this.agent[method](path).set('Host', '127.0.0.1').set('X-XSRF-TOKEN', token);
+    return body === undefined ? call : call.send(body);
+  }
+
+  post(path: string, body?: object) {
+    return this.send('post', path, body ?? {});
+  }
+
+  patch(path: string, body: object) {
+    return this.send('patch', path, body);
+  }
+
+  put(path: string, body: object) {
+    return this.send('put', path, body);
+  }
+
+  delete(path: string) {
+    return this.send('delete', path);
+  }
+
+  async signIn(email: string, password: string, code?: string) {
+    return this.post('/api/auth/login', { email, password, ...(code ? { code } : {}) });
+  }
+}

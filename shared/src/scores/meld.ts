@@ -108,7 +108,7 @@ export function meldNaScore(input: MeldNaInput): number {
   if (!Number.isFinite(input.sodiumMmolL) || input.sodiumMmolL <= 0) {
     throw new RangeError(`sodiumMmolL must be a positive finite number, got ${input.sodiumMmolL}`);
   }
-  const meld = meldInitialScore(input) * 10;
+  const meld = uncappedMeld(input);
   if (meld <= MELD_NA_APPLIES_ABOVE) {
     return meld;
   }

@@ -62,5 +62,5 @@ export function albiGrade(score: number): AlbiGrade {
 export function albiResult(input: AlbiInput): AlbiResult {
   // `+ 0` turns a rounded −0 into 0.
   const score = Math.round(albiScore(input) * 1000) / 1000 + 0;
-  return { score, grade: albiGrade(albiScore(input)) };
+  return { score, grade: albiGrade(score) };
 }

@@ -20,6 +20,8 @@ export default defineConfig({
           environment: 'node',
           globalSetup: ['test/support/global-setup.ts'],
           fileParallelism: false,
+          // MikroORM's migrator imports the .ts migrations natively: let tsx load them.
+          execArgv: ['--import', 'tsx'],
           testTimeout: 30000,
           hookTimeout: 60000,
         },

@@ -1,0 +1,49 @@
+import { afterAll, beforeAll, describe, expect, it, inject } from 'vitest';
+import type { MikroORM } from '@mikro-orm/postgresql';
+import { openDatabase } from '../../server/src/db';
+
+const expectedTables = [
+  'app_user',
+  'audit_event',
+  'board',
+  'board_membership',
+  'clinical_case',
+  'http_session',
+  'lab_panel',
+  'lesion',
+  'role_policy',
+  'saml_assertion_seen',
+  'saml_request',
+];
+
+async function tables(orm: MikroORM): Promise<string[]> {
+  const rows = await orm.em
+    .getConnection()
+    .execute<{ tablename: string }[]>("select tablename from pg_tables where schemaname = 'public' order by tablename");
+  return rows.map((row) => row.tablename).filter((name) => name !== 'mikro_orm_migrations');
+}
+
+describe('migrations', () => {
+  let orm: MikroORM;
+  beforeAll(async () => {
+    orm = await openDatabase(inject('databaseUrl'));
+  });
+  afterAll(async () => {
+    await orm.close();
+  });
+
+  it('build the whole schema from an empty database, and take it down again', async () => {
+    const migrator = orm.getMigrator();
+    await migrator.down({ to: 0 });
+    expect(await tables(orm)).toEqual([]);
+    await migrator.up();
+    expect(await tables(orm)).toEqual(expectedTables);
+    expect(await migrator.getPendingMigrations()).toEqual([]);
+  });
+
+  it('leave the entities and the committed migrations in agreement (no pending schema diff)', async () => {
+    await orm.getMigrator().up();
+    const diff = await orm.getSchemaGenerator().getUpdateSchemaSQL({ wrap: false });
+    expect(diff.trim()).toBe('');
+  });
+});

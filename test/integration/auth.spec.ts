@@ -1,0 +1,211 @@
+import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
+import request from 'supertest';
+import type { CurrentUser, ProblemDetails } from '@emberline/shared';
+import { AuditEvent } from '../../server/src/modules/audit/audit-event.entity';
+import { HttpSession } from '../../server/src/modules/sessions/http-session.entity';
+import { currentTotpCode } from '../../server/src/modules/users/totp';
+import { User } from '../../server/src/modules/users/user.entity';
+import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
+import { demoPassword, resetToDemo } from '../support/demo';
+
+let testApp: TestApp;
+
+function sessionCookie(client: ApiClient): string | undefined {
+  return client.agent.jar.getCookie('emberline.sid', { domain: '127.0.0.1', path: '/', secure: false, script: false })?.value;
+}
+
+const sleep = (ms: number) => new Promise((resolve) => setTimeout(resolve, ms));
+
+beforeAll(async () => {
+  testApp = await startTestApp();
+});
+afterAll(async () => {
+  await testApp.close();
+});
+beforeEach(async () => {
+  await resetToDemo(testApp.orm);
+});
+
+describe('local sign-in', () => {
+  it('answers the user with roles and boards', async () => {
+    const client = new ApiClient(testApp.app);
+    const response = await client.signIn('Proceduralist@Emberline.test', demoPassword);
+    expect(response.status).toBe(200);
+    const user = response.body as CurrentUser;
+    expect(user.roles).toEqual(['proceduralist']);
+    expect(user.boards.map((b) => b.boardName)).toEqual(['North Liver Board']);
+    expect((await client.get('/api/auth/me')).body).toEqual(user);
+  });
+
+  it('refuses a wrong password with 401, says nothing of which part was wrong, and audits it', async () => {
+    const client = new ApiClient(testApp.app);
+    const wrong = await client.signIn('member@emberline.test', 'not-the-password');
+    const unknown = await client.signIn('nobody@emberline.test', 'not-the-password');
+    expect(wrong.status).toBe(401);
+    expect((wrong.body as ProblemDetails).detail).toBe((unknown.body as ProblemDetails).detail);
+    const failures = await testApp.orm.em.fork().find(AuditEvent, { action: 'auth.sign-in-failed' });
+    expect(failures.map((f) => f.actorEmail).sort()).toEqual(['member@emberline.test', 'nobody@emberline.test']);
+  });
+
+  it('stores passwords as argon2id hashes only', async () => {
+    const user = await testApp.orm.em.fork().findOneOrFail(User, { email: 'member@emberline.test' }, { populate: ['passwordHash'] });
+    expect(user.passwordHash).toMatch(/^\$argon2id\$v=19\$m=19456,t=2,p=1\$/);
+  });
+
+  it('refuses an administrator-set password shorter than 12 characters (OWASP ASVS 5.0 §6.2)', async () => {
+    const admin = new ApiClient(testApp.app);
+    await admin.signIn('admin@emberline.test', demoPassword);
+    const response = await admin.post('/api/admin/users', { email: 'short@emberline.test', displayName: 'Short Pass', roles: [], password: 'elevenchars' });
+    expect(response.status).toBe(400);
+    expect((response.body as ProblemDetails).errors?.[0]?.path).toBe('password');
+  });
+});
+
+describe('sessions', () => {
+  it('issues a new session id at every sign-in and forgets the old one', async () => {
+    const client = new ApiClient(testApp.app);
+    await client.signIn('member@emberline.test', demoPassword);
+    const first = sessionCookie(client);
+    await client.signIn('member@emberline.test', demoPassword);
+    const second = sessionCookie(client);
+    expect(first).toBeTruthy();
+    expect(second).not.toBe(first);
+    const replay = await request(testApp.app).get('/api/auth/me').set('Cookie', `emberline.sid=${first}`);
+    expect(replay.status).toBe(401);
+  });
+
+  it('sets the session cookie HttpOnly and SameSite=Lax', async () => {
+    const client = new ApiClient(testApp.app);
+    const response = await client.signIn('member@emberline.test', demoPassword);
+    const cookies = ([] as string[]).concat(response.headers['set-cookie'] ?? []);
+    const sessionLine = cookies.find((line) => line.startsWith('emberline.sid='));
+    expect(sessionLine).toMatch(/HttpOnly/i);
+    expect(sessionLine).toMatch(/SameSite=Lax/i);
+  });
+
+  it('destroys the session on the server at sign-out', async () => {
+    const client = new ApiClient(testApp.app);
+    await client.signIn('member@emberline.test', demoPassword);
+    const sid = sessionCookie(client);
+    expect(await testApp.orm.em.fork().count(HttpSession, {})).toBe(1);
+    expect((await client.post('/api/auth/logout')).status).toBe(204);
+    expect(await testApp.orm.em.fork().count(HttpSession, {})).toBe(0);
+    const replay = await request(testApp.app).get('/api/auth/me').set('Cookie', `emberline.sid=${sid}`);
+    expect(replay.status).toBe(401);
+  });
+
+  it('ends a session after the idle timeout', async () => {
+    const idleApp = await startTestApp({ sessionIdleTimeoutMs: 1000 });
+    try {
+      const client = new ApiClient(idleApp.app);
+      await client.signIn('member@emberline.test', demoPassword);
+      expect((await client.get('/api/auth/me')).status).toBe(200);
+      await sleep(1300);
+      expect((await client.get('/api/auth/me')).status).toBe(401);
+    } finally {
+      await idleApp.close();
+    }
+  });
+
+  it('ends a busy session at its absolute lifetime', async () => {
+    const shortApp = await startTestApp({ sessionAbsoluteLifetimeMs: 1200 });
+    try {
+      const client = new ApiClient(shortApp.app);
+      await client.signIn('member@emberline.test', demoPassword);
+      for (let n = 0; n < 3; n += 1) {
+        expect((await client.get('/api/auth/me')).status).toBe(200);
+        await sleep(250);
+      }
+      await sleep(600);
+      expect((await client.get('/api/auth/me')).status).toBe(401);
+    } finally {
+      await shortApp.close();
+    }
+  });
+});
+
+describe('CSRF protection (Angular XSRF-TOKEN / X-XSRF-TOKEN convention)', () => {
+  it('refuses a state-changing request without the header', async () => {
+    const client = new ApiClient(testApp.app);
+    await client.signIn('presenter@emberline.test', demoPassword);
+    const response = await client.agent.post('/api/auth/logout').set('Host', '127.0.0.1');
+    expect(response.status).toBe(403);
+    expect((response.body as ProblemDetails).type).toBe('urn:emberline:problem:csrf');
+  });
+
+  it('refuses a header that does not match the cookie', async () => {
+    const client = new ApiClient(testApp.app);
+    await client.signIn('presenter@emberline.test', demoPassword);
+    const response = await client.agent.post('/api/auth/logout').set('Host', '127.0.0.1').set('X-XSRF-TOKEN', 'forged.value');
+    expect(response.status).toBe(403);
+  });
+
+  it('refuses a token issued before sign-in once signed in (bound to the session)', async () => {
+    const client = new ApiClient(testApp.app);
+    await client.get('/api/health');
+    const before = client.agent.jar.getCookie('XSRF-TOKEN', { domain: '127.0.0.1', path: '/', secure: false, script: true })?.value;
+    await client.signIn('presenter@emberline.test', demoPassword);
+    const response = await client.agent
+      .post('/api/auth/logout')
+      .set('Host', '127.0.0.1')
+      .set('Cookie', `XSRF-TOKEN=${before}`)
+      .set('X-XSRF-TOKEN', String(before));
+    expect(response.status).toBe(403);
+  });
+});
+
+describe('sign-in rate limit', () => {
+  it('answers 429 after too many attempts for one address and account', async () => {
+    const limited = await startTestApp({ loginRateLimit: { windowMs: 60_000, limit: 3 } });
+    try {
+      const client = new ApiClient(limited.app);
+      const statuses: number[] = [];
+      for (let n = 0; n < 4; n += 1) statuses.push((await client.signIn('member@emberline.test', 'wrong-password!')).status);
+      expect(statuses).toEqual([401, 401, 401, 429]);
+      expect((await client.signIn('presenter@emberline.test', demoPassword)).status).toBe(200);
+    } finally {
+      await limited.close();
+    }
+  });
+});
+
+describe('second factor (TOTP, RFC 6238)', () => {
+  async function enrol(client: ApiClient): Promise<string> {
+    const setup = await client.post('/api/auth/totp/setup');
+    expect(setup.status).toBe(200);
+    const { secret, otpauthUri } = setup.body as { secret: string; otpauthUri: string };
+    expect(otpauthUri).toMatch(/^otpauth:\/\/totp\/Emberline:/);
+    const wrong = await client.post('/api/auth/totp/confirm', { code: '000000' === currentTotpCode(secret) ? '111111' : '000000' });
+    expect(wrong.status).toBe(400);
+    const confirmed = await client.post('/api/auth/totp/confirm', { code: currentTotpCode(secret) });
+    expect(confirmed.status).toBe(200);
+    expect((confirmed.body as CurrentUser).hasTotp).toBe(true);
+    return secret;
+  }
+
+  it('asks for the code once enrolled, and accepts the right one', async () => {
+    const client = new ApiClient(testApp.app);
+    await client.signIn('member@emberline.test', demoPassword);
+    const secret = await enrol(client);
+    await client.post('/api/auth/logout');
+    const withoutCode = await client.signIn('member@emberline.test', demoPassword);
+    expect(withoutCode.status).toBe(401);
+    expect((withoutCode.body as ProblemDetails).type).toBe('urn:emberline:problem:totp-required');
+    const wrongCode = await client.signIn('member@emberline.test', demoPassword, currentTotpCode(secret, Date.now() - 10 * 60_000));
+    expect(wrongCode.status).toBe(401);
+    expect((await client.signIn('member@emberline.test', demoPassword, currentTotpCode(secret))).status).toBe(200);
+  });
+
+  it('holds a role that requires a second factor to enrolment until it is set up', async () => {
+    const admin = new ApiClient(testApp.app);
+    await admin.signIn('admin@emberline.test', demoPassword);
+    expect((await admin.put('/api/admin/role-policies/board-member', { requiresTotp: true })).status).toBe(200);
+
+    const member = new ApiClient(testApp.app);
+    const signIn = await member.signIn('member@emberline.test', demoPassword);
+    expect((signIn.body as CurrentUser).mustEnrolTotp).toBe(true);
+    expect((await member.get('/api/cases')).status).toBe(403);
+    await enrol(member);
+    expect((await member.get('/api/cases')).status).toBe(200);
+  });
+});

@@ -24,14 +24,20 @@ export function ensureDependencies() {
 export function ensureChromium() {
   if (existsSync('/usr/bin/chromium')) return '/usr/bin/chromium';
   if (!isRoot) {
-    throw new Error('Chromium is missing: run `sudo apt-get update && sudo apt-get install -y chromium`, then try again.');
+    throw new Error(
+      'Chromium is missing: run `sudo apt-get update && sudo apt-get install -y chromium`, then try again.',
+    );
   }
-  say('installing Debian\'s chromium package (one time)…');
+  say("installing Debian's chromium package (one time)…");
   execFileSync('apt-get', ['update', '-qq'], { stdio: 'inherit' });
-  execFileSync('apt-get', ['install', '-y', '-qq', '--no-install-recommends', 'chromium', 'fonts-dejavu-core'], {
-    stdio: 'inherit',
-    env: { ...process.env, DEBIAN_FRONTEND: 'noninteractive' },
-  });
+  execFileSync(
+    'apt-get',
+    ['install', '-y', '-qq', '--no-install-recommends', 'chromium', 'fonts-dejavu-core'],
+    {
+      stdio: 'inherit',
+      env: { ...process.env, DEBIAN_FRONTEND: 'noninteractive' },
+    },
+  );
   return '/usr/bin/chromium';
 }
 
@@ -57,7 +63,8 @@ export async function waitForPort(port, timeoutMs = 30_000) {
       socket.on('error', () => r(false));
     });
     if (isOpen) return;
-    if (Date.now() - started > timeoutMs) throw new Error(`nothing answered on 127.0.0.1:${port} within ${timeoutMs} ms`);
+    if (Date.now() - started > timeoutMs)
+      throw new Error(`nothing answered on 127.0.0.1:${port} within ${timeoutMs} ms`);
     await new Promise((r) => setTimeout(r, 200));
   }
 }

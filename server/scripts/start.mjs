@@ -21,11 +21,16 @@ const fail = (what) => {
   process.exit(1);
 };
 if ((await run(process.execPath, [...tsx, 'server/src/tools/migrate.ts'])) !== 0) fail('migration');
-if ((await run(process.execPath, [...tsx, 'server/src/tools/seed.ts'])) !== 0) fail('seeding the demo');
+if ((await run(process.execPath, [...tsx, 'server/src/tools/seed.ts'])) !== 0)
+  fail('seeding the demo');
 
 const children = [];
 function start(name, args, env) {
-  const child = spawn(process.execPath, args, { cwd: root, stdio: 'inherit', env: { ...process.env, ...env } });
+  const child = spawn(process.execPath, args, {
+    cwd: root,
+    stdio: 'inherit',
+    env: { ...process.env, ...env },
+  });
   child.on('exit', (code) => {
     if (!stopping) {
       say(`${name} stopped (exit ${code}); stopping everything.`);
@@ -54,11 +59,16 @@ await waitForPort(idpPort);
 
 if (process.env.SKIP_BUILD !== '1') {
   say('building the client…');
-  if ((await run(join(root, 'node_modules', '.bin', 'ng'), ['build'])) !== 0) fail('the client build');
+  if ((await run(join(root, 'node_modules', '.bin', 'ng'), ['build'])) !== 0)
+    fail('the client build');
 }
 
 start('server', [...tsx, 'server/src/main.ts'], { PORT: String(port), PUBLIC_URL: publicUrl });
 await waitForPort(port);
 say(`Emberline is up at ${publicUrl}`);
-say('demo accounts (password ember-demo-2026): admin@, presenter@, member@, proceduralist@, coordinator@, south@ …emberline.test');
-say(`hospital SSO (fake identity provider) at http://127.0.0.1:${idpPort}; Ctrl-C stops everything.`);
+say(
+  'demo accounts (password ember-demo-2026): admin@, presenter@, member@, proceduralist@, coordinator@, south@ …emberline.test',
+);
+say(
+  `hospital SSO (fake identity provider) at http://127.0.0.1:${idpPort}; Ctrl-C stops everything.`,
+);

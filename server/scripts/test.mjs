@@ -32,7 +32,11 @@ async function vitestRun(name, args, reportFile) {
   if (existsSync(reportFile)) {
     const report = JSON.parse(readFileSync(reportFile, 'utf8'));
     passed = report.numPassedTests ?? 0;
-    failed = (report.numFailedTests ?? 0) + (report.numTotalTestSuites && report.success === false && report.numFailedTests === 0 ? 1 : 0);
+    failed =
+      (report.numFailedTests ?? 0) +
+      (report.numTotalTestSuites && report.success === false && report.numFailedTests === 0
+        ? 1
+        : 0);
   }
   if (code !== 0 && failed === 0) failed = 1;
   results.push({ name, passed, failed });
@@ -43,7 +47,11 @@ await check('lint (eslint)', bin('eslint'), ['.', '--max-warnings', '0']);
 await check('types: shared', bin('tsc'), ['-p', 'shared/tsconfig.json', '--noEmit']);
 await check('types: server', bin('tsc'), ['-p', 'server/tsconfig.json', '--noEmit']);
 await check('types: tests', bin('tsc'), ['-p', 'test/tsconfig.json', '--noEmit']);
-await check('types: client', bin('tsc'), ['-p', 'projects/emberline/tsconfig.app.json', '--noEmit']);
+await check('types: client', bin('tsc'), [
+  '-p',
+  'projects/emberline/tsconfig.app.json',
+  '--noEmit',
+]);
 
 const serverReport = join(resultsDir, 'server.json');
 await vitestRun(
@@ -53,7 +61,11 @@ await vitestRun(
 );
 
 const clientReport = join(resultsDir, 'client.json');
-await vitestRun('client unit tests (ng test)', ['ng', 'test', '--reporters=json', `--output-file=${clientReport}`], clientReport);
+await vitestRun(
+  'client unit tests (ng test)',
+  ['ng', 'test', '--reporters=json', `--output-file=${clientReport}`],
+  clientReport,
+);
 
 const isBuilt = await check('client build (ng build)', bin('ng'), ['build']);
 if (isBuilt) {
@@ -61,7 +73,15 @@ if (isBuilt) {
   const e2eReport = join(resultsDir, 'e2e.json');
   await vitestRun(
     'end-to-end tests (headless Chromium)',
-    ['vitest', 'run', '--config', 'vitest.e2e.config.ts', '--reporter=default', '--reporter=json', `--outputFile.json=${e2eReport}`],
+    [
+      'vitest',
+      'run',
+      '--config',
+      'vitest.e2e.config.ts',
+      '--reporter=default',
+      '--reporter=json',
+      `--outputFile.json=${e2eReport}`,
+    ],
     e2eReport,
   );
 } else {
@@ -72,7 +92,9 @@ const passed = results.reduce((sum, r) => sum + r.passed, 0);
 const failed = results.reduce((sum, r) => sum + r.failed, 0);
 process.stdout.write('\nSummary\n');
 for (const r of results) {
-  process.stdout.write(`  ${r.failed ? 'FAIL' : 'ok  '}  ${r.name}: ${r.passed} passed, ${r.failed} failed\n`);
+  process.stdout.write(
+    `  ${r.failed ? 'FAIL' : 'ok  '}  ${r.name}: ${r.passed} passed, ${r.failed} failed\n`,
+  );
 }
 process.stdout.write(`\n${passed} passed, ${failed} failed\n`);
 process.exit(failed ? 1 : 0);

@@ -20,7 +20,12 @@ interface DemoUser {
 
 /** An invented hospital; every name and value below is made up for the demo. */
 export const demoUsers: DemoUser[] = [
-  { email: 'admin@emberline.test', displayName: 'Ada Okafor', roles: ['administrator'], boards: [] },
+  {
+    email: 'admin@emberline.test',
+    displayName: 'Ada Okafor',
+    roles: ['administrator'],
+    boards: [],
+  },
   {
     email: 'presenter@emberline.test',
     displayName: 'Dr Priya Raman',
@@ -61,8 +66,20 @@ interface DemoCase {
   primaryDiagnosis: 'hcc' | 'crlm' | 'icc' | 'other';
   status: 'draft' | 'ready-for-board' | 'decided';
   ecog: number;
-  lesions: { segment: 'I' | 'II' | 'III' | 'IV' | 'V' | 'VI' | 'VII' | 'VIII'; diameterMm: number; kind: 'hcc' | 'metastasis' | 'cholangiocarcinoma' }[];
-  labs: { bilirubinMgDl: number; albuminGDl: number; inr: number; creatinineMgDl: number; sodium: number; platelets: number; ascites: 'none' | 'mild' };
+  lesions: {
+    segment: 'I' | 'II' | 'III' | 'IV' | 'V' | 'VI' | 'VII' | 'VIII';
+    diameterMm: number;
+    kind: 'hcc' | 'metastasis' | 'cholangiocarcinoma';
+  }[];
+  labs: {
+    bilirubinMgDl: number;
+    albuminGDl: number;
+    inr: number;
+    creatinineMgDl: number;
+    sodium: number;
+    platelets: number;
+    ascites: 'none' | 'mild';
+  };
 }
 
 const demoCases: DemoCase[] = [
@@ -75,7 +92,15 @@ const demoCases: DemoCase[] = [
     status: 'ready-for-board',
     ecog: 0,
     lesions: [{ segment: 'VII', diameterMm: 24, kind: 'hcc' }],
-    labs: { bilirubinMgDl: 1.1, albuminGDl: 3.8, inr: 1.1, creatinineMgDl: 0.9, sodium: 139, platelets: 142, ascites: 'none' },
+    labs: {
+      bilirubinMgDl: 1.1,
+      albuminGDl: 3.8,
+      inr: 1.1,
+      creatinineMgDl: 0.9,
+      sodium: 139,
+      platelets: 142,
+      ascites: 'none',
+    },
   },
   {
     caseCode: 'NLB-2026-019',
@@ -89,7 +114,15 @@ const demoCases: DemoCase[] = [
       { segment: 'IV', diameterMm: 18, kind: 'metastasis' },
       { segment: 'VI', diameterMm: 12, kind: 'metastasis' },
     ],
-    labs: { bilirubinMgDl: 0.6, albuminGDl: 4.1, inr: 1.0, creatinineMgDl: 0.8, sodium: 141, platelets: 228, ascites: 'none' },
+    labs: {
+      bilirubinMgDl: 0.6,
+      albuminGDl: 4.1,
+      inr: 1.0,
+      creatinineMgDl: 0.8,
+      sodium: 141,
+      platelets: 228,
+      ascites: 'none',
+    },
   },
   {
     caseCode: 'NLB-2026-022',
@@ -100,7 +133,15 @@ const demoCases: DemoCase[] = [
     status: 'decided',
     ecog: 1,
     lesions: [{ segment: 'VIII', diameterMm: 31, kind: 'hcc' }],
-    labs: { bilirubinMgDl: 2.3, albuminGDl: 3.1, inr: 1.4, creatinineMgDl: 1.2, sodium: 134, platelets: 88, ascites: 'mild' },
+    labs: {
+      bilirubinMgDl: 2.3,
+      albuminGDl: 3.1,
+      inr: 1.4,
+      creatinineMgDl: 1.2,
+      sodium: 134,
+      platelets: 88,
+      ascites: 'mild',
+    },
   },
   {
     caseCode: 'SLB-2026-007',
@@ -111,7 +152,15 @@ const demoCases: DemoCase[] = [
     status: 'ready-for-board',
     ecog: 0,
     lesions: [{ segment: 'V', diameterMm: 27, kind: 'cholangiocarcinoma' }],
-    labs: { bilirubinMgDl: 0.8, albuminGDl: 4.0, inr: 1.0, creatinineMgDl: 0.7, sodium: 140, platelets: 250, ascites: 'none' },
+    labs: {
+      bilirubinMgDl: 0.8,
+      albuminGDl: 4.0,
+      inr: 1.0,
+      creatinineMgDl: 0.7,
+      sodium: 140,
+      platelets: 250,
+      ascites: 'none',
+    },
   },
 ];
 
@@ -132,17 +181,30 @@ export async function seedDemo(em: EntityManager, now = new Date()): Promise<boo
     users.set(demo.email, user);
     em.persist(user);
     for (const membership of demo.boards) {
-      em.persist(new BoardMembership(em.getReference(Board, boards[membership.board].id, { wrapped: true }), em.getReference(User, user.id, { wrapped: true }), membership.specialty));
+      em.persist(
+        new BoardMembership(
+          em.getReference(Board, boards[membership.board].id, { wrapped: true }),
+          em.getReference(User, user.id, { wrapped: true }),
+          membership.specialty,
+        ),
+      );
     }
   }
   const presenter = users.get('presenter@emberline.test');
+  if (!presenter) throw new Error('the demo presenter is missing from demoUsers');
   const southPresenter = new User('south.presenter@emberline.test', 'Dr Lena Sorensen');
   southPresenter.roles = ['presenting-physician'];
   southPresenter.passwordHash = passwordHash;
   em.persist(southPresenter);
-  em.persist(new BoardMembership(em.getReference(Board, boards.south.id, { wrapped: true }), em.getReference(User, southPresenter.id, { wrapped: true }), 'hepatology'));
+  em.persist(
+    new BoardMembership(
+      em.getReference(Board, boards.south.id, { wrapped: true }),
+      em.getReference(User, southPresenter.id, { wrapped: true }),
+      'hepatology',
+    ),
+  );
   for (const demo of demoCases) {
-    const owner = demo.board === 'north' ? presenter! : southPresenter;
+    const owner = demo.board === 'north' ? presenter : southPresenter;
     const created = new ClinicalCase({
       caseCode: demo.caseCode,
       board: em.getReference(Board, boards[demo.board].id, { wrapped: true }),
@@ -157,7 +219,8 @@ export async function seedDemo(em: EntityManager, now = new Date()): Promise<boo
     created.hasExtrahepaticSpread = false;
     em.persist(created);
     const caseRef = em.getReference(ClinicalCase, created.id, { wrapped: true });
-    for (const lesion of demo.lesions) em.persist(new Lesion(caseRef, lesion.segment, lesion.diameterMm, lesion.kind));
+    for (const lesion of demo.lesions)
+      em.persist(new Lesion(caseRef, lesion.segment, lesion.diameterMm, lesion.kind));
     em.persist(
       new LabPanel(caseRef, em.getReference(User, owner.id, { wrapped: true }), {
         takenAt: new Date(now.getTime() - 3 * 86_400_000),

@@ -7,7 +7,11 @@ import { chromium, type BrowserContext, type Page } from 'playwright-core';
 const require = createRequire(import.meta.url);
 
 /** Debian's Chromium, headless, software rendering only (no GPU on this machine or in CI). */
-export async function openBrowser(): Promise<{ context: BrowserContext; page: Page; close(): Promise<void> }> {
+export async function openBrowser(): Promise<{
+  context: BrowserContext;
+  page: Page;
+  close(): Promise<void>;
+}> {
   const userDataDir = mkdtempSync(join(tmpdir(), 'emberline-chromium-'));
   const context = await chromium.launchPersistentContext(userDataDir, {
     executablePath: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium',
@@ -48,8 +52,14 @@ export async function seriousAccessibilityViolations(page: Page): Promise<AxeVio
   // Evaluated over the DevTools protocol: the app's CSP (script-src 'self') stays in force.
   await page.evaluate(source);
   const violations = await page.evaluate(async () => {
-    const axe = (window as unknown as { axe: { run: (context: Document) => Promise<{ violations: AxeViolation[] }> } }).axe;
+    const axe = (
+      window as unknown as {
+        axe: { run: (context: Document) => Promise<{ violations: AxeViolation[] }> };
+      }
+    ).axe;
     return (await axe.run(document)).violations;
   });
-  return violations.filter((violation) => violation.impact === 'serious' || violation.impact === 'critical');
+  return violations.filter(
+    (violation) => violation.impact === 'serious' || violation.impact === 'critical',
+  );
 }

@@ -6,7 +6,12 @@ import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import type { TestProject } from 'vitest/node';
 // @ts-expect-error -- a plain ES module script without types
-import { connectionUrl, dropDatabase, ensureDatabase, startPostgres } from '../../server/scripts/postgres.mjs';
+import {
+  connectionUrl,
+  dropDatabase,
+  ensureDatabase,
+  startPostgres,
+} from '../../server/scripts/postgres.mjs';
 
 const root = fileURLToPath(new URL('../..', import.meta.url));
 
@@ -15,7 +20,11 @@ async function freePort(): Promise<number> {
     const server = createServer();
     server.listen(0, '127.0.0.1', () => {
       const address = server.address();
-      server.close(() => (typeof address === 'object' && address ? resolve(address.port) : reject(new Error('no port'))));
+      server.close(() =>
+        typeof address === 'object' && address
+          ? resolve(address.port)
+          : reject(new Error('no port')),
+      );
     });
   });
 }
@@ -28,7 +37,8 @@ async function waitForHttp(url: string, timeoutMs = 60_000): Promise<void> {
     } catch {
       // not up yet
     }
-    if (Date.now() - started > timeoutMs) throw new Error(`${url} did not answer within ${timeoutMs} ms`);
+    if (Date.now() - started > timeoutMs)
+      throw new Error(`${url} did not answer within ${timeoutMs} ms`);
     await new Promise((resolve) => setTimeout(resolve, 250));
   }
 }
@@ -45,7 +55,11 @@ export default async function setup(project: TestProject): Promise<() => Promise
   const databaseUrl = connectionUrl(database, state) as string;
   const env = { ...process.env, DATABASE_URL: databaseUrl };
   for (const tool of ['migrate', 'seed']) {
-    const result = spawnSync(process.execPath, ['--import', 'tsx', `server/src/tools/${tool}.ts`], { cwd: root, env, encoding: 'utf8' });
+    const result = spawnSync(process.execPath, ['--import', 'tsx', `server/src/tools/${tool}.ts`], {
+      cwd: root,
+      env,
+      encoding: 'utf8',
+    });
     if (result.status !== 0) throw new Error(`${tool} failed: ${result.stderr}`);
   }
   const port = await freePort();
@@ -55,7 +69,11 @@ export default async function setup(project: TestProject): Promise<() => Promise
   const children: ChildProcess[] = [];
   const logs: string[] = [];
   const launch = (args: string[], extraEnv: Record<string, string>) => {
-    const child = spawn(process.execPath, ['--import', 'tsx', ...args], { cwd: root, env: { ...env, ...extraEnv }, stdio: ['ignore', 'pipe', 'pipe'] });
+    const child = spawn(process.execPath, ['--import', 'tsx', ...args], {
+      cwd: root,
+      env: { ...env, ...extraEnv },
+      stdio: ['ignore', 'pipe', 'pipe'],
+    });
     child.stdout?.on('data', (chunk: Buffer) => logs.push(chunk.toString()));
     child.stderr?.on('data', (chunk: Buffer) => logs.push(chunk.toString()));
     children.push(child);

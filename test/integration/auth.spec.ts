@@ -11,7 +11,12 @@ import { demoPassword, resetToDemo } from '../support/demo';
 let testApp: TestApp;
 
 function sessionCookie(client: ApiClient): string | undefined {
-  return client.agent.jar.getCookie('emberline.sid', { domain: '127.0.0.1', path: '/', secure: false, script: false })?.value;
+  return client.agent.jar.getCookie('emberline.sid', {
+    domain: '127.0.0.1',
+    path: '/',
+    secure: false,
+    script: false,
+  })?.value;
 }
 
 const sleep = (ms: number) => new Promise((resolve) => setTimeout(resolve, ms));
@@ -43,19 +48,31 @@ describe('local sign-in', () => {
     const unknown = await client.signIn('nobody@emberline.test', 'not-the-password');
     expect(wrong.status).toBe(401);
     expect((wrong.body as ProblemDetails).detail).toBe((unknown.body as ProblemDetails).detail);
-    const failures = await testApp.orm.em.fork().find(AuditEvent, { action: 'auth.sign-in-failed' });
-    expect(failures.map((f) => f.actorEmail).sort()).toEqual(['member@emberline.test', 'nobody@emberline.test']);
+    const failures = await testApp.orm.em
+      .fork()
+      .find(AuditEvent, { action: 'auth.sign-in-failed' });
+    expect(failures.map((f) => f.actorEmail).sort()).toEqual([
+      'member@emberline.test',
+      'nobody@emberline.test',
+    ]);
   });
 
   it('stores passwords as argon2id hashes only', async () => {
-    const user = await testApp.orm.em.fork().findOneOrFail(User, { email: 'member@emberline.test' }, { populate: ['passwordHash'] });
+    const user = await testApp.orm.em
+      .fork()
+      .findOneOrFail(User, { email: 'member@emberline.test' }, { populate: ['passwordHash'] });
     expect(user.passwordHash).toMatch(/^\$argon2id\$v=19\$m=19456,t=2,p=1\$/);
   });
 
   it('refuses an administrator-set password shorter than 12 characters (OWASP ASVS 5.0 §6.2)', async () => {
     const admin = new ApiClient(testApp.app);
     await admin.signIn('admin@emberline.test', demoPassword);
-    const response = await admin.post('/api/admin/users', { email: 'short@emberline.test', displayName: 'Short Pass', roles: [], password: 'elevenchars' });
+    const response = await admin.post('/api/admin/users', {
+      email: 'short@emberline.test',
+      displayName: 'Short Pass',
+      roles: [],
+      password: 'elevenchars',
+    });
     expect(response.status).toBe(400);
     expect((response.body as ProblemDetails).errors?.[0]?.path).toBe('password');
   });
@@ -70,7 +87,9 @@ describe('sessions', () => {
     const second = sessionCookie(client);
     expect(first).toBeTruthy();
     expect(second).not.toBe(first);
-    const replay = await request(testApp.app).get('/api/auth/me').set('Cookie', `emberline.sid=${first}`);
+    const replay = await request(testApp.app)
+      .get('/api/auth/me')
+      .set('Cookie', `emberline.sid=${first}`);
     expect(replay.status).toBe(401);
   });
 
@@ -90,7 +109,9 @@ describe('sessions', () => {
     expect(await testApp.orm.em.fork().count(HttpSession, {})).toBe(1);
     expect((await client.post('/api/auth/logout')).status).toBe(204);
     expect(await testApp.orm.em.fork().count(HttpSession, {})).toBe(0);
-    const replay = await request(testApp.app).get('/api/auth/me').set('Cookie', `emberline.sid=${sid}`);
+    const replay = await request(testApp.app)
+      .get('/api/auth/me')
+      .set('Cookie', `emberline.sid=${sid}`);
     expect(replay.status).toBe(401);
   });
 
@@ -136,14 +157,22 @@ describe('CSRF protection (Angular XSRF-TOKEN / X-XSRF-TOKEN convention)', () =>
   it('refuses a header that does not match the cookie', async () => {
     const client = new ApiClient(testApp.app);
     await client.signIn('presenter@emberline.test', demoPassword);
-    const response = await client.agent.post('/api/auth/logout').set('Host', '127.0.0.1').set('X-XSRF-TOKEN', 'forged.value');
+    const response = await client.agent
+      .post('/api/auth/logout')
+      .set('Host', '127.0.0.1')
+      .set('X-XSRF-TOKEN', 'forged.value');
     expect(response.status).toBe(403);
   });
 
   it('refuses a token issued before sign-in once signed in (bound to the session)', async () => {
     const client = new ApiClient(testApp.app);
     await client.get('/api/health');
-    const before = client.agent.jar.getCookie('XSRF-TOKEN', { domain: '127.0.0.1', path: '/', secure: false, script: true })?.value;
+    const before = client.agent.jar.getCookie('XSRF-TOKEN', {
+      domain: '127.0.0.1',
+      path: '/',
+      secure: false,
+      script: true,
+    })?.value;
     await client.signIn('presenter@emberline.test', demoPassword);
     const response = await client.agent
       .post('/api/auth/logout')
@@ -160,7 +189,8 @@ describe('sign-in rate limit', () => {
     try {
       const client = new ApiClient(limited.app);
       const statuses: number[] = [];
-      for (let n = 0; n < 4; n += 1) statuses.push((await client.signIn('member@emberline.test', 'wrong-password!')).status);
+      for (let n = 0; n < 4; n += 1)
+        statuses.push((await client.signIn('member@emberline.test', 'wrong-password!')).status);
       expect(statuses).toEqual([401, 401, 401, 429]);
       expect((await client.signIn('presenter@emberline.test', demoPassword)).status).toBe(200);
     } finally {
@@ -175,9 +205,13 @@ describe('second factor (TOTP, RFC 6238)', () => {
     expect(setup.status).toBe(200);
     const { secret, otpauthUri } = setup.body as { secret: string; otpauthUri: string };
     expect(otpauthUri).toMatch(/^otpauth:\/\/totp\/Emberline:/);
-    const wrong = await client.post('/api/auth/totp/confirm', { code: '000000' === currentTotpCode(secret) ? '111111' : '000000' });
+    const wrong = await client.post('/api/auth/totp/confirm', {
+      code: '000000' === currentTotpCode(secret) ? '111111' : '000000',
+    });
     expect(wrong.status).toBe(400);
-    const confirmed = await client.post('/api/auth/totp/confirm', { code: currentTotpCode(secret) });
+    const confirmed = await client.post('/api/auth/totp/confirm', {
+      code: currentTotpCode(secret),
+    });
     expect(confirmed.status).toBe(200);
     expect((confirmed.body as CurrentUser).hasTotp).toBe(true);
     return secret;
@@ -191,15 +225,23 @@ describe('second factor (TOTP, RFC 6238)', () => {
     const withoutCode = await client.signIn('member@emberline.test', demoPassword);
     expect(withoutCode.status).toBe(401);
     expect((withoutCode.body as ProblemDetails).type).toBe('urn:emberline:problem:totp-required');
-    const wrongCode = await client.signIn('member@emberline.test', demoPassword, currentTotpCode(secret, Date.now() - 10 * 60_000));
+    const wrongCode = await client.signIn(
+      'member@emberline.test',
+      demoPassword,
+      currentTotpCode(secret, Date.now() - 10 * 60_000),
+    );
     expect(wrongCode.status).toBe(401);
-    expect((await client.signIn('member@emberline.test', demoPassword, currentTotpCode(secret))).status).toBe(200);
+    expect(
+      (await client.signIn('member@emberline.test', demoPassword, currentTotpCode(secret))).status,
+    ).toBe(200);
   });
 
   it('holds a role that requires a second factor to enrolment until it is set up', async () => {
     const admin = new ApiClient(testApp.app);
     await admin.signIn('admin@emberline.test', demoPassword);
-    expect((await admin.put('/api/admin/role-policies/board-member', { requiresTotp: true })).status).toBe(200);
+    expect(
+      (await admin.put('/api/admin/role-policies/board-member', { requiresTotp: true })).status,
+    ).toBe(200);
 
     const member = new ApiClient(testApp.app);
     const signIn = await member.signIn('member@emberline.test', demoPassword);

@@ -68,11 +68,16 @@ describe('case register', () => {
   it('pages on the server with total counts', async () => {
     const presenter = await signedIn('presenter@emberline.test');
     for (let n = 0; n < 23; n += 1) {
-      const created = await presenter.post('/api/cases', newCase(ids.northBoard, `PAGE-${String(n).padStart(3, '0')}`));
+      const created = await presenter.post(
+        '/api/cases',
+        newCase(ids.northBoard, `PAGE-${String(n).padStart(3, '0')}`),
+      );
       expect(created.status).toBe(201);
     }
-    const first = (await presenter.get('/api/cases?page=0&size=10&sort=caseCode:asc')).body as Page<CaseSummary>;
-    const third = (await presenter.get('/api/cases?page=2&size=10&sort=caseCode:asc')).body as Page<CaseSummary>;
+    const first = (await presenter.get('/api/cases?page=0&size=10&sort=caseCode:asc'))
+      .body as Page<CaseSummary>;
+    const third = (await presenter.get('/api/cases?page=2&size=10&sort=caseCode:asc'))
+      .body as Page<CaseSummary>;
     expect(first.total).toBe(26);
     expect(first.items).toHaveLength(10);
     expect(third.items).toHaveLength(6);
@@ -82,10 +87,20 @@ describe('case register', () => {
 
   it('sorts by a column in either direction', async () => {
     const presenter = await signedIn('presenter@emberline.test');
-    const ascending = (await presenter.get('/api/cases?sort=caseCode:asc')).body as Page<CaseSummary>;
-    const descending = (await presenter.get('/api/cases?sort=caseCode:desc')).body as Page<CaseSummary>;
-    expect(ascending.items.map((i) => i.caseCode)).toEqual(['NLB-2026-014', 'NLB-2026-019', 'NLB-2026-022']);
-    expect(descending.items.map((i) => i.caseCode)).toEqual(['NLB-2026-022', 'NLB-2026-019', 'NLB-2026-014']);
+    const ascending = (await presenter.get('/api/cases?sort=caseCode:asc'))
+      .body as Page<CaseSummary>;
+    const descending = (await presenter.get('/api/cases?sort=caseCode:desc'))
+      .body as Page<CaseSummary>;
+    expect(ascending.items.map((i) => i.caseCode)).toEqual([
+      'NLB-2026-014',
+      'NLB-2026-019',
+      'NLB-2026-022',
+    ]);
+    expect(descending.items.map((i) => i.caseCode)).toEqual([
+      'NLB-2026-022',
+      'NLB-2026-019',
+      'NLB-2026-014',
+    ]);
   });
 
   it('filters by code and by diagnosis name', async () => {
@@ -107,7 +122,10 @@ describe('case register', () => {
 describe('case file', () => {
   it('creates, reads, updates and deletes a draft case', async () => {
     const presenter = await signedIn('presenter@emberline.test');
-    const created = await presenter.post('/api/cases', { ...newCase(ids.northBoard), caseCode: 'nlb-2026-101' });
+    const created = await presenter.post('/api/cases', {
+      ...newCase(ids.northBoard),
+      caseCode: 'nlb-2026-101',
+    });
     expect(created.status).toBe(201);
     const detail = created.body as CaseDetail;
     expect(detail.caseCode).toBe('NLB-2026-101');
@@ -115,7 +133,11 @@ describe('case file', () => {
     expect(detail.presenter.displayName).toBe('Dr Priya Raman');
     expect(detail.permissions).toEqual({ canEdit: true, canDelete: true });
 
-    const updated = await presenter.patch(`/api/cases/${detail.id}`, { primaryDiagnosis: 'crlm', ecogPerformanceStatus: 1, status: 'ready-for-board' });
+    const updated = await presenter.patch(`/api/cases/${detail.id}`, {
+      primaryDiagnosis: 'crlm',
+      ecogPerformanceStatus: 1,
+      status: 'ready-for-board',
+    });
     expect(updated.status).toBe(200);
     expect((updated.body as CaseDetail).primaryDiagnosis).toBe('crlm');
     expect((updated.body as CaseDetail).ecogPerformanceStatus).toBe(1);
@@ -159,14 +181,24 @@ describe('case file', () => {
 
   it('adds and removes lesions by Couinaud segment, given as numeral or number', async () => {
     const presenter = await signedIn('presenter@emberline.test');
-    const added = await presenter.post(`/api/cases/${ids.northDraft}/lesions`, { segment: 7, diameterMm: 21, kind: 'metastasis' });
+    const added = await presenter.post(`/api/cases/${ids.northDraft}/lesions`, {
+      segment: 7,
+      diameterMm: 21,
+      kind: 'metastasis',
+    });
     expect(added.status).toBe(201);
     const lesions = (added.body as CaseDetail).lesions;
     expect(lesions.map((l) => l.segment)).toEqual(['IV', 'VI', 'VII']);
-    const invalid = await presenter.post(`/api/cases/${ids.northDraft}/lesions`, { segment: 'IX', diameterMm: 21, kind: 'metastasis' });
+    const invalid = await presenter.post(`/api/cases/${ids.northDraft}/lesions`, {
+      segment: 'IX',
+      diameterMm: 21,
+      kind: 'metastasis',
+    });
     expect(invalid.status).toBe(400);
     expect((invalid.body as ProblemDetails).errors?.[0]?.path).toBe('segment');
-    const removed = await presenter.delete(`/api/cases/${ids.northDraft}/lesions/${lesions[2]?.id}`);
+    const removed = await presenter.delete(
+      `/api/cases/${ids.northDraft}/lesions/${lesions[2]?.id}`,
+    );
     expect((removed.body as CaseDetail).lesions).toHaveLength(2);
   });
 });
@@ -174,7 +206,10 @@ describe('case file', () => {
 describe('lab panels and scores', () => {
   it('computes MELD and MELD-Na from the newest panel (Kim 2008 worked example 2.7/1.5/1.1/135 → 19/20)', async () => {
     const presenter = await signedIn('presenter@emberline.test');
-    const response = await presenter.post(`/api/cases/${ids.northDraft}/lab-panels`, labsConventional);
+    const response = await presenter.post(
+      `/api/cases/${ids.northDraft}/lab-panels`,
+      labsConventional,
+    );
     expect(response.status).toBe(201);
     const detail = response.body as CaseDetail;
     expect(detail.scores.meld).toBe(19);
@@ -194,7 +229,8 @@ describe('lab panels and scores', () => {
       albumin: { value: 30, unit: 'g/L' },
       creatinine: { value: 238.68, unit: 'umol/L' }, // 2.7 mg/dL × 88.4
     };
-    const detail = (await presenter.post(`/api/cases/${ids.northDraft}/lab-panels`, si)).body as CaseDetail;
+    const detail = (await presenter.post(`/api/cases/${ids.northDraft}/lab-panels`, si))
+      .body as CaseDetail;
     expect(detail.scores.meld).toBe(19);
     expect(detail.scores.meldNa).toBe(20);
     expect(detail.scores.childPugh).toEqual({ points: 7, class: 'B' });
@@ -214,13 +250,16 @@ describe('lab panels and scores', () => {
         dialysisTwiceInPastWeek: true,
       })
     ).body as CaseDetail;
-    const expected = Math.round(10 * (0.957 * Math.log(4) + 0.378 * Math.log(1.5) + 1.12 * Math.log(1.1) + 0.643));
+    const expected = Math.round(
+      10 * (0.957 * Math.log(4) + 0.378 * Math.log(1.5) + 1.12 * Math.log(1.1) + 0.643),
+    );
     expect(detail.scores.meld).toBe(expected);
   });
 
   it('leaves lab scores null with the reason when no panel exists', async () => {
     const presenter = await signedIn('presenter@emberline.test');
-    const created = (await presenter.post('/api/cases', newCase(ids.northBoard))).body as CaseDetail;
+    const created = (await presenter.post('/api/cases', newCase(ids.northBoard)))
+      .body as CaseDetail;
     expect(created.scores.meld).toBeNull();
     expect(created.scores.childPugh).toBeNull();
     expect(created.scores.unavailable.meld).toMatch(/creatinine|bilirubin|INR/i);
@@ -238,7 +277,10 @@ describe('lab panels and scores', () => {
 
   it('refuses a panel dated in the future', async () => {
     const presenter = await signedIn('presenter@emberline.test');
-    const response = await presenter.post(`/api/cases/${ids.northDraft}/lab-panels`, { ...labsConventional, takenAt: '2099-01-01' });
+    const response = await presenter.post(`/api/cases/${ids.northDraft}/lab-panels`, {
+      ...labsConventional,
+      takenAt: '2099-01-01',
+    });
     expect(response.status).toBe(400);
     expect((response.body as ProblemDetails).errors?.[0]?.path).toBe('takenAt');
   });
@@ -248,7 +290,9 @@ describe('audit of case records', () => {
   it('writes who read which case, when and from where, and no patient value', async () => {
     const member = await signedIn('member@emberline.test');
     await member.get(`/api/cases/${ids.northReady}`);
-    const events = await testApp.orm.em.fork().find(AuditEvent, { action: 'case.read', entityId: ids.northReady });
+    const events = await testApp.orm.em
+      .fork()
+      .find(AuditEvent, { action: 'case.read', entityId: ids.northReady });
     expect(events).toHaveLength(1);
     expect(events[0]?.actorEmail).toBe('member@emberline.test');
     expect(events[0]?.ip).toBeTruthy();
@@ -259,7 +303,11 @@ describe('audit of case records', () => {
     const presenter = await signedIn('presenter@emberline.test');
     await presenter.patch(`/api/cases/${ids.northDraft}`, { ecogPerformanceStatus: 2 });
     await presenter.post(`/api/cases/${ids.northDraft}/lab-panels`, labsConventional);
-    const actions = (await testApp.orm.em.fork().find(AuditEvent, { entityId: ids.northDraft }, { orderBy: { at: 'asc' } })).map((e) => e.action);
+    const actions = (
+      await testApp.orm.em
+        .fork()
+        .find(AuditEvent, { entityId: ids.northDraft }, { orderBy: { at: 'asc' } })
+    ).map((e) => e.action);
     expect(actions).toEqual(expect.arrayContaining(['case.update', 'lab-panel.create']));
   });
 });

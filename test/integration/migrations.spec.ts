@@ -19,7 +19,9 @@ const expectedTables = [
 async function tables(orm: MikroORM): Promise<string[]> {
   const rows = await orm.em
     .getConnection()
-    .execute<{ tablename: string }[]>("select tablename from pg_tables where schemaname = 'public' order by tablename");
+    .execute<{ tablename: string }[]>(
+      "select tablename from pg_tables where schemaname = 'public' order by tablename",
+    );
   return rows.map((row) => row.tablename).filter((name) => name !== 'mikro_orm_migrations');
 }
 

@@ -10,7 +10,15 @@ import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
  * a visible case 403; OWASP ASVS 5.0 §8 access control). Cells run in order within a role, on a
  * fresh copy of the demo; the deleting routes come last.
  */
-const who = ['anonymous', 'admin', 'presenter', 'member', 'proceduralist', 'coordinator', 'south'] as const;
+const who = [
+  'anonymous',
+  'admin',
+  'presenter',
+  'member',
+  'proceduralist',
+  'coordinator',
+  'south',
+] as const;
 type Who = (typeof who)[number];
 
 interface Context {
@@ -41,56 +49,191 @@ const labs = {
 };
 
 //                     anonymous admin presenter member procedur. coordin. south
-const row = (a: number, ad: number, p: number, m: number, pr: number, c: number, s: number): Record<Who, number> => ({
-  anonymous: a, admin: ad, presenter: p, member: m, proceduralist: pr, coordinator: c, south: s,
+const row = (
+  a: number,
+  ad: number,
+  p: number,
+  m: number,
+  pr: number,
+  c: number,
+  s: number,
+): Record<Who, number> => ({
+  anonymous: a,
+  admin: ad,
+  presenter: p,
+  member: m,
+  proceduralist: pr,
+  coordinator: c,
+  south: s,
 });
 
 const routes: Route[] = [
-  { name: 'GET /api/health', call: (c) => c.get('/api/health'), expected: row(200, 200, 200, 200, 200, 200, 200) },
-  { name: 'GET /api/auth/me', call: (c) => c.get('/api/auth/me'), expected: row(401, 200, 200, 200, 200, 200, 200) },
-  { name: 'GET /api/boards', call: (c) => c.get('/api/boards'), expected: row(401, 200, 200, 200, 200, 200, 200) },
-  { name: 'GET /api/boards/:north/members', call: (c, x) => c.get(`/api/boards/${x.ids.northBoard}/members`), expected: row(401, 404, 200, 200, 200, 200, 404) },
-  { name: 'GET /api/cases', call: (c) => c.get('/api/cases'), expected: row(401, 200, 200, 200, 200, 200, 200) },
+  {
+    name: 'GET /api/health',
+    call: (c) => c.get('/api/health'),
+    expected: row(200, 200, 200, 200, 200, 200, 200),
+  },
+  {
+    name: 'GET /api/auth/me',
+    call: (c) => c.get('/api/auth/me'),
+    expected: row(401, 200, 200, 200, 200, 200, 200),
+  },
+  {
+    name: 'GET /api/boards',
+    call: (c) => c.get('/api/boards'),
+    expected: row(401, 200, 200, 200, 200, 200, 200),
+  },
+  {
+    name: 'GET /api/boards/:north/members',
+    call: (c, x) => c.get(`/api/boards/${x.ids.northBoard}/members`),
+    expected: row(401, 404, 200, 200, 200, 200, 404),
+  },
+  {
+    name: 'GET /api/cases',
+    call: (c) => c.get('/api/cases'),
+    expected: row(401, 200, 200, 200, 200, 200, 200),
+  },
   {
     name: 'POST /api/cases (North)',
-    call: (c, x) => c.post('/api/cases', { caseCode: `MX-${x.runTag}`, boardId: x.ids.northBoard, yearOfBirth: 1960, sex: 'male', primaryDiagnosis: 'hcc' }),
+    call: (c, x) =>
+      c.post('/api/cases', {
+        caseCode: `MX-${x.runTag}`,
+        boardId: x.ids.northBoard,
+        yearOfBirth: 1960,
+        sex: 'male',
+        primaryDiagnosis: 'hcc',
+      }),
     expected: row(401, 403, 201, 403, 403, 403, 403),
   },
-  { name: 'GET /api/cases/:north-draft', call: (c, x) => c.get(`/api/cases/${x.ids.northDraft}`), expected: row(401, 404, 200, 200, 200, 404, 404) },
-  { name: 'GET /api/cases/:north-decided', call: (c, x) => c.get(`/api/cases/${x.ids.northDecided}`), expected: row(401, 404, 200, 200, 200, 200, 404) },
-  { name: 'GET /api/cases/:south-ready', call: (c, x) => c.get(`/api/cases/${x.ids.southReady}`), expected: row(401, 404, 404, 404, 404, 404, 200) },
-  { name: 'PATCH /api/cases/:north-draft', call: (c, x) => c.patch(`/api/cases/${x.ids.northDraft}`, { ecogPerformanceStatus: 1 }), expected: row(401, 404, 200, 403, 403, 404, 404) },
-  { name: 'PATCH /api/cases/:south-ready', call: (c, x) => c.patch(`/api/cases/${x.ids.southReady}`, { ecogPerformanceStatus: 1 }), expected: row(401, 404, 404, 404, 404, 404, 403) },
+  {
+    name: 'GET /api/cases/:north-draft',
+    call: (c, x) => c.get(`/api/cases/${x.ids.northDraft}`),
+    expected: row(401, 404, 200, 200, 200, 404, 404),
+  },
+  {
+    name: 'GET /api/cases/:north-decided',
+    call: (c, x) => c.get(`/api/cases/${x.ids.northDecided}`),
+    expected: row(401, 404, 200, 200, 200, 200, 404),
+  },
+  {
+    name: 'GET /api/cases/:south-ready',
+    call: (c, x) => c.get(`/api/cases/${x.ids.southReady}`),
+    expected: row(401, 404, 404, 404, 404, 404, 200),
+  },
+  {
+    name: 'PATCH /api/cases/:north-draft',
+    call: (c, x) => c.patch(`/api/cases/${x.ids.northDraft}`, { ecogPerformanceStatus: 1 }),
+    expected: row(401, 404, 200, 403, 403, 404, 404),
+  },
+  {
+    name: 'PATCH /api/cases/:south-ready',
+    call: (c, x) => c.patch(`/api/cases/${x.ids.southReady}`, { ecogPerformanceStatus: 1 }),
+    expected: row(401, 404, 404, 404, 404, 404, 403),
+  },
   {
     name: 'POST /api/cases/:north-draft/lesions',
-    call: (c, x) => c.post(`/api/cases/${x.ids.northDraft}/lesions`, { segment: 'II', diameterMm: 9, kind: 'metastasis' }),
+    call: (c, x) =>
+      c.post(`/api/cases/${x.ids.northDraft}/lesions`, {
+        segment: 'II',
+        diameterMm: 9,
+        kind: 'metastasis',
+      }),
     expected: row(401, 404, 201, 403, 403, 404, 404),
   },
-  { name: 'POST /api/cases/:north-draft/lab-panels', call: (c, x) => c.post(`/api/cases/${x.ids.northDraft}/lab-panels`, labs), expected: row(401, 404, 201, 403, 403, 404, 404) },
-  { name: 'POST /api/auth/totp/setup', call: (c) => c.post('/api/auth/totp/setup'), expected: row(401, 200, 200, 200, 200, 200, 200) },
-  { name: 'GET /api/admin/users', call: (c) => c.get('/api/admin/users'), expected: row(401, 200, 403, 403, 403, 403, 403) },
+  {
+    name: 'POST /api/cases/:north-draft/lab-panels',
+    call: (c, x) => c.post(`/api/cases/${x.ids.northDraft}/lab-panels`, labs),
+    expected: row(401, 404, 201, 403, 403, 404, 404),
+  },
+  {
+    name: 'POST /api/auth/totp/setup',
+    call: (c) => c.post('/api/auth/totp/setup'),
+    expected: row(401, 200, 200, 200, 200, 200, 200),
+  },
+  {
+    name: 'GET /api/admin/users',
+    call: (c) => c.get('/api/admin/users'),
+    expected: row(401, 200, 403, 403, 403, 403, 403),
+  },
   {
     name: 'POST /api/admin/users',
-    call: (c, x) => c.post('/api/admin/users', { email: `new-${x.runTag}@emberline.test`, displayName: 'New Person', roles: ['board-member'] }),
+    call: (c, x) =>
+      c.post('/api/admin/users', {
+        email: `new-${x.runTag}@emberline.test`,
+        displayName: 'New Person',
+        roles: ['board-member'],
+      }),
     expected: row(401, 201, 403, 403, 403, 403, 403),
   },
-  { name: 'PATCH /api/admin/users/:member', call: (c, x) => c.patch(`/api/admin/users/${x.memberUserId}`, { displayName: 'Dr Tomas Lind' }), expected: row(401, 200, 403, 403, 403, 403, 403) },
-  { name: 'GET /api/admin/boards', call: (c) => c.get('/api/admin/boards'), expected: row(401, 200, 403, 403, 403, 403, 403) },
-  { name: 'POST /api/admin/boards', call: (c, x) => c.post('/api/admin/boards', { name: `East Board ${x.runTag}` }), expected: row(401, 201, 403, 403, 403, 403, 403) },
+  {
+    name: 'PATCH /api/admin/users/:member',
+    call: (c, x) => c.patch(`/api/admin/users/${x.memberUserId}`, { displayName: 'Dr Tomas Lind' }),
+    expected: row(401, 200, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'GET /api/admin/boards',
+    call: (c) => c.get('/api/admin/boards'),
+    expected: row(401, 200, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'POST /api/admin/boards',
+    call: (c, x) => c.post('/api/admin/boards', { name: `East Board ${x.runTag}` }),
+    expected: row(401, 201, 403, 403, 403, 403, 403),
+  },
   {
     name: 'POST /api/admin/boards/:north/members',
-    call: (c, x) => c.post(`/api/admin/boards/${x.ids.northBoard}/members`, { userId: x.southUserId, specialty: 'pathology' }),
+    call: (c, x) =>
+      c.post(`/api/admin/boards/${x.ids.northBoard}/members`, {
+        userId: x.southUserId,
+        specialty: 'pathology',
+      }),
     expected: row(401, 204, 403, 403, 403, 403, 403),
   },
-  { name: 'GET /api/admin/role-policies', call: (c) => c.get('/api/admin/role-policies'), expected: row(401, 200, 403, 403, 403, 403, 403) },
-  { name: 'PUT /api/admin/role-policies/:role', call: (c) => c.put('/api/admin/role-policies/pathologist', { requiresTotp: false }), expected: row(401, 404, 403, 403, 403, 403, 403) },
-  { name: 'PUT /api/admin/role-policies/board-member', call: (c) => c.put('/api/admin/role-policies/board-member', { requiresTotp: false }), expected: row(401, 200, 403, 403, 403, 403, 403) },
-  { name: 'GET /api/admin/audit', call: (c) => c.get('/api/admin/audit'), expected: row(401, 200, 403, 403, 403, 403, 403) },
-  { name: 'DELETE /api/admin/boards/:north/members/:south', call: (c, x) => c.delete(`/api/admin/boards/${x.ids.northBoard}/members/${x.southUserId}`), expected: row(401, 204, 403, 403, 403, 403, 403) },
-  { name: 'DELETE /api/cases/:id/lesions/:lesion', call: (c, x) => c.delete(`/api/cases/${x.ids.northDraft}/lesions/${x.lesionId}`), expected: row(401, 404, 200, 403, 403, 404, 404) },
-  { name: 'DELETE /api/cases/:north-ready (not a draft)', call: (c, x) => c.delete(`/api/cases/${x.ids.northReady}`), expected: row(401, 404, 409, 403, 403, 404, 404) },
-  { name: 'DELETE /api/cases/:north-draft', call: (c, x) => c.delete(`/api/cases/${x.ids.northDraft}`), expected: row(401, 404, 204, 403, 403, 404, 404) },
-  { name: 'POST /api/auth/logout', call: (c) => c.post('/api/auth/logout'), expected: row(204, 204, 204, 204, 204, 204, 204) },
+  {
+    name: 'GET /api/admin/role-policies',
+    call: (c) => c.get('/api/admin/role-policies'),
+    expected: row(401, 200, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'PUT /api/admin/role-policies/:role',
+    call: (c) => c.put('/api/admin/role-policies/pathologist', { requiresTotp: false }),
+    expected: row(401, 404, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'PUT /api/admin/role-policies/board-member',
+    call: (c) => c.put('/api/admin/role-policies/board-member', { requiresTotp: false }),
+    expected: row(401, 200, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'GET /api/admin/audit',
+    call: (c) => c.get('/api/admin/audit'),
+    expected: row(401, 200, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'DELETE /api/admin/boards/:north/members/:south',
+    call: (c, x) => c.delete(`/api/admin/boards/${x.ids.northBoard}/members/${x.southUserId}`),
+    expected: row(401, 204, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'DELETE /api/cases/:id/lesions/:lesion',
+    call: (c, x) => c.delete(`/api/cases/${x.ids.northDraft}/lesions/${x.lesionId}`),
+    expected: row(401, 404, 200, 403, 403, 404, 404),
+  },
+  {
+    name: 'DELETE /api/cases/:north-ready (not a draft)',
+    call: (c, x) => c.delete(`/api/cases/${x.ids.northReady}`),
+    expected: row(401, 404, 409, 403, 403, 404, 404),
+  },
+  {
+    name: 'DELETE /api/cases/:north-draft',
+    call: (c, x) => c.delete(`/api/cases/${x.ids.northDraft}`),
+    expected: row(401, 404, 204, 403, 403, 404, 404),
+  },
+  {
+    name: 'POST /api/auth/logout',
+    call: (c) => c.post('/api/auth/logout'),
+    expected: row(204, 204, 204, 204, 204, 204, 204),
+  },
 ];
 
 const emails: Record<Exclude<Who, 'anonymous'>, string> = {
@@ -117,7 +260,11 @@ describe.each(who)('role × route matrix: %s', (role) => {
   beforeAll(async () => {
     const ids = await resetToDemo(testApp.orm);
     const em = testApp.orm.em.fork();
-    const lesion = await em.findOneOrFail(Lesion, { clinicalCase: ids.northDraft }, { orderBy: { segment: 'asc' } });
+    const lesion = await em.findOneOrFail(
+      Lesion,
+      { clinicalCase: ids.northDraft },
+      { orderBy: { segment: 'asc' } },
+    );
     context = {
       ids,
       lesionId: lesion.id,
@@ -126,7 +273,8 @@ describe.each(who)('role × route matrix: %s', (role) => {
       runTag: role.toUpperCase(),
     };
     client = new ApiClient(testApp.app);
-    if (role !== 'anonymous') expect((await client.signIn(emails[role], demoPassword)).status).toBe(200);
+    if (role !== 'anonymous')
+      expect((await client.signIn(emails[role], demoPassword)).status).toBe(200);
   });
 
   it.each(routes.map((route) => [route.name, route] as const))('%s', async (_name, route) => {

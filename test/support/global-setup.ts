@@ -1,6 +1,11 @@
 import type { TestProject } from 'vitest/node';
 // @ts-expect-error -- a plain ES module script without types
-import { dropDatabase, ensureDatabase, startPostgres, connectionUrl } from '../../server/scripts/postgres.mjs';
+import {
+  dropDatabase,
+  ensureDatabase,
+  startPostgres,
+  connectionUrl,
+} from '../../server/scripts/postgres.mjs';
 
 /**
  * Starts the project's PostgreSQL (installing it when missing) and gives the run a database of

@@ -30,7 +30,8 @@ export async function startTestApp(overrides: Partial<AppConfig> = {}): Promise<
     orm,
     sessionPool,
     config,
-    log: (message, error) => logs.push(`${message} ${error instanceof Error ? error.stack : String(error ?? '')}`),
+    log: (message, error) =>
+      logs.push(`${message} ${error instanceof Error ? error.stack : String(error ?? '')}`),
   });
   return {
     app,
@@ -46,11 +47,15 @@ export async function startTestApp(overrides: Partial<AppConfig> = {}): Promise<
 
 /** Empties every table but the migrations' own, between suites. */
 export async function truncateAll(orm: MikroORM): Promise<void> {
-  const tables = await orm.em.getConnection().execute<{ tablename: string }[]>(
-    "select tablename from pg_tables where schemaname = 'public' and tablename <> 'mikro_orm_migrations'",
-  );
+  const tables = await orm.em
+    .getConnection()
+    .execute<{ tablename: string }[]>(
+      "select tablename from pg_tables where schemaname = 'public' and tablename <> 'mikro_orm_migrations'",
+    );
   if (tables.length) {
-    await orm.em.getConnection().execute(`truncate ${tables.map((t) => `"${t.tablename}"`).join(', ')} cascade`);
+    await orm.em
+      .getConnection()
+      .execute(`truncate ${tables.map((t) => `"${t.tablename}"`).join(', ')} cascade`);
   }
 }
 
@@ -66,7 +71,12 @@ export class ApiClient {
   }
 
   private csrfToken(): string | undefined {
-    return this.agent.jar.getCookie('XSRF-TOKEN', { domain: '127.0.0.1', path: '/', secure: false, script: true })?.value;
+    return this.agent.jar.getCookie('XSRF-TOKEN', {
+      domain: '127.0.0.1',
+      path: '/',
+      secure: false,
+      script: true,
+    })?.value;
   }
 
   private async ensureCsrf(): Promise<string> {

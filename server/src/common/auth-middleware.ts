@@ -22,7 +22,9 @@ export function actorOf(request: Request): Actor {
 export const requireSignIn: RequestHandler = (request, _response, next) => {
   const user = signedInUser(request);
   if (user.mustEnrolTotp) {
-    throw new ForbiddenError('Your role requires a second factor: set up an authenticator app first.');
+    throw new ForbiddenError(
+      'Your role requires a second factor: set up an authenticator app first.',
+    );
   }
   next();
 };
@@ -32,7 +34,9 @@ export function requireRole(...allowed: Role[]): RequestHandler {
   return (request, _response, next) => {
     const user = signedInUser(request);
     if (user.mustEnrolTotp) {
-      throw new ForbiddenError('Your role requires a second factor: set up an authenticator app first.');
+      throw new ForbiddenError(
+        'Your role requires a second factor: set up an authenticator app first.',
+      );
     }
     if (!user.roles.some((role) => allowed.includes(role))) throw new ForbiddenError();
     next();

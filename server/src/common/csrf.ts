@@ -29,7 +29,12 @@ function isValid(secret: string, request: Request, token: string | undefined): b
   return expected.length === actual.length && timingSafeEqual(expected, actual);
 }
 
-export function issueCsrfToken(secret: string, request: Request, response: Response, isSecure: boolean): void {
+export function issueCsrfToken(
+  secret: string,
+  request: Request,
+  response: Response,
+  isSecure: boolean,
+): void {
   const nonce = randomBytes(18).toString('base64url');
   response.cookie(csrfCookieName, `${nonce}.${sign(secret, binding(request), nonce)}`, {
     httpOnly: false,
@@ -59,9 +64,18 @@ export function csrfProtection(options: {
       return;
     }
     const headerToken = request.get(csrfHeaderName);
-    if (!headerToken || headerToken !== cookieToken || !isValid(options.secret, request, headerToken)) {
+    if (
+      !headerToken ||
+      headerToken !== cookieToken ||
+      !isValid(options.secret, request, headerToken)
+    ) {
       issueCsrfToken(options.secret, request, response, options.isSecure);
-      throw new AppError(403, 'Forbidden', 'The request lacks a valid CSRF token; reload the page and try again.', 'urn:emberline:problem:csrf');
+      throw new AppError(
+        403,
+        'Forbidden',
+        'The request lacks a valid CSRF token; reload the page and try again.',
+        'urn:emberline:problem:csrf',
+      );
     }
     next();
   };

@@ -4,7 +4,8 @@
  */
 function write(level: 'info' | 'warn' | 'error', message: string, error?: unknown): void {
   const line: Record<string, unknown> = { at: new Date().toISOString(), level, message };
-  if (error instanceof Error) line.error = { name: error.name, message: error.message, stack: error.stack };
+  if (error instanceof Error)
+    line.error = { name: error.name, message: error.message, stack: error.stack };
   else if (error !== undefined) line.error = String(error);
   process.stderr.write(JSON.stringify(line) + '\n');
 }

@@ -15,7 +15,9 @@ export type LoginRequest = z.infer<typeof loginRequestSchema>;
 /** Passwords of local accounts: at least 12 characters (OWASP ASVS 5.0 §6.2). */
 export const passwordSchema = z.string().min(12, 'at least 12 characters').max(256);
 
-export const totpConfirmSchema = z.object({ code: z.string().regex(/^\d{6}$/, 'a six-digit code') });
+export const totpConfirmSchema = z.object({
+  code: z.string().regex(/^\d{6}$/, 'a six-digit code'),
+});
 
 export interface BoardMembershipView {
   boardId: string;

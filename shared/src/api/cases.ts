@@ -45,7 +45,13 @@ export const coordinatorVisibleStatuses: readonly CaseStatus[] = [
 export const couinaudSegments = ['I', 'II', 'III', 'IV', 'V', 'VI', 'VII', 'VIII'] as const;
 export type CouinaudSegment = (typeof couinaudSegments)[number];
 
-export const lesionKinds = ['hcc', 'metastasis', 'cholangiocarcinoma', 'indeterminate', 'other'] as const;
+export const lesionKinds = [
+  'hcc',
+  'metastasis',
+  'cholangiocarcinoma',
+  'indeterminate',
+  'other',
+] as const;
 export type LesionKind = (typeof lesionKinds)[number];
 export const lesionKindLabels: Record<LesionKind, string> = {
   hcc: 'Hepatocellular carcinoma',
@@ -88,7 +94,14 @@ export const updateCaseSchema = createCaseSchema
 export type UpdateCaseRequest = z.input<typeof updateCaseSchema>;
 
 const romanBySegmentNumber: Record<number, CouinaudSegment> = {
-  1: 'I', 2: 'II', 3: 'III', 4: 'IV', 5: 'V', 6: 'VI', 7: 'VII', 8: 'VIII',
+  1: 'I',
+  2: 'II',
+  3: 'III',
+  4: 'IV',
+  5: 'V',
+  6: 'VI',
+  7: 'VII',
+  8: 'VIII',
 };
 
 /** Accepts a segment as its Roman numeral ("VII") or its number (7). */
@@ -115,7 +128,10 @@ export const encephalopathyGrades = ['none', 'grade-1-2', 'grade-3-4'] as const;
 const measured = <U extends string>(units: readonly [U, ...U[]], max: Record<U, number>) =>
   z
     .object({ value: z.number().positive(), unit: z.enum(units) })
-    .refine((m) => m.value <= max[m.unit], { message: 'outside the plausible range', path: ['value'] });
+    .refine((m) => m.value <= max[m.unit], {
+      message: 'outside the plausible range',
+      path: ['value'],
+    });
 
 export const createLabPanelSchema = z.object({
   takenAt: z.iso
@@ -134,7 +150,14 @@ export const createLabPanelSchema = z.object({
 });
 export type CreateLabPanelRequest = z.input<typeof createLabPanelSchema>;
 
-export const caseSortFields = ['caseCode', 'board', 'presenter', 'primaryDiagnosis', 'status', 'updatedAt'] as const;
+export const caseSortFields = [
+  'caseCode',
+  'board',
+  'presenter',
+  'primaryDiagnosis',
+  'status',
+  'updatedAt',
+] as const;
 export type CaseSortField = (typeof caseSortFields)[number];
 
 export const caseListQuerySchema = z.object({
@@ -143,7 +166,10 @@ export const caseListQuerySchema = z.object({
   sort: z
     .string()
     .regex(/^[A-Za-z]+(:(asc|desc))?$/, 'field or field:asc or field:desc')
-    .refine((s) => (caseSortFields as readonly string[]).includes(s.split(':')[0] ?? ''), 'unknown sort field')
+    .refine(
+      (s) => (caseSortFields as readonly string[]).includes(s.split(':')[0] ?? ''),
+      'unknown sort field',
+    )
     .default('updatedAt:desc'),
   q: z.string().trim().max(100).optional(),
   boardId: z.uuid().optional(),

@@ -49,9 +49,18 @@ export default tseslint.config(
         'error',
         {
           patterns: [
-            { group: ['node:*', 'fs', 'path', 'crypto'], message: 'shared/ is pure: no Node APIs.' },
-            { group: ['@angular/*', '@mikro-orm/*', 'express', 'rxjs'], message: 'shared/ imports no framework.' },
-            { group: ['**/server/**', '**/projects/**'], message: 'shared/ imports nothing from server/ or projects/.' },
+            {
+              group: ['node:*', 'fs', 'path', 'crypto'],
+              message: 'shared/ is pure: no Node APIs.',
+            },
+            {
+              group: ['@angular/*', '@mikro-orm/*', 'express', 'rxjs'],
+              message: 'shared/ imports no framework.',
+            },
+            {
+              group: ['**/server/**', '**/projects/**'],
+              message: 'shared/ imports nothing from server/ or projects/.',
+            },
           ],
         },
       ],
@@ -62,7 +71,14 @@ export default tseslint.config(
     rules: {
       'no-restricted-imports': [
         'error',
-        { patterns: [{ group: ['**/projects/**', '@angular/*'], message: 'The server imports nothing of the client.' }] },
+        {
+          patterns: [
+            {
+              group: ['**/projects/**', '@angular/*'],
+              message: 'The server imports nothing of the client.',
+            },
+          ],
+        },
       ],
     },
   },
@@ -73,15 +89,28 @@ export default tseslint.config(
     languageOptions: { globals: { ...globals.browser } },
     rules: {
       '@typescript-eslint/no-explicit-any': 'error',
-      '@angular-eslint/component-selector': ['error', { type: 'element', prefix: 'em', style: 'kebab-case' }],
-      '@angular-eslint/directive-selector': ['error', { type: 'attribute', prefix: 'em', style: 'camelCase' }],
+      '@angular-eslint/component-selector': [
+        'error',
+        { type: 'element', prefix: 'em', style: 'kebab-case' },
+      ],
+      '@angular-eslint/directive-selector': [
+        'error',
+        { type: 'attribute', prefix: 'em', style: 'camelCase' },
+      ],
       '@angular-eslint/prefer-on-push-component-change-detection': 'error',
       'no-restricted-imports': [
         'error',
         {
           patterns: [
-            { group: ['**/server/**', 'express', '@mikro-orm/*'], message: 'The client imports nothing of the server.' },
-            { group: ['@angular/common'], importNames: ['CommonModule', 'NgClass'], message: 'Use built-in control flow and class bindings.' },
+            {
+              group: ['**/server/**', 'express', '@mikro-orm/*'],
+              message: 'The client imports nothing of the server.',
+            },
+            {
+              group: ['@angular/common'],
+              importNames: ['CommonModule', 'NgClass'],
+              message: 'Use built-in control flow and class bindings.',
+            },
           ],
         },
       ],

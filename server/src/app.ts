@@ -55,7 +55,14 @@ export function createApp(services: Services): Express {
   app.use('/api', sessionMiddleware(config, services.sessionPool));
   app.use((_request, _response, next) => RequestContext.create(orm.em, next));
   app.use('/api', currentUserMiddleware(orm, config));
-  app.use('/api', csrfProtection({ secret: config.sessionSecret, isSecure: config.isCookieSecure, exemptPaths: ['/auth/saml/callback'] }));
+  app.use(
+    '/api',
+    csrfProtection({
+      secret: config.sessionSecret,
+      isSecure: config.isCookieSecure,
+      exemptPaths: ['/auth/saml/callback'],
+    }),
+  );
 
   app.use('/api/health', healthRoutes(orm));
   app.use('/api/auth', authRoutes(orm, config));

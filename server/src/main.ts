@@ -8,7 +8,9 @@ import { logger } from './common/logger';
 import { samlSettingsFromEnvironment } from './modules/saml/saml-settings';
 
 const config = configFromEnvironment();
-config.clientDist = process.env.CLIENT_DIST ?? fileURLToPath(new URL('../../dist/emberline/browser', import.meta.url));
+config.clientDist =
+  process.env.CLIENT_DIST ??
+  fileURLToPath(new URL('../../dist/emberline/browser', import.meta.url));
 config.saml = await samlSettingsFromEnvironment(config);
 const orm = await openDatabase();
 const sessionPool = new pg.Pool({ connectionString: databaseUrl(), max: 4 });
@@ -16,7 +18,9 @@ const app = createApp({ orm, sessionPool, config, log: logger.error });
 
 const port = Number(process.env.PORT ?? 4300);
 const host = process.env.HOST ?? '127.0.0.1';
-const server = app.listen(port, host, () => logger.info(`Emberline listening on http://${host}:${port}`));
+const server = app.listen(port, host, () =>
+  logger.info(`Emberline listening on http://${host}:${port}`),
+);
 
 async function shutDown(): Promise<void> {
   server.close();

@@ -4,7 +4,9 @@ import { openDatabase, migrate } from '../db';
 const orm = await openDatabase();
 try {
   const applied = await migrate(orm);
-  process.stderr.write(applied.length ? `migrated: ${applied.join(', ')}\n` : 'schema up to date\n');
+  process.stderr.write(
+    applied.length ? `migrated: ${applied.join(', ')}\n` : 'schema up to date\n',
+  );
 } finally {
   await orm.close();
 }

@@ -31,26 +31,41 @@ export function adminRoutes(orm: MikroORM): Router {
     response.json(await service().listUsers());
   });
   router.post('/users', async (request, response) => {
-    response.status(201).json(await service().createUser(actorOf(request), parse(createUserSchema, request.body)));
+    response
+      .status(201)
+      .json(await service().createUser(actorOf(request), parse(createUserSchema, request.body)));
   });
   router.patch('/users/:id', async (request, response) => {
     const body = parse(updateUserSchema, request.body);
-    response.json(await service().updateUser(actorOf(request), id(request.params.id, 'The user'), body));
+    response.json(
+      await service().updateUser(actorOf(request), id(request.params.id, 'The user'), body),
+    );
   });
 
   router.get('/boards', async (_request, response) => {
     response.json(await service().listBoards());
   });
   router.post('/boards', async (request, response) => {
-    response.status(201).json(await service().createBoard(actorOf(request), parse(createBoardSchema, request.body)));
+    response
+      .status(201)
+      .json(await service().createBoard(actorOf(request), parse(createBoardSchema, request.body)));
   });
   router.post('/boards/:id/members', async (request, response) => {
     const body = parse(addMembershipSchema, request.body);
-    await service().addMembership(actorOf(request), id(request.params.id, 'The board'), body.userId, body.specialty);
+    await service().addMembership(
+      actorOf(request),
+      id(request.params.id, 'The board'),
+      body.userId,
+      body.specialty,
+    );
     response.status(204).end();
   });
   router.delete('/boards/:id/members/:userId', async (request, response) => {
-    await service().removeMembership(actorOf(request), id(request.params.id, 'The board'), id(request.params.userId, 'The user'));
+    await service().removeMembership(
+      actorOf(request),
+      id(request.params.id, 'The board'),
+      id(request.params.userId, 'The user'),
+    );
     response.status(204).end();
   });
 

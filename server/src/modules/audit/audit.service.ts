@@ -26,7 +26,11 @@ export function recordAudit(em: EntityManager, actor: Actor, entry: AuditEntry):
 }
 
 /** Writes an audit event on its own (reads, refusals: nothing else to flush with). */
-export async function writeAudit(em: EntityManager, actor: Actor, entry: AuditEntry): Promise<void> {
+export async function writeAudit(
+  em: EntityManager,
+  actor: Actor,
+  entry: AuditEntry,
+): Promise<void> {
   const fork = em.fork();
   recordAudit(fork, actor, entry);
   await fork.flush();

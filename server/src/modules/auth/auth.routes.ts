@@ -41,25 +41,48 @@ export function authRoutes(orm: MikroORM, config: AppConfig): Router {
   router.post('/login', loginLimiter, async (request, response) => {
     const body = parse(loginRequestSchema, request.body);
     const em = orm.em;
-    const user = await em.findOne(User, { email: body.email.toLowerCase() }, { populate: ['passwordHash', 'totpSecret'] });
+    const user = await em.findOne(
+      User,
+      { email: body.email.toLowerCase() },
+      { populate: ['passwordHash', 'totpSecret'] },
+    );
     const isPasswordRight = await verifyPassword(user?.passwordHash ?? null, body.password);
     const actor = { id: user?.id ?? null, email: body.email.toLowerCase(), ip: request.ip ?? null };
     if (!user || !user.isActive || !isPasswordRight) {
-      await writeAudit(em, actor, { action: 'auth.sign-in-failed', outcome: 'refused', detail: { reason: 'credentials' } });
+      await writeAudit(em, actor, {
+        action: 'auth.sign-in-failed',
+        outcome: 'refused',
+        detail: { reason: 'credentials' },
+      });
       throw new UnauthenticatedError(refusal);
     }
     if (user.totpEnabledAt && user.totpSecret) {
       if (!body.code) {
-        throw new UnauthenticatedError('Enter the six-digit code from your authenticator app.', 'urn:emberline:problem:totp-required');
+        throw new UnauthenticatedError(
+          'Enter the six-digit code from your authenticator app.',
+          'urn:emberline:problem:totp-required',
+        );
       }
       if (!isTotpCodeValid(user.totpSecret, body.code)) {
-        await writeAudit(em, actor, { action: 'auth.sign-in-failed', outcome: 'refused', detail: { reason: 'totp' } });
-        throw new UnauthenticatedError('The code is not correct.', 'urn:emberline:problem:totp-required');
+        await writeAudit(em, actor, {
+          action: 'auth.sign-in-failed',
+          outcome: 'refused',
+          detail: { reason: 'totp' },
+        });
+        throw new UnauthenticatedError(
+          'The code is not correct.',
+          'urn:emberline:problem:totp-required',
+        );
       }
     }
     await establishSession(request, response, config, user.id, 'local');
     user.lastSignInAt = new Date();
-    recordAudit(em, actor, { action: 'auth.sign-in', entityType: 'user', entityId: user.id, detail: { method: 'local' } });
+    recordAudit(em, actor, {
+      action: 'auth.sign-in',
+      entityType: 'user',
+      entityId: user.id,
+      detail: { method: 'local' },
+    });
     await em.flush();
     const current = await loadSignedInUser(em, user.id, 'local');
     response.json(current && toCurrentUser(current));
@@ -67,7 +90,11 @@ export function authRoutes(orm: MikroORM, config: AppConfig): Router {
 
   router.post('/logout', async (request, response) => {
     if (request.currentUser) {
-      await writeAudit(orm.em, actorOf(request), { action: 'auth.sign-out', entityType: 'user', entityId: request.currentUser.id });
+      await writeAudit(orm.em, actorOf(request), {
+        action: 'auth.sign-out',
+        entityType: 'user',
+        entityId: request.currentUser.id,
+      });
     }
     if (request.session) await destroySession(request);
     response.clearCookie(sessionCookieName, { path: '/' });
@@ -83,7 +110,11 @@ export function authRoutes(orm: MikroORM, config: AppConfig): Router {
   router.post('/totp/setup', async (request, response) => {
     const user = signedInUser(request);
     if (user.signInMethod !== 'local') {
-      throw new AppError(409, 'Conflict', 'Single sign-on accounts use the hospital identity provider\'s second factor.');
+      throw new AppError(
+        409,
+        'Conflict',
+        "Single sign-on accounts use the hospital identity provider's second factor.",
+      );
     }
     if (user.hasTotp) throw new AppError(409, 'Conflict', 'A second factor is set up already.');
     const secret = newTotpSecret();
@@ -105,7 +136,11 @@ export function authRoutes(orm: MikroORM, config: AppConfig): Router {
     user.totpSecret = secret;
     user.totpEnabledAt = new Date();
     delete request.session.pendingTotpSecret;
-    recordAudit(orm.em, actorOf(request), { action: 'auth.totp-enabled', entityType: 'user', entityId: user.id });
+    recordAudit(orm.em, actorOf(request), {
+      action: 'auth.totp-enabled',
+      entityType: 'user',
+      entityId: user.id,
+    });
     await orm.em.flush();
     const refreshed = await loadSignedInUser(orm.em, user.id, current.signInMethod);
     response.json(refreshed && toCurrentUser(refreshed));

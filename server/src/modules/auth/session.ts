@@ -15,7 +15,12 @@ export function sessionMiddleware(config: AppConfig, pool: Pool): RequestHandler
   return session({
     name: sessionCookieName,
     secret: config.sessionSecret,
-    store: new PgStore({ pool, tableName: 'http_session', createTableIfMissing: false, pruneSessionInterval: 600 }),
+    store: new PgStore({
+      pool,
+      tableName: 'http_session',
+      createTableIfMissing: false,
+      pruneSessionInterval: 600,
+    }),
     resave: false,
     saveUninitialized: false,
     // Idle timeout: every request pushes the expiry forward by the idle window.

@@ -14,8 +14,12 @@ export function boardRoutes(orm: MikroORM): Router {
   router.get('/', async (request, response) => {
     const user = signedInUser(request);
     const ids = [...user.memberships.keys()];
-    const boards = ids.length ? await orm.em.find(Board, { id: { $in: ids } }, { orderBy: { name: 'asc' } }) : [];
-    const memberships = ids.length ? await orm.em.find(BoardMembership, { board: { $in: ids } }) : [];
+    const boards = ids.length
+      ? await orm.em.find(Board, { id: { $in: ids } }, { orderBy: { name: 'asc' } })
+      : [];
+    const memberships = ids.length
+      ? await orm.em.find(BoardMembership, { board: { $in: ids } })
+      : [];
     const countOf = new Map<string, number>();
     for (const membership of memberships) {
       countOf.set(membership.board.id, (countOf.get(membership.board.id) ?? 0) + 1);

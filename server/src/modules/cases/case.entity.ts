@@ -1,4 +1,14 @@
-import { Collection, Entity, EntityRepositoryType, Index, ManyToOne, OneToMany, Property, Unique, type Ref } from '@mikro-orm/core';
+import {
+  Collection,
+  Entity,
+  EntityRepositoryType,
+  Index,
+  ManyToOne,
+  OneToMany,
+  Property,
+  Unique,
+  type Ref,
+} from '@mikro-orm/core';
 import type { CaseStatus, PrimaryDiagnosis, Sex } from '@emberline/shared';
 import { BaseEntity } from '../../common/base.entity';
 import { Board } from '../boards/board.entity';

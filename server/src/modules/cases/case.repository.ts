@@ -1,10 +1,18 @@
 import { EntityRepository } from '@mikro-orm/postgresql';
 import type { FilterQuery, QueryOrderMap } from '@mikro-orm/core';
-import { primaryDiagnosisLabels, type CaseListQuery, type CaseSortField, type PrimaryDiagnosis } from '@emberline/shared';
+import {
+  primaryDiagnosisLabels,
+  type CaseListQuery,
+  type CaseSortField,
+  type PrimaryDiagnosis,
+} from '@emberline/shared';
 import { escapeLike } from '../audit/audit.service';
 import type { ClinicalCase } from './case.entity';
 
-const orderByField: Record<CaseSortField, (direction: 'asc' | 'desc') => QueryOrderMap<ClinicalCase>> = {
+const orderByField: Record<
+  CaseSortField,
+  (direction: 'asc' | 'desc') => QueryOrderMap<ClinicalCase>
+> = {
   caseCode: (direction) => ({ caseCode: direction }),
   board: (direction) => ({ board: { name: direction } }),
   presenter: (direction) => ({ presenter: { displayName: direction } }),
@@ -15,7 +23,10 @@ const orderByField: Record<CaseSortField, (direction: 'asc' | 'desc') => QueryOr
 
 export class CaseRepository extends EntityRepository<ClinicalCase> {
   /** One page of the cases the filter allows, searched by code, board, presenter or diagnosis. */
-  async findVisiblePage(visible: FilterQuery<ClinicalCase>, query: CaseListQuery): Promise<[ClinicalCase[], number]> {
+  async findVisiblePage(
+    visible: FilterQuery<ClinicalCase>,
+    query: CaseListQuery,
+  ): Promise<[ClinicalCase[], number]> {
     const conditions: FilterQuery<ClinicalCase>[] = [visible];
     if (query.boardId) conditions.push({ board: query.boardId });
     if (query.status) conditions.push({ status: query.status });
@@ -34,7 +45,10 @@ export class CaseRepository extends EntityRepository<ClinicalCase> {
         ],
       });
     }
-    const [field, direction = 'asc'] = query.sort.split(':') as [CaseSortField, 'asc' | 'desc' | undefined];
+    const [field, direction = 'asc'] = query.sort.split(':') as [
+      CaseSortField,
+      'asc' | 'desc' | undefined,
+    ];
     return this.findAndCount(
       { $and: conditions },
       {

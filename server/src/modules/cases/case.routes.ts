@@ -38,12 +38,21 @@ export function caseRoutes(orm: MikroORM): Router {
   });
 
   router.get('/:id', async (request, response) => {
-    response.json(await service().get(signedInUser(request), actorOf(request), caseId(request.params.id)));
+    response.json(
+      await service().get(signedInUser(request), actorOf(request), caseId(request.params.id)),
+    );
   });
 
   router.patch('/:id', async (request, response) => {
     const body = parse(updateCaseSchema, request.body);
-    response.json(await service().update(signedInUser(request), actorOf(request), caseId(request.params.id), body));
+    response.json(
+      await service().update(
+        signedInUser(request),
+        actorOf(request),
+        caseId(request.params.id),
+        body,
+      ),
+    );
   });
 
   router.delete('/:id', async (request, response) => {
@@ -53,7 +62,16 @@ export function caseRoutes(orm: MikroORM): Router {
 
   router.post('/:id/lesions', async (request, response) => {
     const body = parse(createLesionSchema, request.body);
-    response.status(201).json(await service().addLesion(signedInUser(request), actorOf(request), caseId(request.params.id), body));
+    response
+      .status(201)
+      .json(
+        await service().addLesion(
+          signedInUser(request),
+          actorOf(request),
+          caseId(request.params.id),
+          body,
+        ),
+      );
   });
 
   router.delete('/:id/lesions/:lesionId', async (request, response) => {
@@ -68,7 +86,16 @@ export function caseRoutes(orm: MikroORM): Router {
 
   router.post('/:id/lab-panels', async (request, response) => {
     const body = parse(createLabPanelSchema, request.body);
-    response.status(201).json(await service().addLabPanel(signedInUser(request), actorOf(request), caseId(request.params.id), body));
+    response
+      .status(201)
+      .json(
+        await service().addLabPanel(
+          signedInUser(request),
+          actorOf(request),
+          caseId(request.params.id),
+          body,
+        ),
+      );
   });
 
   return router;

@@ -58,7 +58,8 @@ export class CaseService {
   }
 
   async create(user: SignedInUser, actor: Actor, body: CreateCase): Promise<CaseDetail> {
-    if (!hasRole(user, 'presenting-physician')) throw new ForbiddenError('Only a presenting physician creates cases.');
+    if (!hasRole(user, 'presenting-physician'))
+      throw new ForbiddenError('Only a presenting physician creates cases.');
     if (!user.memberships.has(body.boardId)) throw new NotFoundError('The board');
     const presenterId = body.presenterId ?? user.id;
     await this.assertPresenter(presenterId, body.boardId);
@@ -77,12 +78,21 @@ export class CaseService {
     created.hasVascularInvasion = body.hasVascularInvasion ?? null;
     created.hasExtrahepaticSpread = body.hasExtrahepaticSpread ?? null;
     this.em.persist(created);
-    recordAudit(this.em, actor, { action: 'case.create', entityType: 'case', entityId: created.id });
+    recordAudit(this.em, actor, {
+      action: 'case.create',
+      entityType: 'case',
+      entityId: created.id,
+    });
     await this.em.flush();
     return this.get(user, actor, created.id);
   }
 
-  async update(user: SignedInUser, actor: Actor, id: string, body: UpdateCase): Promise<CaseDetail> {
+  async update(
+    user: SignedInUser,
+    actor: Actor,
+    id: string,
+    body: UpdateCase,
+  ): Promise<CaseDetail> {
     const found = await this.findEditable(user, id);
     if (body.status && !['draft', 'ready-for-board'].includes(found.status)) {
       throw new ConflictError('Only a draft or a case ready for board changes state here.');
@@ -101,7 +111,12 @@ export class CaseService {
       const value = body[key as keyof UpdateCase];
       if (value !== undefined) Object.assign(found, { [key]: value });
     }
-    recordAudit(this.em, actor, { action: 'case.update', entityType: 'case', entityId: found.id, detail: { fields: Object.keys(body) } });
+    recordAudit(this.em, actor, {
+      action: 'case.update',
+      entityType: 'case',
+      entityId: found.id,
+      detail: { fields: Object.keys(body) },
+    });
     await this.em.flush();
     return this.toDetail(user, found);
   }
@@ -116,26 +131,56 @@ export class CaseService {
     await this.em.flush();
   }
 
-  async addLesion(user: SignedInUser, actor: Actor, caseId: string, body: CreateLesion): Promise<CaseDetail> {
+  async addLesion(
+    user: SignedInUser,
+    actor: Actor,
+    caseId: string,
+    body: CreateLesion,
+  ): Promise<CaseDetail> {
     const found = await this.findEditable(user, caseId);
-    const lesion = new Lesion(this.em.getReference(ClinicalCase, found.id, { wrapped: true }), body.segment, body.diameterMm, body.kind);
+    const lesion = new Lesion(
+      this.em.getReference(ClinicalCase, found.id, { wrapped: true }),
+      body.segment,
+      body.diameterMm,
+      body.kind,
+    );
     this.em.persist(lesion);
-    recordAudit(this.em, actor, { action: 'lesion.create', entityType: 'case', entityId: found.id, detail: { lesionId: lesion.id } });
+    recordAudit(this.em, actor, {
+      action: 'lesion.create',
+      entityType: 'case',
+      entityId: found.id,
+      detail: { lesionId: lesion.id },
+    });
     await this.em.flush();
     return this.toDetail(user, found);
   }
 
-  async removeLesion(user: SignedInUser, actor: Actor, caseId: string, lesionId: string): Promise<CaseDetail> {
+  async removeLesion(
+    user: SignedInUser,
+    actor: Actor,
+    caseId: string,
+    lesionId: string,
+  ): Promise<CaseDetail> {
     const found = await this.findEditable(user, caseId);
     const lesion = await this.em.findOne(Lesion, { id: lesionId, clinicalCase: found.id });
     if (!lesion) throw new NotFoundError('The lesion');
     this.em.remove(lesion);
-    recordAudit(this.em, actor, { action: 'lesion.delete', entityType: 'case', entityId: found.id, detail: { lesionId } });
+    recordAudit(this.em, actor, {
+      action: 'lesion.delete',
+      entityType: 'case',
+      entityId: found.id,
+      detail: { lesionId },
+    });
     await this.em.flush();
     return this.toDetail(user, found);
   }
 
-  async addLabPanel(user: SignedInUser, actor: Actor, caseId: string, body: CreateLabPanel): Promise<CaseDetail> {
+  async addLabPanel(
+    user: SignedInUser,
+    actor: Actor,
+    caseId: string,
+    body: CreateLabPanel,
+  ): Promise<CaseDetail> {
     const found = await this.findEditable(user, caseId);
     const panel = new LabPanel(
       this.em.getReference(ClinicalCase, found.id, { wrapped: true }),
@@ -143,34 +188,53 @@ export class CaseService {
       { ...body, takenAt: new Date(body.takenAt) },
     );
     this.em.persist(panel);
-    recordAudit(this.em, actor, { action: 'lab-panel.create', entityType: 'case', entityId: found.id, detail: { labPanelId: panel.id } });
+    recordAudit(this.em, actor, {
+      action: 'lab-panel.create',
+      entityType: 'case',
+      entityId: found.id,
+      detail: { labPanelId: panel.id },
+    });
     await this.em.flush();
     return this.toDetail(user, found);
   }
 
   private async findVisible(user: SignedInUser, id: string): Promise<ClinicalCase> {
-    const found = await this.cases.findOne({ $and: [{ id }, visibilityFilter(user)] }, { populate: ['board', 'presenter'] });
+    const found = await this.cases.findOne(
+      { $and: [{ id }, visibilityFilter(user)] },
+      { populate: ['board', 'presenter'] },
+    );
     if (!found) throw new NotFoundError('The case');
     return found;
   }
 
   private async findEditable(user: SignedInUser, id: string): Promise<ClinicalCase> {
     const found = await this.findVisible(user, id);
-    if (!canEdit(user, found)) throw new ForbiddenError('Only the presenting physician of this case edits it.');
+    if (!canEdit(user, found))
+      throw new ForbiddenError('Only the presenting physician of this case edits it.');
     return found;
   }
 
   private async assertPresenter(presenterId: string, boardId: string): Promise<void> {
     const presenter = await this.em.findOne(User, { id: presenterId, isActive: true });
-    const isMember = presenter && (await this.em.count('BoardMembership', { user: presenterId, board: boardId })) > 0;
+    const isMember =
+      presenter &&
+      (await this.em.count('BoardMembership', { user: presenterId, board: boardId })) > 0;
     if (!presenter || !isMember || !presenter.roles.includes('presenting-physician')) {
-      throw new ConflictError('The presenter must be a presenting physician of the case\'s board.');
+      throw new ConflictError("The presenter must be a presenting physician of the case's board.");
     }
   }
 
   private async toDetail(user: SignedInUser, found: ClinicalCase): Promise<CaseDetail> {
-    const lesions = await this.em.find(Lesion, { clinicalCase: found.id }, { orderBy: { createdAt: 'asc' } });
-    const panels = await this.em.find(LabPanel, { clinicalCase: found.id }, { orderBy: { takenAt: 'desc', createdAt: 'desc' }, populate: ['enteredBy'] });
+    const lesions = await this.em.find(
+      Lesion,
+      { clinicalCase: found.id },
+      { orderBy: { createdAt: 'asc' } },
+    );
+    const panels = await this.em.find(
+      LabPanel,
+      { clinicalCase: found.id },
+      { orderBy: { takenAt: 'desc', createdAt: 'desc' }, populate: ['enteredBy'] },
+    );
     const board = found.board.getEntity();
     const presenter = await found.presenter.load();
     const isEditable = canEdit(user, found);
@@ -178,7 +242,10 @@ export class CaseService {
       id: found.id,
       caseCode: found.caseCode,
       board: { id: board.id, name: board.name },
-      presenter: { id: presenter?.id ?? found.presenter.id, displayName: presenter?.displayName ?? '' },
+      presenter: {
+        id: presenter?.id ?? found.presenter.id,
+        displayName: presenter?.displayName ?? '',
+      },
       yearOfBirth: found.yearOfBirth,
       sex: found.sex,
       primaryDiagnosis: found.primaryDiagnosis,
@@ -186,7 +253,12 @@ export class CaseService {
       ecogPerformanceStatus: found.ecogPerformanceStatus,
       hasVascularInvasion: found.hasVascularInvasion,
       hasExtrahepaticSpread: found.hasExtrahepaticSpread,
-      lesions: lesions.map((lesion) => ({ id: lesion.id, segment: lesion.segment, diameterMm: lesion.diameterMm, kind: lesion.kind })),
+      lesions: lesions.map((lesion) => ({
+        id: lesion.id,
+        segment: lesion.segment,
+        diameterMm: lesion.diameterMm,
+        kind: lesion.kind,
+      })),
       labPanels: panels.map((panel) => ({
         id: panel.id,
         takenAt: panel.takenAt.toISOString(),
@@ -211,12 +283,22 @@ export class CaseService {
 }
 
 /** Scores from the newest lab panel; a missing panel leaves every lab-based score null. */
-function scoresOf(found: ClinicalCase, lesions: Lesion[], latest: LabPanel | undefined): LiverScores {
+function scoresOf(
+  found: ClinicalCase,
+  lesions: Lesion[],
+  latest: LabPanel | undefined,
+): LiverScores {
   return computeLiverScores({
-    bilirubinMgDl: latest ? bilirubinToMgDl({ value: latest.bilirubinValue, unit: latest.bilirubinUnit }) : null,
-    albuminGDl: latest ? albuminToGDl({ value: latest.albuminValue, unit: latest.albuminUnit }) : null,
+    bilirubinMgDl: latest
+      ? bilirubinToMgDl({ value: latest.bilirubinValue, unit: latest.bilirubinUnit })
+      : null,
+    albuminGDl: latest
+      ? albuminToGDl({ value: latest.albuminValue, unit: latest.albuminUnit })
+      : null,
     inr: latest?.inr ?? null,
-    creatinineMgDl: latest ? creatinineToMgDl({ value: latest.creatinineValue, unit: latest.creatinineUnit }) : null,
+    creatinineMgDl: latest
+      ? creatinineToMgDl({ value: latest.creatinineValue, unit: latest.creatinineUnit })
+      : null,
     sodiumMmolL: latest?.sodiumMmolL ?? null,
     ascites: latest?.ascites ?? null,
     encephalopathy: latest?.encephalopathy ?? null,
@@ -236,7 +318,8 @@ function canEdit(user: SignedInUser, found: ClinicalCase): boolean {
 export function visibilityFilter(user: SignedInUser): FilterQuery<ClinicalCase> {
   const boardIds = [...user.memberships.keys()];
   if (boardIds.length === 0) return { id: { $in: [] } };
-  if (hasRole(user, 'presenting-physician', 'board-member', 'proceduralist')) return { board: { $in: boardIds } };
+  if (hasRole(user, 'presenting-physician', 'board-member', 'proceduralist'))
+    return { board: { $in: boardIds } };
   if (hasRole(user, 'nurse-coordinator')) {
     return { board: { $in: boardIds }, status: { $in: [...coordinatorVisibleStatuses] } };
   }
@@ -256,4 +339,3 @@ function toSummary(found: ClinicalCase): CaseSummary {
     updatedAt: found.updatedAt.toISOString(),
   };
 }
-

@@ -17,7 +17,12 @@ export class Lesion extends BaseEntity {
   @Property({ type: 'string', length: 24 })
   kind: LesionKind;
 
-  constructor(clinicalCase: Ref<ClinicalCase>, segment: CouinaudSegment, diameterMm: number, kind: LesionKind) {
+  constructor(
+    clinicalCase: Ref<ClinicalCase>,
+    segment: CouinaudSegment,
+    diameterMm: number,
+    kind: LesionKind,
+  ) {
     super();
     this.clinicalCase = clinicalCase;
     this.segment = segment;

@@ -10,7 +10,10 @@ export function hashPassword(password: string): Promise<string> {
   return hash(password, options);
 }
 
-export async function verifyPassword(passwordHash: string | null, password: string): Promise<boolean> {
+export async function verifyPassword(
+  passwordHash: string | null,
+  password: string,
+): Promise<boolean> {
   if (!passwordHash) {
     // Spend the same time as a real check so unknown accounts are not told apart by timing.
     await hash(password, options);

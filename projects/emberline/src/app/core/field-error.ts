@@ -15,7 +15,7 @@ export class FieldError implements PipeTransform {
 /** A server error wins (it is what the server refused); then required, then the rules. */
 export function fieldErrorText(errors: ValidationErrors | null | undefined): string {
   if (!errors) return '';
-  if (typeof errors['server'] === 'string') return capitalised(errors['server']);
+  if (typeof errors['server'] === 'string') return sentenceCase(errors['server']);
   if (errors['required']) return 'Required';
   if (typeof errors['rule'] === 'string') return errors['rule'];
   if (errors['email']) return 'Not a valid e-mail address';
@@ -31,6 +31,7 @@ export function fieldErrorText(errors: ValidationErrors | null | undefined): str
   return 'Not valid';
 }
 
-function capitalised(text: string): string {
+/** The text with its first letter in capitals ("does not match" → "Does not match"). */
+export function sentenceCase(text: string): string {
   return text.charAt(0).toUpperCase() + text.slice(1);
 }

@@ -1,5 +1,6 @@
 import type { AbstractControl, ValidationErrors, ValidatorFn } from '@angular/forms';
 import type { z } from 'zod';
+import { sentenceCase } from './field-error';
 
 /**
  * A form validator from a shared zod schema, so the browser checks a field by the same rule
@@ -50,14 +51,10 @@ export function zodIssueText(issue: z.core.$ZodIssue | undefined): string {
     case 'invalid_format':
       if (issue.format === 'email') return 'Not a valid e-mail address';
       if (issue.format === 'uuid') return 'Choose one of the options';
-      return capitalised(issue.message);
+      return sentenceCase(issue.message);
     case 'invalid_value':
       return 'Choose one of the options';
     default:
-      return capitalised(issue.message);
+      return sentenceCase(issue.message);
   }
-}
-
-function capitalised(text: string): string {
-  return text.charAt(0).toUpperCase() + text.slice(1);
 }

@@ -14,6 +14,7 @@ import { currentUserMiddleware, sessionMiddleware } from './modules/auth/session
 import { boardRoutes } from './modules/boards/board.routes';
 import { caseRoutes } from './modules/cases/case.routes';
 import { healthRoutes } from './modules/health/health.routes';
+import { samlRoutes, samlStatusRoutes } from './modules/saml/saml.routes';
 
 export interface Services {
   orm: MikroORM;
@@ -66,6 +67,8 @@ export function createApp(services: Services): Express {
 
   app.use('/api/health', healthRoutes(orm));
   app.use('/api/auth', authRoutes(orm, config));
+  app.use('/api/auth/saml', samlStatusRoutes(config));
+  if (config.saml) app.use('/api/auth/saml', samlRoutes(orm, config, config.saml));
   app.use('/api/boards', boardRoutes(orm));
   app.use('/api/cases', caseRoutes(orm));
   app.use('/api/admin', adminRoutes(orm));

@@ -11,7 +11,7 @@ const config = configFromEnvironment();
 config.clientDist =
   process.env.CLIENT_DIST ??
   fileURLToPath(new URL('../../dist/emberline/browser', import.meta.url));
-config.saml = await samlSettingsFromEnvironment(config);
+config.saml = await samlSettingsFromEnvironment(config, process.env, process.env.FAKE_IDP_DIR);
 const orm = await openDatabase();
 const sessionPool = new pg.Pool({ connectionString: databaseUrl(), max: 4 });
 const app = createApp({ orm, sessionPool, config, log: logger.error });

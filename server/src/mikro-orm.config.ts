@@ -45,6 +45,8 @@ export function ormConfig(clientUrl = databaseUrl()) {
       transactional: true,
       allOrNothing: true,
       snapshot: true,
+      // One snapshot whatever the database is called (tests use databases of their own).
+      snapshotName: '.snapshot-emberline',
       emit: 'ts',
     },
     preferTs: import.meta.url.endsWith('.ts'),

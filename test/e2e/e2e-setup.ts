@@ -5,7 +5,6 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import type { TestProject } from 'vitest/node';
-// @ts-expect-error -- a plain ES module script without types
 import {
   connectionUrl,
   dropDatabase,
@@ -52,7 +51,7 @@ export default async function setup(project: TestProject): Promise<() => Promise
   const database = `emberline_e2e_${process.pid}`;
   await dropDatabase(database, state);
   await ensureDatabase(database, state);
-  const databaseUrl = connectionUrl(database, state) as string;
+  const databaseUrl = connectionUrl(database, state);
   const env = { ...process.env, DATABASE_URL: databaseUrl };
   for (const tool of ['migrate', 'seed']) {
     const result = spawnSync(process.execPath, ['--import', 'tsx', `server/src/tools/${tool}.ts`], {
@@ -80,17 +79,16 @@ export default async function setup(project: TestProject): Promise<() => Promise
   };
   launch(['test/support/fake-idp/main.ts'], {
     FAKE_IDP_PORT: String(idpPort),
-    FAKE_IDP_DATA_DIR: idpDataDir,
+    FAKE_IDP_DIR: idpDataDir,
     SP_ACS_URL: `${baseUrl}/api/auth/saml/callback`,
     SP_ENTITY_ID: `${baseUrl}/api/auth/saml/metadata`,
   });
-  await waitForHttp(`http://127.0.0.1:${idpPort}/metadata`).catch(() => undefined);
+  await waitForHttp(`http://127.0.0.1:${idpPort}/health`);
   launch(['server/src/main.ts'], {
     PORT: String(port),
     PUBLIC_URL: baseUrl,
     CLIENT_DIST: join(root, 'dist/emberline/browser'),
-    FAKE_IDP_DATA_DIR: idpDataDir,
-    SAML_ENTRY_POINT: `http://127.0.0.1:${idpPort}/sso`,
+    FAKE_IDP_DIR: idpDataDir,
   });
   try {
     await waitForHttp(`${baseUrl}/api/health`);

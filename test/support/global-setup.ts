@@ -1,5 +1,4 @@
 import type { TestProject } from 'vitest/node';
-// @ts-expect-error -- a plain ES module script without types
 import {
   dropDatabase,
   ensureDatabase,
@@ -16,7 +15,7 @@ export default async function setup(project: TestProject): Promise<() => Promise
   const name = `emberline_test_${process.pid}`;
   await dropDatabase(name, state);
   await ensureDatabase(name, state);
-  const url = connectionUrl(name, state) as string;
+  const url = connectionUrl(name, state);
   project.provide('databaseUrl', url);
   return async () => {
     await dropDatabase(name, state);

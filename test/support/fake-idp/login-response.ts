@@ -1,6 +1,7 @@
 import { randomUUID } from 'node:crypto';
-import samlify, { type IdentityProviderInstance, type ServiceProviderInstance } from 'samlify';
+import type { IdentityProviderInstance, ServiceProviderInstance } from 'samlify';
 import type { DemoStaffMember } from './demo-staff';
+import { samlify } from './samlify-library';
 
 /**
  * Ways a response can be wrong, each one a check the service provider owes:
@@ -14,11 +15,7 @@ import type { DemoStaffMember } from './demo-staff';
  * A replay needs no fault: post the same response twice, or pass an earlier `assertionId`.
  */
 export type ResponseFault =
-  | 'tampered-signature'
-  | 'unsigned-assertion'
-  | 'wrong-audience'
-  | 'wrong-issuer'
-  | 'expired';
+  'tampered-signature' | 'unsigned-assertion' | 'wrong-audience' | 'wrong-issuer' | 'expired';
 
 export interface LoginResponseRequest {
   /** ID of the AuthnRequest answered (SAML 2.0 Core §3.2.2 InResponseTo). */
@@ -97,9 +94,12 @@ export async function buildLoginResponse(
   const notOnOrAfter = new Date(issuedMs + assertionLifetimeMs).toISOString();
   const responseId = `_${randomUUID()}`;
   const assertionId = request.assertionId ?? `_${randomUUID()}`;
-  const issuer = fault === 'wrong-issuer' ? 'https://sso.elsewhere-clinic.test/saml/idp' : parties.idpEntityId;
+  const issuer =
+    fault === 'wrong-issuer' ? 'https://sso.elsewhere-clinic.test/saml/idp' : parties.idpEntityId;
   const audience =
-    fault === 'wrong-audience' ? 'https://records.elsewhere-clinic.test/saml/sp' : parties.spEntityId;
+    fault === 'wrong-audience'
+      ? 'https://records.elsewhere-clinic.test/saml/sp'
+      : parties.spEntityId;
   const sp = fault === 'unsigned-assertion' ? parties.spWithoutAssertionSignature : parties.sp;
 
   const built = await parties.idp.createLoginResponse(

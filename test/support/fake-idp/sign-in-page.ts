@@ -83,7 +83,11 @@ export const autoSubmitScriptHash = `sha256-${createHash('sha256').update(autoSu
  * The HTTP-POST binding's hand-over (SAML 2.0 Bindings §3.5.4): a form carrying SAMLResponse to
  * the ACS, sent by script, or by the button when scripts are off.
  */
-export function handOverPage(options: { acsUrl: string; samlResponse: string; relayState: string }): string {
+export function handOverPage(options: {
+  acsUrl: string;
+  samlResponse: string;
+  relayState: string;
+}): string {
   const relayState = options.relayState
     ? `<input type="hidden" name="RelayState" value="${escapeHtml(options.relayState)}">`
     : '';
@@ -104,6 +108,6 @@ export function problemPage(message: string): string {
   return page(
     'North Hospital sign-in: cannot continue',
     `${heading}<h2>This sign-in cannot continue</h2><p>${escapeHtml(message)}</p>
-<p>Go back to Emberline and choose “Sign in with hospital account” again.</p>`,
+<p>Go back to Emberline and start the sign-in again.</p>`,
   );
 }

@@ -1,5 +1,5 @@
 import { inject } from '@angular/core';
-import { Router, type CanActivateChildFn, type CanActivateFn } from '@angular/router';
+import { Router, type CanActivateChildFn, type CanActivateFn, type CanMatchFn } from '@angular/router';
 import type { CurrentUser, Role } from '@emberline/shared';
 import { AuthSession } from './auth-session';
 
@@ -41,12 +41,16 @@ export const enrolmentGuard: CanActivateChildFn = (_route, state) => {
   return true;
 };
 
-/** A route for some roles only (the server checks again on every request). */
-export function roleGuard(...allowed: Role[]): CanActivateFn {
-  return () => {
+/**
+ * A route for some roles only (the server checks again on every request). As `canMatch` it runs
+ * before the shell's guards, so it asks for the session itself.
+ */
+export function roleGuard(...allowed: Role[]): CanMatchFn & CanActivateFn {
+  return async () => {
     const session = inject(AuthSession);
-    const user = session.user();
-    if (user && session.hasRole(...allowed)) return true;
-    return inject(Router).parseUrl(user ? homeOf(user) : '/sign-in');
+    const router = inject(Router);
+    const user = await session.load();
+    if (user && !user.mustEnrolTotp && session.hasRole(...allowed)) return true;
+    return router.parseUrl(user ? homeOf(user) : '/sign-in');
   };
 }

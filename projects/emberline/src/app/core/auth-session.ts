@@ -54,9 +54,9 @@ export class AuthSession {
       .pipe(tap((user) => this.replace(user)));
   }
 
-  signOut(): Observable<void> {
+  signOut(): Observable<null> {
     return this.http
-      .post<void>('/api/auth/logout', null, { context: handledByCaller() })
+      .post<null>('/api/auth/logout', null, { context: handledByCaller() })
       .pipe(tap({ next: () => this.forget(), error: () => this.forget() }));
   }
 

@@ -23,9 +23,6 @@ import { clinicalCaution } from '@emberline/shared';
       font: var(--mat-sys-body-small);
     }
 
-    :host(.is-compact) {
-      padding: 6px 12px;
-    }
 
     mat-icon {
       flex: none;

@@ -1,0 +1,18 @@
+import type { Routes } from '@angular/router';
+import { AdminAudit } from './admin-audit';
+import { AdminBoards } from './admin-boards';
+import { AdminLayout } from './admin-layout';
+import { AdminUsers } from './admin-users';
+
+export const adminRoutes: Routes = [
+  {
+    path: '',
+    component: AdminLayout,
+    children: [
+      { path: '', pathMatch: 'full', redirectTo: 'users' },
+      { path: 'users', title: 'Users · Administration', component: AdminUsers },
+      { path: 'boards', title: 'Boards · Administration', component: AdminBoards },
+      { path: 'audit', title: 'Audit log · Administration', component: AdminAudit },
+    ],
+  },
+];

@@ -1,0 +1,18 @@
+import type { Routes } from '@angular/router';
+import { CaseFile } from './case-file';
+import { SummarySection } from './summary-section';
+
+/**
+ * The case file and its sections. Later sections (imaging, plans, discussion, decision,
+ * logistics) join `children` and `caseFileSections`.
+ */
+export const caseFileRoutes: Routes = [
+  {
+    path: '',
+    component: CaseFile,
+    children: [
+      { path: '', pathMatch: 'full', redirectTo: 'summary' },
+      { path: 'summary', title: 'Case summary', component: SummarySection },
+    ],
+  },
+];

@@ -1,0 +1,111 @@
+import { ChangeDetectionStrategy, Component, inject, input, output, signal } from '@angular/core';
+import { FormBuilder, ReactiveFormsModule, Validators } from '@angular/forms';
+import { MatButton, MatIconButton } from '@angular/material/button';
+import { MatError, MatFormField, MatLabel, MatSuffix } from '@angular/material/form-field';
+import { MatIcon } from '@angular/material/icon';
+import { MatInput } from '@angular/material/input';
+import { MatOption, MatSelect } from '@angular/material/select';
+import { MatTableModule } from '@angular/material/table';
+import {
+  couinaudSegments,
+  createLesionSchema,
+  lesionKindLabels,
+  lesionKinds,
+  type CaseDetail,
+  type CouinaudSegment,
+  type LesionKind,
+  type LesionView,
+} from '@emberline/shared';
+import { FieldError } from '../core/field-error';
+import { applyFieldErrors } from '../core/field-errors';
+import { problemMessage } from '../core/problem';
+import { zodValidator } from '../core/zod-validator';
+import { CaseApi } from './case-api';
+import { segmentLabels } from './clinical-labels';
+import { TypedCellDef } from '../core/typed-cell-def';
+
+/** The lesions of a case by Couinaud segment, longest diameter and type; add and remove. */
+@Component({
+  selector: 'em-lesion-list',
+  imports: [
+    ReactiveFormsModule,
+    MatTableModule, TypedCellDef,
+    MatFormField,
+    MatLabel,
+    MatError,
+    MatSuffix,
+    MatInput,
+    MatSelect,
+    MatOption,
+    MatButton,
+    MatIconButton,
+    MatIcon,
+    FieldError,
+  ],
+  templateUrl: './lesion-list.html',
+  styleUrl: './lesion-list.scss',
+  changeDetection: ChangeDetectionStrategy.OnPush,
+})
+export class LesionList {
+  private readonly api = inject(CaseApi);
+
+  readonly caseId = input.required<string>();
+  readonly lesions = input.required<readonly LesionView[]>();
+  readonly canEdit = input(false);
+  readonly changed = output<CaseDetail>();
+
+  protected readonly segments = couinaudSegments;
+  protected readonly segmentLabels = segmentLabels;
+  protected readonly kinds = lesionKinds;
+  protected readonly kindLabels = lesionKindLabels;
+  protected readonly isBusy = signal(false);
+  protected readonly errorText = signal('');
+
+  protected readonly form = inject(FormBuilder).group({
+    segment: [null as CouinaudSegment | null, Validators.required],
+    diameterMm: [null as number | null, [Validators.required, zodValidator(createLesionSchema.shape.diameterMm)]],
+    kind: [null as LesionKind | null, Validators.required],
+  });
+
+  protected columns(): string[] {
+    return this.canEdit() ? ['segment', 'diameterMm', 'kind', 'actions'] : ['segment', 'diameterMm', 'kind'];
+  }
+
+  protected add(): void {
+    if (this.form.invalid) {
+      this.form.markAllAsTouched();
+      return;
+    }
+    const { segment, diameterMm, kind } = this.form.getRawValue();
+    if (segment === null || diameterMm === null || kind === null) return;
+    this.isBusy.set(true);
+    this.errorText.set('');
+    this.api.addLesion(this.caseId(), { segment, diameterMm, kind }).subscribe({
+      next: (detail) => {
+        this.isBusy.set(false);
+        this.form.reset();
+        this.changed.emit(detail);
+      },
+      error: (error: unknown) => {
+        this.isBusy.set(false);
+        const unmatched = applyFieldErrors(this.form, error);
+        this.errorText.set(['The lesion was not added.', problemMessage(error), ...unmatched].join(' '));
+      },
+    });
+  }
+
+  protected remove(lesion: LesionView): void {
+    this.isBusy.set(true);
+    this.errorText.set('');
+    this.api.removeLesion(this.caseId(), lesion.id).subscribe({
+      next: (detail) => {
+        this.isBusy.set(false);
+        this.changed.emit(detail);
+      },
+      error: (error: unknown) => {
+        this.isBusy.set(false);
+        this.errorText.set(['The lesion was not removed.', problemMessage(error)].join(' '));
+      },
+    });
+  }
+}

@@ -1,0 +1,50 @@
+import { ChangeDetectionStrategy, Component, computed, inject, signal } from '@angular/core';
+import { MatButton, MatIconButton } from '@angular/material/button';
+import { MatIcon } from '@angular/material/icon';
+import { MatTooltip } from '@angular/material/tooltip';
+import { Router, RouterLink, RouterLinkActive, RouterOutlet } from '@angular/router';
+import { roleLabels } from '@emberline/shared';
+import { AuthSession } from './auth-session';
+import { ClinicalCaution } from './clinical-caution';
+
+/** The frame of every signed-in page: top bar with navigation, the page, the caution footer. */
+@Component({
+  selector: 'em-shell',
+  imports: [RouterOutlet, RouterLink, RouterLinkActive, MatButton, MatIconButton, MatIcon, MatTooltip, ClinicalCaution],
+  templateUrl: './shell.html',
+  styleUrl: './shell.scss',
+  changeDetection: ChangeDetectionStrategy.OnPush,
+})
+export class Shell {
+  private readonly session = inject(AuthSession);
+  private readonly router = inject(Router);
+
+  protected readonly user = this.session.user;
+  protected readonly isAdministrator = this.session.isAdministrator;
+  protected readonly mayWork = computed(() => {
+    const user = this.user();
+    return !!user && !user.mustEnrolTotp && user.roles.length > 0;
+  });
+  protected readonly roleText = computed(() => {
+    const roles = this.user()?.roles ?? [];
+    return roles.length ? roles.map((role) => roleLabels[role]).join(', ') : 'No role yet';
+  });
+  protected readonly isSigningOut = signal(false);
+
+  protected skipToContent(main: HTMLElement): void {
+    main.focus();
+  }
+
+  protected signOut(): void {
+    this.isSigningOut.set(true);
+    this.session.signOut().subscribe({
+      complete: () => this.leave(),
+      error: () => this.leave(),
+    });
+  }
+
+  private leave(): void {
+    this.isSigningOut.set(false);
+    void this.router.navigateByUrl('/sign-in');
+  }
+}

@@ -7,3 +7,4 @@ export * from './api/cases';
 export * from './api/boards';
 export * from './api/audit';
 export * from './scores';
+export * from './geometry';

@@ -109,12 +109,18 @@ function squaredDistanceField(
   const longest = Math.max(nx, ny, nz);
   const scratch: EnvelopeScratch = {
     line: new Float64Array(longest),
-    result: new Float64Array(longest),
     apexes: new Int32Array(longest),
-    bounds: new Float64Array(longest + 1),
+    apexValues: new Float64Array(longest),
+    bounds: new Float64Array(longest),
   };
-  if (ny > 1) lowerEnvelopePass(field, ny, nx, nx, nz, nx * ny, spacingMm[1] ** 2, scratch);
-  if (nz > 1) lowerEnvelopePass(field, nz, nx * ny, nx * ny, 1, 0, spacingMm[2] ** 2, scratch);
+  const [, spacingJMm, spacingKMm] = spacingMm;
+  // Along j: lines start at each i of each slice. Along k: at each (i, j) of the first slice.
+  if (ny > 1) {
+    lowerEnvelopePass(field, ny, nx, nx, nz, nx * ny, spacingJMm * spacingJMm, scratch);
+  }
+  if (nz > 1) {
+    lowerEnvelopePass(field, nz, nx * ny, nx * ny, 1, 0, spacingKMm * spacingKMm, scratch);
+  }
   return field;
 }
 
@@ -144,17 +150,19 @@ function nearestSeedAlongI(
       let nextSeed = Infinity;
       for (let x = nx - 1; x >= 0; x--) {
         if ((mask[maskRow + x] !== 0) === seedIsNonZero) nextSeed = x;
-        const steps = Math.min(field[fieldRow + x], nextSeed - x);
-        field[fieldRow + x] = steps === Infinity ? Infinity : (steps * spacingIMm) ** 2;
+        const distanceMm = Math.min(field[fieldRow + x], nextSeed - x) * spacingIMm;
+        field[fieldRow + x] = distanceMm * distanceMm;
       }
     }
   }
 }
 
 interface EnvelopeScratch {
+  /** The line being transformed. */
   line: Float64Array;
-  result: Float64Array;
+  /** Per parabola of the envelope: its apex, f at the apex, and where its segment starts. */
   apexes: Int32Array;
+  apexValues: Float64Array;
   bounds: Float64Array;
 }
 
@@ -172,24 +180,25 @@ function lowerEnvelopePass(
   weightSquared: number,
   scratch: EnvelopeScratch,
 ): void {
-  const { line, result } = scratch;
+  const { line } = scratch;
   for (let outer = 0; outer < outerCount; outer++) {
     for (let inner = 0; inner < innerCount; inner++) {
       const start = outer * outerStride + inner;
       for (let p = 0; p < length; p++) line[p] = field[start + p * stride];
       lowerEnvelope(length, weightSquared, scratch);
-      for (let p = 0; p < length; p++) field[start + p * stride] = result[p];
+      for (let p = 0; p < length; p++) field[start + p * stride] = line[p];
     }
   }
 }
 
 /**
- * d(p) = min_q line[q] + w²(p − q)² for p < length (Felzenszwalb & Huttenlocher 2012, the
- * one-dimensional algorithm, with w² = `weightSquared`). Infinite entries hold no parabola;
- * a line with none stays infinite.
+ * d(p) = min_q f(q) + w²(p − q)² for p < length, f the scratch line, which d replaces
+ * (Felzenszwalb & Huttenlocher 2012, the one-dimensional algorithm, w² = `weightSquared`).
+ * Infinite entries hold no parabola; a line with none stays infinite. The envelope keeps f at
+ * each apex, so the line can be overwritten while d is filled in.
  */
 function lowerEnvelope(length: number, weightSquared: number, scratch: EnvelopeScratch): void {
-  const { line, result, apexes, bounds } = scratch;
+  const { line, apexes, apexValues, bounds } = scratch;
   let top = -1;
   for (let q = 0; q < length; q++) {
     const value = line[q];
@@ -198,23 +207,21 @@ function lowerEnvelope(length: number, weightSquared: number, scratch: EnvelopeS
     let intersection = -Infinity;
     while (top >= 0) {
       const apex = apexes[top];
-      intersection =
-        (shifted - (line[apex] + weightSquared * apex * apex)) / (2 * weightSquared * (q - apex));
+      const apexShifted = apexValues[top] + weightSquared * apex * apex;
+      intersection = (shifted - apexShifted) / (2 * weightSquared * (q - apex));
       if (intersection > bounds[top]) break;
       top--;
     }
     top++;
     apexes[top] = q;
+    apexValues[top] = value;
     bounds[top] = top === 0 ? -Infinity : intersection;
   }
-  if (top < 0) {
-    result.fill(Infinity, 0, length);
-    return;
-  }
+  if (top < 0) return;
   let segment = 0;
   for (let p = 0; p < length; p++) {
     while (segment < top && bounds[segment + 1] < p) segment++;
-    const apex = apexes[segment];
-    result[p] = line[apex] + weightSquared * (p - apex) * (p - apex);
+    const fromApex = p - apexes[segment];
+    line[p] = apexValues[segment] + weightSquared * fromApex * fromApex;
   }
 }

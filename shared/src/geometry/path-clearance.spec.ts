@@ -131,7 +131,11 @@ describe('clearance beside an analytic cylinder (a vessel of radius r)', () => {
     // Outside centres are all beyond r from the axis; one lies within 2h of radius r + h.
     expect(clearance.minimumDistanceMm).toBeGreaterThanOrEqual(-radiusMm - aboveMm);
     expect(clearance.minimumDistanceMm).toBeLessThanOrEqual(-radiusMm + belowMm);
-    expect(clearance.minimumFromEntryMm).toBeCloseTo(10, -Math.log10(2 * aboveMm));
+    // The signed field is V-shaped there (slope 1 either side), so the error budget (−h, +3h)
+    // places the minimum within 4h of the axis.
+    expect(Math.abs((clearance.minimumFromEntryMm ?? NaN) - 10)).toBeLessThanOrEqual(
+      belowMm + aboveMm,
+    );
   });
 
   it('reports where the minimum lies consistently: distance from entry, LPS, field value', () => {
@@ -284,7 +288,7 @@ describe('fields and paths at the edges', () => {
     ],
   };
 
-  it('interpolates trilinearly between voxel centres (a linear field is reproduced exactly)', () => {
+  it('interpolates trilinearly between centres, reproducing a linear field exactly', () => {
     const valuesMm = Float32Array.from({ length: 64 }, (_, index) => {
       const [i, j, k] = [index % 4, Math.floor(index / 4) % 4, Math.floor(index / 16)];
       return 2 * i - j + 0.5 * k + 3;

@@ -7,6 +7,11 @@
  * distance there to the same centres by at most half a voxel diagonal, either way:
  * Σ wₙ|cₙ − p| ≤ √(Σ wₙ|cₙ − p|²) = √(Σ Δ²·t(1 − t)) ≤ ½√(Δi² + Δj² + Δk²), with wₙ the
  * corner weights and t the fractional position along each axis. See `halfVoxelDiagonalMm`.
+ *
+ * A distance transform measures to the centres of a structure's voxels, not to the structure:
+ * for a vessel voxelised by its centres that reads 0 to 2 half-diagonals more than the
+ * distance to its true wall (path-clearance.spec.ts derives it). Safety thresholds must allow
+ * for it, or subtract the bound for a conservative reading.
  */
 import { lpsToVoxel, voxelCount, type VolumeGeometry } from './patient-geometry';
 import { addScaled, distance, subtract, type Vec3 } from './vector';
@@ -74,9 +79,9 @@ export function sampleField(field: DistanceField, pointLps: Readonly<Vec3>): num
  * Smallest distance along the path from entry to tip (LPS, millimetres) in a distance field
  * (an unsigned transform: clearance to the structure; a signed one: negative while inside),
  * sampled every `maximumStepMm` at most, and where it lies. Interpolation is within
- * `halfVoxelDiagonalMm` of the distance to the voxelised structure; between samples the
- * distance can dip below the sampled minimum by at most half a step (the field changes by at
- * most 1 mm per mm).
+ * `halfVoxelDiagonalMm` of the distance to the voxelised structure; that distance changes by
+ * at most 1 mm per mm, so between samples it can fall below the smallest sample by at most
+ * half a step more.
  */
 export function pathClearance(
   field: DistanceField,
@@ -116,9 +121,10 @@ export function pathClearance(
 /**
  * Length of the path from entry to tip (LPS, millimetres) that runs inside a structure, by the
  * sign of its signed distance field (negative inside; see `signedDistanceTransform`). Where
- * the sign changes between two samples the crossing is placed by linear interpolation, which
- * puts it on the voxel face between a boundary pair of centres; samples beyond the grid count
- * as outside, their crossing at the midpoint. Millimetres.
+ * the sign changes between two samples the crossing is placed by linear interpolation: where
+ * the field is linear between a boundary pair of centres (across a flat face) that is the
+ * voxel face itself. Samples beyond the grid count as outside, their crossing at the
+ * midpoint. Millimetres.
  */
 export function lengthInsideSignedField(
   field: DistanceField,

@@ -122,7 +122,7 @@ describe(`an oblique series, ${PS3_3}`, () => {
     expect(dot(x, cross(y, z))).toBeCloseTo(1, 12);
   });
 
-  it('puts every pixel where its own slice places it (equation 1 of the section, per slice)', () => {
+  it('puts every pixel where its own slice places it (the section’s equation, per slice)', () => {
     sliceOrder.forEach((input, k) => {
       const slice = slices[input];
       const [rowSpacing, columnSpacing] = slice.pixelSpacing;
@@ -250,6 +250,13 @@ describe('refused series', () => {
       sliceIndices: [0],
     },
     {
+      name: 'an infinite Pixel Spacing',
+      slices: withSlice(1, { pixelSpacing: [0.7, Infinity] }),
+      problem: 'invalid-attribute',
+      message: /Slice 2: Pixel Spacing must hold 2 positive numbers/,
+      sliceIndices: [1],
+    },
+    {
       name: 'a fractional number of rows',
       slices: withSlice(4, { rows: 511.5 }),
       problem: 'invalid-attribute',
@@ -305,7 +312,7 @@ describe('refused series', () => {
       slices: [0, 1, 3, 4, 5].map((k) => withSliceAt(0, 50 + 2.5 * k)[0]),
       problem: 'missing-slice',
       message:
-        /at 52.50 mm and 57.50 mm along the slice normal are 5.00 mm apart, about 2 × the series spacing of 2.50 mm: 1 slice is missing/,
+        /52.50 mm and 57.50 mm .* 5.00 mm apart, about 2 × the series spacing of 2.50 mm: 1 slice/,
       sliceIndices: [1, 2],
     },
     {

@@ -110,7 +110,10 @@ export type SeriesGeometryProblem =
   | 'uneven-spacing'
   | 'sheared-stack';
 
-/** A series refused by `geometryFromSlices`; the message is fit to show to the user. */
+/**
+ * A series refused by `geometryFromSlices`. The message is fit to show to the user; in it,
+ * "slice n" counts the slices as given, from 1.
+ */
 export class SeriesGeometryError extends Error {
   override readonly name = 'SeriesGeometryError';
 
@@ -213,7 +216,8 @@ function checkAttributes(slice: SliceGeometryAttributes, index: number): void {
   if (slice.imageOrientationPatient.length !== 6 || !allFinite(slice.imageOrientationPatient)) {
     refuse('Image Orientation (Patient) must hold 6 finite numbers');
   }
-  if (slice.pixelSpacing.length !== 2 || !slice.pixelSpacing.every((value) => value > 0)) {
+  const isPositive = (value: number) => value > 0 && Number.isFinite(value);
+  if (slice.pixelSpacing.length !== 2 || !slice.pixelSpacing.every(isPositive)) {
     refuse('Pixel Spacing must hold 2 positive numbers');
   }
   for (const [name, value] of [

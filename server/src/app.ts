@@ -2,7 +2,7 @@ import express, { type Express } from 'express';
 import cookieParser from 'cookie-parser';
 import helmet from 'helmet';
 import { existsSync } from 'node:fs';
-import { join } from 'node:path';
+import { join, resolve } from 'node:path';
 import { RequestContext, type MikroORM } from '@mikro-orm/postgresql';
 import type { Pool } from 'pg';
 import type { AppConfig } from './config';
@@ -75,7 +75,7 @@ export function createApp(services: Services): Express {
   app.use('/api', notFoundHandler);
 
   if (config.clientDist && existsSync(join(config.clientDist, 'index.html'))) {
-    const dist = config.clientDist;
+    const dist = resolve(config.clientDist);
     app.use(express.static(dist, { index: false, maxAge: '1h' }));
     app.get('/{*splat}', (_request, response) => {
       response.sendFile(join(dist, 'index.html'), { headers: { 'Cache-Control': 'no-cache' } });

@@ -10,10 +10,15 @@ export function typeInto(fixture: ComponentFixture<unknown>, selector: string, t
 
 /** Submits the form the way a press on Enter or the submit button does. */
 export function submit(fixture: ComponentFixture<unknown>, selector = 'form'): void {
-  element<HTMLFormElement>(fixture, selector).dispatchEvent(new Event('submit', { bubbles: true, cancelable: true }));
+  element<HTMLFormElement>(fixture, selector).dispatchEvent(
+    new Event('submit', { bubbles: true, cancelable: true }),
+  );
 }
 
-export function element<T extends Element = HTMLElement>(fixture: ComponentFixture<unknown>, selector: string): T {
+export function element<T extends Element = HTMLElement>(
+  fixture: ComponentFixture<unknown>,
+  selector: string,
+): T {
   const found = (fixture.nativeElement as HTMLElement).querySelector<T>(selector);
   if (!found) throw new Error(`Nothing matches ${selector}`);
   return found;

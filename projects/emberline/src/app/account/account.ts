@@ -9,14 +9,23 @@ import { roleLabels, specialtyLabels, totpConfirmSchema, type TotpSetup } from '
 import { homeOf } from '../core/access-guards';
 import { AuthSession } from '../core/auth-session';
 import { FieldError } from '../core/field-error';
-import { applyFieldErrors } from '../core/field-errors';
+import { applyFieldErrors } from '../core/server-field-errors';
 import { problemMessage } from '../core/problem';
 import { zodValidator } from '../core/zod-validator';
 
 /** The user's own account: who they are, their boards, and the second factor (TOTP). */
 @Component({
   selector: 'em-account',
-  imports: [ReactiveFormsModule, MatFormField, MatLabel, MatError, MatInput, MatButton, MatIcon, FieldError],
+  imports: [
+    ReactiveFormsModule,
+    MatFormField,
+    MatLabel,
+    MatError,
+    MatInput,
+    MatButton,
+    MatIcon,
+    FieldError,
+  ],
   templateUrl: './account.html',
   styleUrl: './account.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
@@ -33,7 +42,12 @@ export class Account {
   protected readonly errorText = signal('');
   protected readonly doneText = signal('');
   /** The secret in groups of four characters, easier to type into an authenticator app. */
-  protected readonly groupedSecret = computed(() => this.setup()?.secret.match(/.{1,4}/g)?.join(' ') ?? '');
+  protected readonly groupedSecret = computed(
+    () =>
+      this.setup()
+        ?.secret.match(/.{1,4}/g)
+        ?.join(' ') ?? '',
+  );
 
   protected readonly confirmForm = inject(NonNullableFormBuilder).group({
     code: ['', [Validators.required, zodValidator(totpConfirmSchema.shape.code)]],
@@ -67,7 +81,9 @@ export class Account {
         this.isBusy.set(false);
         this.setup.set(null);
         this.confirmForm.reset();
-        this.doneText.set('The second factor is set up. From now on, sign-in asks for a code from the app.');
+        this.doneText.set(
+          'The second factor is set up. From now on, sign-in asks for a code from the app.',
+        );
         if (wasRequired) void this.router.navigateByUrl(homeOf(user));
       },
       error: (error: unknown) => {

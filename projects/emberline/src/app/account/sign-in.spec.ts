@@ -47,7 +47,12 @@ describe('SignIn', () => {
   beforeEach(async () => {
     await TestBed.configureTestingModule({
       imports: [SignIn],
-      providers: [provideZonelessChangeDetection(), provideRouter([]), provideHttpClient(), provideHttpClientTesting()],
+      providers: [
+        provideZonelessChangeDetection(),
+        provideRouter([]),
+        provideHttpClient(),
+        provideHttpClientTesting(),
+      ],
     }).compileComponents();
     http = TestBed.inject(HttpTestingController);
     router = TestBed.inject(Router);
@@ -61,11 +66,17 @@ describe('SignIn', () => {
     enterCredentials();
 
     const login = http.expectOne('/api/auth/login');
-    expect(login.request.body).toEqual({ email: 'presenter@emberline.test', password: 'ember-demo-2026' });
-    login.flush(problem(401, TOTP_REQUIRED_PROBLEM, 'Enter the six-digit code from your authenticator app.'), {
-      status: 401,
-      statusText: 'Unauthorized',
+    expect(login.request.body).toEqual({
+      email: 'presenter@emberline.test',
+      password: 'ember-demo-2026',
     });
+    login.flush(
+      problem(401, TOTP_REQUIRED_PROBLEM, 'Enter the six-digit code from your authenticator app.'),
+      {
+        status: 401,
+        statusText: 'Unauthorized',
+      },
+    );
     await fixture.whenStable();
 
     expect(element(fixture, '#sign-in-code')).toBeTruthy();
@@ -79,7 +90,10 @@ describe('SignIn', () => {
     enterCredentials();
     http
       .expectOne('/api/auth/login')
-      .flush(problem(401, TOTP_REQUIRED_PROBLEM, 'Enter the code.'), { status: 401, statusText: 'Unauthorized' });
+      .flush(problem(401, TOTP_REQUIRED_PROBLEM, 'Enter the code.'), {
+        status: 401,
+        statusText: 'Unauthorized',
+      });
     await fixture.whenStable();
 
     typeInto(fixture, '#sign-in-code', '123456');
@@ -102,14 +116,20 @@ describe('SignIn', () => {
     enterCredentials();
     http
       .expectOne('/api/auth/login')
-      .flush(problem(401, TOTP_REQUIRED_PROBLEM, 'Enter the code.'), { status: 401, statusText: 'Unauthorized' });
+      .flush(problem(401, TOTP_REQUIRED_PROBLEM, 'Enter the code.'), {
+        status: 401,
+        statusText: 'Unauthorized',
+      });
     await fixture.whenStable();
     typeInto(fixture, '#sign-in-code', '000000');
     submit(fixture);
 
     http
       .expectOne('/api/auth/login')
-      .flush(problem(401, TOTP_REQUIRED_PROBLEM, 'The code is not correct.'), { status: 401, statusText: 'Unauthorized' });
+      .flush(problem(401, TOTP_REQUIRED_PROBLEM, 'The code is not correct.'), {
+        status: 401,
+        statusText: 'Unauthorized',
+      });
     await fixture.whenStable();
 
     expect(element(fixture, '[role="alert"]').textContent).toContain('The code is not correct.');
@@ -121,7 +141,10 @@ describe('SignIn', () => {
     enterCredentials();
     http
       .expectOne('/api/auth/login')
-      .flush(problem(401, TOTP_REQUIRED_PROBLEM, 'Enter the code.'), { status: 401, statusText: 'Unauthorized' });
+      .flush(problem(401, TOTP_REQUIRED_PROBLEM, 'Enter the code.'), {
+        status: 401,
+        statusText: 'Unauthorized',
+      });
     await fixture.whenStable();
 
     typeInto(fixture, '#sign-in-code', '12 34');
@@ -143,8 +166,12 @@ describe('SignIn', () => {
       });
     await fixture.whenStable();
 
-    expect(element(fixture, '[role="alert"]').textContent).toContain('The e-mail address or password is not correct.');
-    expect(element<HTMLInputElement>(fixture, '#sign-in-email').value).toBe('presenter@emberline.test');
+    expect(element(fixture, '[role="alert"]').textContent).toContain(
+      'The e-mail address or password is not correct.',
+    );
+    expect(element<HTMLInputElement>(fixture, '#sign-in-email').value).toBe(
+      'presenter@emberline.test',
+    );
     expect(element<HTMLInputElement>(fixture, '#sign-in-password').value).toBe('ember-demo-2026');
     expect(fixture.nativeElement.querySelector('#sign-in-code')).toBeNull();
   });
@@ -154,10 +181,17 @@ describe('SignIn', () => {
     enterCredentials();
     http
       .expectOne('/api/auth/login')
-      .flush(problem(429, 'urn:emberline:problem:rate-limited', 'Too many sign-in attempts. Wait a few minutes, then try again.'), {
-        status: 429,
-        statusText: 'Too Many Requests',
-      });
+      .flush(
+        problem(
+          429,
+          'urn:emberline:problem:rate-limited',
+          'Too many sign-in attempts. Wait a few minutes, then try again.',
+        ),
+        {
+          status: 429,
+          statusText: 'Too Many Requests',
+        },
+      );
     await fixture.whenStable();
 
     expect(element(fixture, '[role="alert"]').textContent).toContain('Wait a few minutes');
@@ -174,6 +208,8 @@ describe('SignIn', () => {
 
   it('explains a refused hospital sign-on', async () => {
     await open(true, { sso: 'refused' });
-    expect(element(fixture, '[role="alert"]').textContent).toContain('Hospital sign-on did not let you in');
+    expect(element(fixture, '[role="alert"]').textContent).toContain(
+      'Sign-in through the hospital SSO did not succeed',
+    );
   });
 });

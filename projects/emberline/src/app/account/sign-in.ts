@@ -7,11 +7,16 @@ import { MatError, MatFormField, MatHint, MatLabel } from '@angular/material/for
 import { MatInput } from '@angular/material/input';
 import { MatProgressBar } from '@angular/material/progress-bar';
 import { Router } from '@angular/router';
-import { loginRequestSchema, totpConfirmSchema, type CurrentUser, type LoginRequest } from '@emberline/shared';
+import {
+  loginRequestSchema,
+  totpConfirmSchema,
+  type CurrentUser,
+  type LoginRequest,
+} from '@emberline/shared';
 import { homeOf } from '../core/access-guards';
 import { AuthSession } from '../core/auth-session';
 import { FieldError } from '../core/field-error';
-import { applyFieldErrors } from '../core/field-errors';
+import { applyFieldErrors } from '../core/server-field-errors';
 import { handledByCaller } from '../core/http-context-tokens';
 import { TOTP_REQUIRED_PROBLEM, problemMessage, problemOf } from '../core/problem';
 import { zodValidator } from '../core/zod-validator';
@@ -21,7 +26,17 @@ type Step = 'credentials' | 'code';
 /** Local sign-in (e-mail and password, then a six-digit code when the account has one) and SSO. */
 @Component({
   selector: 'em-sign-in',
-  imports: [ReactiveFormsModule, MatFormField, MatLabel, MatInput, MatError, MatHint, MatButton, MatProgressBar, FieldError],
+  imports: [
+    ReactiveFormsModule,
+    MatFormField,
+    MatLabel,
+    MatInput,
+    MatError,
+    MatHint,
+    MatButton,
+    MatProgressBar,
+    FieldError,
+  ],
   templateUrl: './sign-in.html',
   styleUrl: './sign-in.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
@@ -100,13 +115,18 @@ export class SignIn {
     if (problem?.status === 401 && problem.type === TOTP_REQUIRED_PROBLEM) {
       if (this.step() === 'credentials' && request.code === undefined) {
         this.step.set('code');
-        this.codePrompt.set(problem.detail ?? 'Enter the six-digit code from your authenticator app.');
+        this.codePrompt.set(
+          problem.detail ?? 'Enter the six-digit code from your authenticator app.',
+        );
         return;
       }
       this.errorText.set(problem.detail ?? 'The code is not correct.');
       return;
     }
-    const unmatched = applyFieldErrors(this.step() === 'code' ? this.codeForm : this.credentials, error);
+    const unmatched = applyFieldErrors(
+      this.step() === 'code' ? this.codeForm : this.credentials,
+      error,
+    );
     this.errorText.set([problemMessage(error), ...unmatched].join(' '));
   }
 
@@ -114,7 +134,8 @@ export class SignIn {
     const home = homeOf(user);
     const returnUrl = this.returnUrl();
     const isSafeReturn = !!returnUrl && returnUrl.startsWith('/') && !returnUrl.startsWith('//');
-    const target = home === '/cases' && isSafeReturn && !returnUrl.startsWith('/sign-in') ? returnUrl : home;
+    const target =
+      home === '/cases' && isSafeReturn && !returnUrl.startsWith('/sign-in') ? returnUrl : home;
     void this.router.navigateByUrl(target).finally(() => this.isPending.set(false));
   }
 }

@@ -62,7 +62,10 @@ export class AdminApi {
   }
 
   addMember(boardId: string, userId: string, specialty: Specialty): Observable<null> {
-    return this.http.post<null>(`/api/admin/boards/${encodeURIComponent(boardId)}/members`, { userId, specialty });
+    return this.http.post<null>(`/api/admin/boards/${encodeURIComponent(boardId)}/members`, {
+      userId,
+      specialty,
+    });
   }
 
   removeMember(boardId: string, userId: string): Observable<null> {
@@ -76,7 +79,9 @@ export class AdminApi {
   }
 
   setRolePolicy(role: Role, requiresTotp: boolean): Observable<RolePolicyView> {
-    return this.http.put<RolePolicyView>(`/api/admin/role-policies/${encodeURIComponent(role)}`, { requiresTotp });
+    return this.http.put<RolePolicyView>(`/api/admin/role-policies/${encodeURIComponent(role)}`, {
+      requiresTotp,
+    });
   }
 
   audit(query: () => AuditQuery): HttpResourceRef<Page<AuditEventView> | undefined> {

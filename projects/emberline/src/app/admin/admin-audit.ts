@@ -1,5 +1,12 @@
 import { DatePipe } from '@angular/common';
-import { ChangeDetectionStrategy, Component, computed, inject, linkedSignal, signal } from '@angular/core';
+import {
+  ChangeDetectionStrategy,
+  Component,
+  computed,
+  inject,
+  linkedSignal,
+  signal,
+} from '@angular/core';
 import { toSignal } from '@angular/core/rxjs-interop';
 import { NonNullableFormBuilder, ReactiveFormsModule } from '@angular/forms';
 import { MatButton } from '@angular/material/button';
@@ -30,7 +37,8 @@ interface AuditFilters {
   imports: [
     DatePipe,
     ReactiveFormsModule,
-    MatTableModule, TypedCellDef,
+    MatTableModule,
+    TypedCellDef,
     MatPaginator,
     MatProgressBar,
     MatFormField,
@@ -75,13 +83,18 @@ export class AdminAudit {
     ...toQueryFilters(this.appliedFilters()),
   }));
   protected readonly events = this.api.audit(this.query);
-  private readonly lastPage = linkedSignal<Page<AuditEventView> | undefined, Page<AuditEventView> | undefined>({
+  private readonly lastPage = linkedSignal<
+    Page<AuditEventView> | undefined,
+    Page<AuditEventView> | undefined
+  >({
     source: () => (this.events.hasValue() ? this.events.value() : undefined),
     computation: (page, previous) => page ?? previous?.value,
   });
   protected readonly rows = computed(() => this.lastPage()?.items ?? []);
   protected readonly total = computed(() => this.lastPage()?.total ?? 0);
-  protected readonly errorText = computed(() => (this.events.error() ? problemMessage(this.events.error()) : ''));
+  protected readonly errorText = computed(() =>
+    this.events.error() ? problemMessage(this.events.error()) : '',
+  );
 
   protected changePage(event: PageEvent): void {
     if (event.pageSize !== this.pageSize()) {

@@ -1,5 +1,10 @@
 import { ChangeDetectionStrategy, Component, computed, inject, signal } from '@angular/core';
-import { NonNullableFormBuilder, ReactiveFormsModule, Validators } from '@angular/forms';
+import {
+  NonNullableFormBuilder,
+  ReactiveFormsModule,
+  Validators,
+  type FormGroupDirective,
+} from '@angular/forms';
 import { MatButton } from '@angular/material/button';
 import { MatError, MatFormField, MatLabel } from '@angular/material/form-field';
 import { MatInput } from '@angular/material/input';
@@ -7,7 +12,7 @@ import { MatProgressBar } from '@angular/material/progress-bar';
 import { MatTableModule } from '@angular/material/table';
 import { createBoardSchema } from '@emberline/shared';
 import { FieldError } from '../core/field-error';
-import { applyFieldErrors } from '../core/field-errors';
+import { applyFieldErrors } from '../core/server-field-errors';
 import { problemMessage } from '../core/problem';
 import { zodValidator } from '../core/zod-validator';
 import { AdminApi } from './admin-api';
@@ -16,7 +21,18 @@ import { TypedCellDef } from '../core/typed-cell-def';
 /** Every board, and a form to create one. Members are added from the users' page. */
 @Component({
   selector: 'em-admin-boards',
-  imports: [ReactiveFormsModule, MatTableModule, TypedCellDef, MatFormField, MatLabel, MatError, MatInput, MatButton, MatProgressBar, FieldError],
+  imports: [
+    ReactiveFormsModule,
+    MatTableModule,
+    TypedCellDef,
+    MatFormField,
+    MatLabel,
+    MatError,
+    MatInput,
+    MatButton,
+    MatProgressBar,
+    FieldError,
+  ],
   template: `
     <div class="area">
       <section class="em-panel table-panel" aria-labelledby="all-boards-title">
@@ -25,22 +41,24 @@ import { TypedCellDef } from '../core/typed-cell-def';
           <mat-progress-bar mode="indeterminate" aria-label="Loading boards" />
         }
         @if (loadError()) {
-          <p class="em-error-text" role="alert">The boards could not be loaded: {{ loadError() }}</p>
+          <p class="em-error-text" role="alert">
+            The boards could not be loaded: {{ loadError() }}
+          </p>
           <button mat-stroked-button type="button" (click)="boards.reload()">Try again</button>
         } @else if (boards.hasValue()) {
-          <div class="em-table-scroll">
+          <div class="em-table-scroll" tabindex="0" role="region" aria-label="Boards table">
             <table mat-table [dataSource]="boards.value()" aria-labelledby="all-boards-title">
               <ng-container matColumnDef="name">
                 <th mat-header-cell *matHeaderCellDef>Name</th>
-                <td mat-cell *emCellDef="let board; of: boards.value()">{{ board.name }}</td>
+                <td mat-cell *emCellDef="let board of boards.value()">{{ board.name }}</td>
               </ng-container>
               <ng-container matColumnDef="description">
                 <th mat-header-cell *matHeaderCellDef>Description</th>
-                <td mat-cell *emCellDef="let board; of: boards.value()">{{ board.description }}</td>
+                <td mat-cell *emCellDef="let board of boards.value()">{{ board.description }}</td>
               </ng-container>
               <ng-container matColumnDef="memberCount">
                 <th mat-header-cell *matHeaderCellDef>Members</th>
-                <td mat-cell *emCellDef="let board; of: boards.value()">{{ board.memberCount }}</td>
+                <td mat-cell *emCellDef="let board of boards.value()">{{ board.memberCount }}</td>
               </ng-container>
               <tr mat-header-row *matHeaderRowDef="columns"></tr>
               <tr mat-row *matRowDef="let row; columns: columns"></tr>
@@ -54,7 +72,7 @@ import { TypedCellDef } from '../core/typed-cell-def';
 
       <section class="em-panel" aria-labelledby="new-board-title">
         <h2 id="new-board-title">New board</h2>
-        <form [formGroup]="form" (ngSubmit)="create()">
+        <form [formGroup]="form" #formDirective="ngForm" (ngSubmit)="create(formDirective)">
           <mat-form-field>
             <mat-label>Name</mat-label>
             <input matInput id="new-board-name" formControlName="name" autocomplete="off" />
@@ -64,7 +82,12 @@ import { TypedCellDef } from '../core/typed-cell-def';
           </mat-form-field>
           <mat-form-field>
             <mat-label>Description</mat-label>
-            <textarea matInput id="new-board-description" formControlName="description" rows="3"></textarea>
+            <textarea
+              matInput
+              id="new-board-description"
+              formControlName="description"
+              rows="3"
+            ></textarea>
             @if (form.controls.description.invalid) {
               <mat-error>{{ form.controls.description.errors | fieldError }}</mat-error>
             }
@@ -114,13 +137,15 @@ export class AdminBoards {
   protected readonly isSaving = signal(false);
   protected readonly errorText = signal('');
   protected readonly savedText = signal('');
-  protected readonly loadError = computed(() => (this.boards.error() ? problemMessage(this.boards.error()) : ''));
+  protected readonly loadError = computed(() =>
+    this.boards.error() ? problemMessage(this.boards.error()) : '',
+  );
   protected readonly form = inject(NonNullableFormBuilder).group({
     name: ['', [Validators.required, zodValidator(createBoardSchema.shape.name)]],
     description: ['', zodValidator(createBoardSchema.shape.description)],
   });
 
-  protected create(): void {
+  protected create(formDirective: FormGroupDirective): void {
     if (this.form.invalid) {
       this.form.markAllAsTouched();
       return;
@@ -131,14 +156,16 @@ export class AdminBoards {
     this.api.createBoard(this.form.getRawValue()).subscribe({
       next: (board) => {
         this.isSaving.set(false);
-        this.form.reset();
+        formDirective.resetForm();
         this.savedText.set(`Board ${board.name} created.`);
         this.boards.reload();
       },
       error: (error: unknown) => {
         this.isSaving.set(false);
         const unmatched = applyFieldErrors(this.form, error);
-        this.errorText.set(['The board was not created.', problemMessage(error), ...unmatched].join(' '));
+        this.errorText.set(
+          ['The board was not created.', problemMessage(error), ...unmatched].join(' '),
+        );
       },
     });
   }

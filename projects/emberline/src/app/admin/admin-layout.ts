@@ -11,7 +11,13 @@ import { RouterLink, RouterLinkActive, RouterOutlet } from '@angular/router';
       <h1 id="admin-title">Administration</h1>
       <nav mat-tab-nav-bar [tabPanel]="panel" aria-label="Areas of administration">
         @for (area of areas; track area.path) {
-          <a mat-tab-link [routerLink]="area.path" routerLinkActive #active="routerLinkActive" [active]="active.isActive">
+          <a
+            mat-tab-link
+            [routerLink]="area.path"
+            routerLinkActive
+            #active="routerLinkActive"
+            [active]="active.isActive"
+          >
             {{ area.label }}
           </a>
         }

@@ -16,7 +16,15 @@ import { TypedCellDef } from '../core/typed-cell-def';
 /** Accounts, their roles, activity and board memberships; and the second-factor policy by role. */
 @Component({
   selector: 'em-admin-users',
-  imports: [DatePipe, MatTableModule, TypedCellDef, MatButton, MatIcon, MatProgressBar, RolePolicies],
+  imports: [
+    DatePipe,
+    MatTableModule,
+    TypedCellDef,
+    MatButton,
+    MatIcon,
+    MatProgressBar,
+    RolePolicies,
+  ],
   templateUrl: './admin-users.html',
   styleUrl: './admin-users.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
@@ -27,9 +35,19 @@ export class AdminUsers {
 
   protected readonly users = this.api.users();
   private readonly boards = this.api.boards();
-  protected readonly columns = ['name', 'roles', 'signIn', 'boards', 'lastSignInAt', 'status', 'actions'];
+  protected readonly columns = [
+    'name',
+    'roles',
+    'signIn',
+    'boards',
+    'lastSignInAt',
+    'status',
+    'actions',
+  ];
   protected readonly specialtyLabels = specialtyLabels;
-  protected readonly errorText = computed(() => (this.users.error() ? problemMessage(this.users.error()) : ''));
+  protected readonly errorText = computed(() =>
+    this.users.error() ? problemMessage(this.users.error()) : '',
+  );
 
   protected roleText(roles: readonly Role[]): string {
     return roles.length ? roles.map((role) => roleLabels[role]).join(', ') : 'No role';
@@ -37,7 +55,10 @@ export class AdminUsers {
 
   protected openCreate(): void {
     this.dialog
-      .open<UserCreateDialog, undefined, AdminUserView>(UserCreateDialog, { width: '520px', maxWidth: '95vw' })
+      .open<UserCreateDialog, undefined, AdminUserView>(UserCreateDialog, {
+        width: '520px',
+        maxWidth: '95vw',
+      })
       .afterClosed()
       .subscribe((created) => {
         if (created) this.users.reload();
@@ -45,9 +66,16 @@ export class AdminUsers {
   }
 
   protected openManage(user: AdminUserView): void {
-    const data: UserManageData = { user, boards: this.boards.hasValue() ? this.boards.value() : [] };
+    const data: UserManageData = {
+      user,
+      boards: this.boards.hasValue() ? this.boards.value() : [],
+    };
     this.dialog
-      .open<UserManageDialog, UserManageData>(UserManageDialog, { data, width: '640px', maxWidth: '95vw' })
+      .open<UserManageDialog, UserManageData>(UserManageDialog, {
+        data,
+        width: '640px',
+        maxWidth: '95vw',
+      })
       .afterClosed()
       .subscribe(() => this.users.reload());
   }

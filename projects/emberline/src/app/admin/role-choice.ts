@@ -8,7 +8,8 @@ export const roleOptions = roles.map((role) => ({ role, label: roleLabels[role] 
 
 export function roleChoice(granted: readonly Role[]): RoleChoice {
   const controls = {} as Record<Role, FormControl<boolean>>;
-  for (const role of roles) controls[role] = new FormControl(granted.includes(role), { nonNullable: true });
+  for (const role of roles)
+    controls[role] = new FormControl(granted.includes(role), { nonNullable: true });
   return new FormGroup(controls);
 }
 

@@ -14,14 +14,16 @@ import { AdminApi } from './admin-api';
     <section class="em-panel" aria-labelledby="policies-title">
       <h2 id="policies-title">Second factor by role</h2>
       <p class="em-note">
-        A user holding any role that requires it must set up an authenticator app before doing anything else.
-        Hospital SSO accounts rely on the identity provider's own second factor.
+        A user holding any role that requires it must set up an authenticator app before doing
+        anything else. Hospital SSO accounts rely on the identity provider's own second factor.
       </p>
       @if (policies.isLoading()) {
         <mat-progress-bar mode="indeterminate" aria-label="Loading role policies" />
       }
       @if (loadError()) {
-        <p class="em-error-text" role="alert">The policies could not be loaded: {{ loadError() }}</p>
+        <p class="em-error-text" role="alert">
+          The policies could not be loaded: {{ loadError() }}
+        </p>
         <button mat-stroked-button type="button" (click)="policies.reload()">Try again</button>
       } @else if (policies.hasValue()) {
         <ul>
@@ -62,7 +64,9 @@ export class RolePolicies {
   protected readonly roleLabels = roleLabels;
   protected readonly savingRole = signal<string | null>(null);
   protected readonly errorText = signal('');
-  protected readonly loadError = computed(() => (this.policies.error() ? problemMessage(this.policies.error()) : ''));
+  protected readonly loadError = computed(() =>
+    this.policies.error() ? problemMessage(this.policies.error()) : '',
+  );
 
   protected change(policy: RolePolicyView, event: MatSlideToggleChange): void {
     this.savingRole.set(policy.role);
@@ -70,7 +74,9 @@ export class RolePolicies {
     this.api.setRolePolicy(policy.role, event.checked).subscribe({
       next: (saved) => {
         this.savingRole.set(null);
-        this.policies.update((list) => list?.map((item) => (item.role === saved.role ? saved : item)));
+        this.policies.update((list) =>
+          list?.map((item) => (item.role === saved.role ? saved : item)),
+        );
       },
       error: (error: unknown) => {
         this.savingRole.set(null);

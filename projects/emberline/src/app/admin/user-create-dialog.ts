@@ -13,7 +13,7 @@ import { MatError, MatFormField, MatHint, MatLabel } from '@angular/material/for
 import { MatInput } from '@angular/material/input';
 import { createUserSchema, passwordSchema, type AdminUserView } from '@emberline/shared';
 import { FieldError } from '../core/field-error';
-import { applyFieldErrors } from '../core/field-errors';
+import { applyFieldErrors } from '../core/server-field-errors';
 import { problemMessage } from '../core/problem';
 import { zodValidator } from '../core/zod-validator';
 import { AdminApi } from './admin-api';
@@ -43,7 +43,13 @@ import { chosenRoles, roleChoice, roleOptions } from './role-choice';
       <mat-dialog-content>
         <mat-form-field>
           <mat-label>E-mail address</mat-label>
-          <input matInput id="new-user-email" type="email" formControlName="email" autocomplete="off" />
+          <input
+            matInput
+            id="new-user-email"
+            type="email"
+            formControlName="email"
+            autocomplete="off"
+          />
           @if (form.controls.email.invalid) {
             <mat-error>{{ form.controls.email.errors | fieldError }}</mat-error>
           }
@@ -57,8 +63,17 @@ import { chosenRoles, roleChoice, roleOptions } from './role-choice';
         </mat-form-field>
         <mat-form-field>
           <mat-label>Initial password</mat-label>
-          <input matInput id="new-user-password" type="password" formControlName="password" autocomplete="new-password" />
-          <mat-hint>At least 12 characters. Leave empty for an account that signs in only through hospital SSO.</mat-hint>
+          <input
+            matInput
+            id="new-user-password"
+            type="password"
+            formControlName="password"
+            autocomplete="new-password"
+          />
+          <mat-hint
+            >At least 12 characters. Leave empty for an account that signs in only through hospital
+            SSO.</mat-hint
+          >
           @if (form.controls.password.invalid) {
             <mat-error>{{ form.controls.password.errors | fieldError }}</mat-error>
           }
@@ -124,13 +139,20 @@ export class UserCreateDialog {
     this.isSaving.set(true);
     this.errorText.set('');
     this.api
-      .createUser({ email, displayName, roles: chosenRoles(this.form.controls.roles), password: password || undefined })
+      .createUser({
+        email,
+        displayName,
+        roles: chosenRoles(this.form.controls.roles),
+        password: password || undefined,
+      })
       .subscribe({
         next: (created) => this.dialogRef.close(created),
         error: (error: unknown) => {
           this.isSaving.set(false);
           const unmatched = applyFieldErrors(this.form, error);
-          this.errorText.set(['The account was not created.', problemMessage(error), ...unmatched].join(' '));
+          this.errorText.set(
+            ['The account was not created.', problemMessage(error), ...unmatched].join(' '),
+          );
         },
       });
   }

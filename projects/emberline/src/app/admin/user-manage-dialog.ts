@@ -1,8 +1,19 @@
 import { ChangeDetectionStrategy, Component, computed, inject, signal } from '@angular/core';
-import { NonNullableFormBuilder, ReactiveFormsModule, Validators } from '@angular/forms';
+import {
+  NonNullableFormBuilder,
+  ReactiveFormsModule,
+  Validators,
+  type FormGroupDirective,
+} from '@angular/forms';
 import { MatButton, MatIconButton } from '@angular/material/button';
 import { MatCheckbox } from '@angular/material/checkbox';
-import { MAT_DIALOG_DATA, MatDialogActions, MatDialogContent, MatDialogRef, MatDialogTitle } from '@angular/material/dialog';
+import {
+  MAT_DIALOG_DATA,
+  MatDialogActions,
+  MatDialogContent,
+  MatDialogRef,
+  MatDialogTitle,
+} from '@angular/material/dialog';
 import { MatError, MatFormField, MatLabel } from '@angular/material/form-field';
 import { MatIcon } from '@angular/material/icon';
 import { MatInput } from '@angular/material/input';
@@ -17,7 +28,7 @@ import {
   type Specialty,
 } from '@emberline/shared';
 import { FieldError } from '../core/field-error';
-import { applyFieldErrors } from '../core/field-errors';
+import { applyFieldErrors } from '../core/server-field-errors';
 import { problemMessage } from '../core/problem';
 import { zodValidator } from '../core/zod-validator';
 import { AdminApi, type UserChange } from './admin-api';
@@ -72,7 +83,10 @@ export class UserManageDialog {
   protected readonly membershipError = signal('');
 
   protected readonly accountForm = this.formBuilder.group({
-    displayName: [this.data.user.displayName, [Validators.required, zodValidator(createUserSchema.shape.displayName)]],
+    displayName: [
+      this.data.user.displayName,
+      [Validators.required, zodValidator(createUserSchema.shape.displayName)],
+    ],
     roles: roleChoice(this.data.user.roles),
     isActive: [this.data.user.isActive],
   });
@@ -81,7 +95,9 @@ export class UserManageDialog {
     specialty: ['' as Specialty | '', Validators.required],
   });
   protected readonly boardsToJoin = computed(() =>
-    this.data.boards.filter((board) => !this.memberships().some((membership) => membership.boardId === board.id)),
+    this.data.boards.filter(
+      (board) => !this.memberships().some((membership) => membership.boardId === board.id),
+    ),
   );
 
   protected saveAccount(): void {
@@ -116,7 +132,7 @@ export class UserManageDialog {
     });
   }
 
-  protected addMembership(): void {
+  protected addMembership(formDirective: FormGroupDirective): void {
     const { boardId, specialty } = this.membershipForm.getRawValue();
     if (this.membershipForm.invalid || specialty === '') {
       this.membershipForm.markAllAsTouched();
@@ -128,13 +144,18 @@ export class UserManageDialog {
     this.api.addMember(boardId, this.user().id, specialty).subscribe({
       next: () => {
         this.isBusy.set(false);
-        this.memberships.update((list) => [...list, { boardId, boardName: board?.name ?? boardId, specialty }]);
-        this.membershipForm.reset();
+        this.memberships.update((list) => [
+          ...list,
+          { boardId, boardName: board?.name ?? boardId, specialty },
+        ]);
+        formDirective.resetForm();
       },
       error: (error: unknown) => {
         this.isBusy.set(false);
         const unmatched = applyFieldErrors(this.membershipForm, error);
-        this.membershipError.set(['The membership was not added.', problemMessage(error), ...unmatched].join(' '));
+        this.membershipError.set(
+          ['The membership was not added.', problemMessage(error), ...unmatched].join(' '),
+        );
       },
     });
   }
@@ -145,11 +166,15 @@ export class UserManageDialog {
     this.api.removeMember(membership.boardId, this.user().id).subscribe({
       next: () => {
         this.isBusy.set(false);
-        this.memberships.update((list) => list.filter((item) => item.boardId !== membership.boardId));
+        this.memberships.update((list) =>
+          list.filter((item) => item.boardId !== membership.boardId),
+        );
       },
       error: (error: unknown) => {
         this.isBusy.set(false);
-        this.membershipError.set(['The membership was not removed.', problemMessage(error)].join(' '));
+        this.membershipError.set(
+          ['The membership was not removed.', problemMessage(error)].join(' '),
+        );
       },
     });
   }

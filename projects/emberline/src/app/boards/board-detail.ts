@@ -16,7 +16,9 @@ import { TypedCellDef } from '../core/typed-cell-def';
   imports: [RouterLink, MatTableModule, TypedCellDef, MatProgressBar, MatButton, MatIcon],
   template: `
     <section class="em-page" aria-labelledby="board-title">
-      <a class="back" routerLink="/boards"><mat-icon aria-hidden="true">arrow_back</mat-icon> All boards</a>
+      <a class="back" routerLink="/boards"
+        ><mat-icon aria-hidden="true">arrow_back</mat-icon> All boards</a
+      >
       <h1 id="board-title">{{ board()?.name ?? 'Board' }}</h1>
       @if (board()?.description) {
         <p>{{ board()?.description }}</p>
@@ -30,28 +32,38 @@ import { TypedCellDef } from '../core/typed-cell-def';
           <button mat-stroked-button type="button" (click)="members.reload()">Try again</button>
         </div>
       } @else if (members.hasValue()) {
-        <div class="em-panel em-table-scroll">
+        <div class="em-panel">
           <h2 id="members-title">Members</h2>
-          <table mat-table [dataSource]="members.value()" aria-labelledby="members-title">
-            <ng-container matColumnDef="displayName">
-              <th mat-header-cell *matHeaderCellDef>Name</th>
-              <td mat-cell *emCellDef="let member; of: members.value()">{{ member.displayName }}</td>
-            </ng-container>
-            <ng-container matColumnDef="specialty">
-              <th mat-header-cell *matHeaderCellDef>Specialty on this board</th>
-              <td mat-cell *emCellDef="let member; of: members.value()">{{ specialtyLabels[member.specialty] }}</td>
-            </ng-container>
-            <ng-container matColumnDef="roles">
-              <th mat-header-cell *matHeaderCellDef>Roles</th>
-              <td mat-cell *emCellDef="let member; of: members.value()">{{ roleText(member.roles) }}</td>
-            </ng-container>
-            <ng-container matColumnDef="email">
-              <th mat-header-cell *matHeaderCellDef>E-mail</th>
-              <td mat-cell *emCellDef="let member; of: members.value()"><a [href]="'mailto:' + member.email">{{ member.email }}</a></td>
-            </ng-container>
-            <tr mat-header-row *matHeaderRowDef="columns"></tr>
-            <tr mat-row *matRowDef="let row; columns: columns"></tr>
-          </table>
+          <div class="em-table-scroll" tabindex="0" role="region" aria-labelledby="members-title">
+            <table mat-table [dataSource]="members.value()" aria-labelledby="members-title">
+              <ng-container matColumnDef="displayName">
+                <th mat-header-cell *matHeaderCellDef>Name</th>
+                <td mat-cell *emCellDef="let member of members.value()">
+                  {{ member.displayName }}
+                </td>
+              </ng-container>
+              <ng-container matColumnDef="specialty">
+                <th mat-header-cell *matHeaderCellDef>Specialty on this board</th>
+                <td mat-cell *emCellDef="let member of members.value()">
+                  {{ specialtyLabels[member.specialty] }}
+                </td>
+              </ng-container>
+              <ng-container matColumnDef="roles">
+                <th mat-header-cell *matHeaderCellDef>Roles</th>
+                <td mat-cell *emCellDef="let member of members.value()">
+                  {{ roleText(member.roles) }}
+                </td>
+              </ng-container>
+              <ng-container matColumnDef="email">
+                <th mat-header-cell *matHeaderCellDef>E-mail</th>
+                <td mat-cell *emCellDef="let member of members.value()">
+                  <a [href]="'mailto:' + member.email">{{ member.email }}</a>
+                </td>
+              </ng-container>
+              <tr mat-header-row *matHeaderRowDef="columns"></tr>
+              <tr mat-row *matRowDef="let row; columns: columns"></tr>
+            </table>
+          </div>
         </div>
       }
     </section>
@@ -80,7 +92,9 @@ export class BoardDetail {
   private readonly boards = this.api.boards();
   protected readonly members = this.api.members(this.id);
   protected readonly board = computed(() =>
-    this.boards.hasValue() ? this.boards.value().find((board) => board.id === this.id()) : undefined,
+    this.boards.hasValue()
+      ? this.boards.value().find((board) => board.id === this.id())
+      : undefined,
   );
   protected readonly columns = ['displayName', 'specialty', 'roles', 'email'];
   protected readonly specialtyLabels = specialtyLabels;

@@ -26,7 +26,9 @@ import { BoardApi } from './board-api';
           <ul class="boards">
             @for (board of boards.value(); track board.id) {
               <li class="em-panel">
-                <h2><a [routerLink]="['/boards', board.id]">{{ board.name }}</a></h2>
+                <h2>
+                  <a [routerLink]="['/boards', board.id]">{{ board.name }}</a>
+                </h2>
                 @if (board.description) {
                   <p>{{ board.description }}</p>
                 }
@@ -40,7 +42,9 @@ import { BoardApi } from './board-api';
             }
           </ul>
         } @else {
-          <p class="em-panel">You are not a member of any board yet. An administrator adds members to boards.</p>
+          <p class="em-panel">
+            You are not a member of any board yet. An administrator adds members to boards.
+          </p>
         }
       }
     </section>
@@ -64,5 +68,7 @@ import { BoardApi } from './board-api';
 export class BoardList {
   protected readonly boards = inject(BoardApi).boards();
   protected readonly specialtyLabels = specialtyLabels;
-  protected readonly errorText = computed(() => (this.boards.error() ? problemMessage(this.boards.error()) : ''));
+  protected readonly errorText = computed(() =>
+    this.boards.error() ? problemMessage(this.boards.error()) : '',
+  );
 }

@@ -19,7 +19,10 @@ export class CaseApi {
 
   /** A page of the case register; asked again whenever the query changes. */
   register(query: () => CaseListQuery): HttpResourceRef<Page<CaseSummary> | undefined> {
-    return httpResource<Page<CaseSummary>>(() => ({ url: '/api/cases', params: registerParams(query()) }));
+    return httpResource<Page<CaseSummary>>(() => ({
+      url: '/api/cases',
+      params: registerParams(query()),
+    }));
   }
 
   /** One case file; idle while the id is undefined. */
@@ -59,7 +62,11 @@ export class CaseApi {
 
 /** Query parameters of the register, leaving out empty filters. */
 export function registerParams(query: CaseListQuery): Record<string, string | number> {
-  const params: Record<string, string | number> = { page: query.page, size: query.size, sort: query.sort };
+  const params: Record<string, string | number> = {
+    page: query.page,
+    size: query.size,
+    sort: query.sort,
+  };
   if (query.q) params['q'] = query.q;
   if (query.status) params['status'] = query.status;
   if (query.boardId) params['boardId'] = query.boardId;

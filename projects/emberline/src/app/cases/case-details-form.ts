@@ -1,4 +1,13 @@
-import { ChangeDetectionStrategy, Component, effect, inject, input, output, signal } from '@angular/core';
+import {
+  ChangeDetectionStrategy,
+  Component,
+  computed,
+  effect,
+  inject,
+  input,
+  output,
+  signal,
+} from '@angular/core';
 import { FormBuilder, ReactiveFormsModule, Validators } from '@angular/forms';
 import { MatButton } from '@angular/material/button';
 import { MatError, MatFormField, MatHint, MatLabel } from '@angular/material/form-field';
@@ -7,13 +16,14 @@ import { MatRadioButton, MatRadioGroup } from '@angular/material/radio';
 import { MatOption, MatSelect } from '@angular/material/select';
 import {
   caseStatusLabels,
+  primaryDiagnosisLabels,
   type CaseDetail,
   type PrimaryDiagnosis,
   type Sex,
   type UpdateCaseRequest,
 } from '@emberline/shared';
 import { FieldError } from '../core/field-error';
-import { applyFieldErrors } from '../core/field-errors';
+import { applyFieldErrors } from '../core/server-field-errors';
 import { problemMessage } from '../core/problem';
 import { CaseApi } from './case-api';
 import {
@@ -24,10 +34,11 @@ import {
   sexOptions,
   yearOfBirthValidators,
 } from './case-form-options';
+import { ecogLabels, findingLabel, sexLabels } from './clinical-labels';
 
 type EditableStatus = 'draft' | 'ready-for-board';
 
-/** The case's own fields, saved with PATCH; read-only for those who may not edit the case. */
+/** The case's own fields, saved with PATCH; a plain list of values for those who may not edit. */
 @Component({
   selector: 'em-case-details-form',
   imports: [
@@ -59,6 +70,13 @@ export class CaseDetailsForm {
   protected readonly ecogOptions = ecogOptions;
   protected readonly findingOptions = findingOptions;
   protected readonly statusLabels = caseStatusLabels;
+  protected readonly sexLabels = sexLabels;
+  protected readonly diagnosisLabels = primaryDiagnosisLabels;
+  protected readonly findingLabel = findingLabel;
+  protected readonly ecogText = computed(() => {
+    const ecog = this.detail().ecogPerformanceStatus;
+    return ecog === null ? 'Not recorded' : (ecogLabels[ecog] ?? String(ecog));
+  });
   protected readonly editableStatuses: readonly EditableStatus[] = ['draft', 'ready-for-board'];
   protected readonly isSaving = signal(false);
   protected readonly errorText = signal('');

@@ -12,7 +12,9 @@ import { CaseApi } from './case-api';
 @Injectable()
 export class CaseFileState {
   private readonly route = inject(ActivatedRoute);
-  readonly caseId = toSignal(this.route.paramMap.pipe(map((params) => params.get('id') ?? undefined)));
+  readonly caseId = toSignal(
+    this.route.paramMap.pipe(map((params) => params.get('id') ?? undefined)),
+  );
   readonly resource = inject(CaseApi).detail(this.caseId);
   readonly detail = computed<CaseDetail | undefined>(() =>
     this.resource.hasValue() ? this.resource.value() : undefined,

@@ -14,12 +14,25 @@ import { CaseFileState } from './case-file-state';
 import { CaseStatusBadge } from './case-status-badge';
 
 /** The sections of a case file, in order (DESIGN.md §3); only the summary exists so far. */
-export const caseFileSections: readonly { path: string; label: string }[] = [{ path: 'summary', label: 'Summary' }];
+export const caseFileSections: readonly { path: string; label: string }[] = [
+  { path: 'summary', label: 'Summary' },
+];
 
 /** The case file: its header and the navigation between its sections. */
 @Component({
   selector: 'em-case-file',
-  imports: [RouterOutlet, RouterLink, RouterLinkActive, MatTabNav, MatTabLink, MatTabNavPanel, MatProgressBar, MatButton, MatIcon, CaseStatusBadge],
+  imports: [
+    RouterOutlet,
+    RouterLink,
+    RouterLinkActive,
+    MatTabNav,
+    MatTabLink,
+    MatTabNavPanel,
+    MatProgressBar,
+    MatButton,
+    MatIcon,
+    CaseStatusBadge,
+  ],
   providers: [CaseFileState],
   templateUrl: './case-file.html',
   styleUrl: './case-file.scss',
@@ -50,7 +63,8 @@ export class CaseFile {
     if (!detail) return;
     const data: ConfirmDialogData = {
       title: `Delete case ${detail.caseCode}?`,
-      message: 'The draft, its lesions and its laboratory values are deleted. This cannot be undone.',
+      message:
+        'The draft, its lesions and its laboratory values are deleted. This cannot be undone.',
       confirmLabel: 'Delete draft',
     };
     this.dialog

@@ -1,5 +1,13 @@
 import { DatePipe } from '@angular/common';
-import { ChangeDetectionStrategy, Component, computed, effect, inject, linkedSignal, signal } from '@angular/core';
+import {
+  ChangeDetectionStrategy,
+  Component,
+  computed,
+  effect,
+  inject,
+  linkedSignal,
+  signal,
+} from '@angular/core';
 import { toSignal } from '@angular/core/rxjs-interop';
 import { FormControl, ReactiveFormsModule } from '@angular/forms';
 import { MatButton } from '@angular/material/button';
@@ -44,7 +52,8 @@ export const FILTER_DEBOUNCE_MS = 300;
     DatePipe,
     ReactiveFormsModule,
     RouterLink,
-    MatTableModule, TypedCellDef,
+    MatTableModule,
+    TypedCellDef,
     MatSort,
     MatSortHeader,
     MatPaginator,
@@ -71,12 +80,21 @@ export class CaseRegister {
   private readonly route = inject(ActivatedRoute);
   private readonly initial = this.route.snapshot.queryParamMap;
 
-  protected readonly columns = ['caseCode', 'board', 'presenter', 'primaryDiagnosis', 'status', 'nextMeetingAt'];
+  protected readonly columns = [
+    'caseCode',
+    'board',
+    'presenter',
+    'primaryDiagnosis',
+    'status',
+    'nextMeetingAt',
+  ];
   protected readonly statuses = caseStatuses;
   protected readonly statusLabels = caseStatusLabels;
   protected readonly diagnosisLabels = primaryDiagnosisLabels;
   protected readonly boards = computed(() => this.session.user()?.boards ?? []);
-  protected readonly mayCreate = computed(() => this.session.roles().includes('presenting-physician'));
+  protected readonly mayCreate = computed(() =>
+    this.session.roles().includes('presenting-physician'),
+  );
 
   protected readonly filter = new FormControl(this.initial.get('q') ?? '', { nonNullable: true });
   private readonly search = toSignal(
@@ -90,7 +108,9 @@ export class CaseRegister {
   protected readonly status = signal<CaseStatus | ''>(initialStatus(this.initial.get('status')));
   protected readonly boardId = signal(this.initial.get('boardId') ?? '');
   protected readonly sort = signal<Sort>(initialSort(this.initial.get('sort')));
-  protected readonly pageSize = signal(initialNumber(this.initial.get('size'), DEFAULT_PAGE_SIZE, 1, 100));
+  protected readonly pageSize = signal(
+    initialNumber(this.initial.get('size'), DEFAULT_PAGE_SIZE, 1, 100),
+  );
   /** Back to the first page whenever the filter, sort or page size changes. */
   protected readonly pageIndex = linkedSignal<unknown, number>({
     source: () => [this.search(), this.status(), this.boardId(), this.sort(), this.pageSize()],
@@ -109,13 +129,18 @@ export class CaseRegister {
 
   protected readonly cases = this.api.register(this.query);
   /** The last page that arrived, kept on screen while the next one loads. */
-  private readonly lastPage = linkedSignal<Page<CaseSummary> | undefined, Page<CaseSummary> | undefined>({
+  private readonly lastPage = linkedSignal<
+    Page<CaseSummary> | undefined,
+    Page<CaseSummary> | undefined
+  >({
     source: () => (this.cases.hasValue() ? this.cases.value() : undefined),
     computation: (page, previous) => page ?? previous?.value,
   });
   protected readonly rows = computed(() => this.lastPage()?.items ?? []);
   protected readonly total = computed(() => this.lastPage()?.total ?? 0);
-  protected readonly errorText = computed(() => (this.cases.error() ? problemMessage(this.cases.error()) : ''));
+  protected readonly errorText = computed(() =>
+    this.cases.error() ? problemMessage(this.cases.error()) : '',
+  );
 
   constructor() {
     effect(() => this.keepQueryInAddress(this.query()));
@@ -139,7 +164,11 @@ export class CaseRegister {
 
   protected openNewCase(): void {
     this.dialog
-      .open<NewCaseDialog, undefined, CaseDetail>(NewCaseDialog, { width: '640px', maxWidth: '95vw', autoFocus: 'first-tabbable' })
+      .open<NewCaseDialog, undefined, CaseDetail>(NewCaseDialog, {
+        width: '640px',
+        maxWidth: '95vw',
+        autoFocus: 'first-tabbable',
+      })
       .afterClosed()
       .subscribe((created) => {
         if (created) void this.router.navigate(['/cases', created.id]);
@@ -174,7 +203,14 @@ function initialSort(value: string | null): Sort {
   return { active: field, direction: direction === 'desc' ? 'desc' : 'asc' };
 }
 
-function initialNumber(value: string | null, fallback: number, minimum: number, maximum: number): number {
+function initialNumber(
+  value: string | null,
+  fallback: number,
+  minimum: number,
+  maximum: number,
+): number {
   const number = Number(value);
-  return value !== null && Number.isInteger(number) && number >= minimum && number <= maximum ? number : fallback;
+  return value !== null && Number.isInteger(number) && number >= minimum && number <= maximum
+    ? number
+    : fallback;
 }

@@ -1,9 +1,4 @@
-import type {
-  Ascites,
-  CouinaudSegment,
-  Encephalopathy,
-  Sex,
-} from '@emberline/shared';
+import type { Ascites, CouinaudSegment, Encephalopathy, Sex } from '@emberline/shared';
 
 /** Words the case file shows for coded values that `@emberline/shared` does not label. */
 export const sexLabels: Record<Sex, string> = {

@@ -1,4 +1,13 @@
-import { ChangeDetectionStrategy, Component, DestroyRef, computed, inject, input, output, signal } from '@angular/core';
+import {
+  ChangeDetectionStrategy,
+  Component,
+  DestroyRef,
+  computed,
+  inject,
+  input,
+  output,
+  signal,
+} from '@angular/core';
 import { takeUntilDestroyed, toSignal } from '@angular/core/rxjs-interop';
 import {
   FormBuilder,
@@ -6,6 +15,7 @@ import {
   Validators,
   type AbstractControl,
   type FormControl,
+  type FormGroupDirective,
   type FormGroup,
 } from '@angular/forms';
 import { MatButton } from '@angular/material/button';
@@ -33,7 +43,7 @@ import {
 } from '@emberline/shared';
 import { map } from 'rxjs';
 import { FieldError } from '../core/field-error';
-import { applyFieldErrors } from '../core/field-errors';
+import { applyFieldErrors } from '../core/server-field-errors';
 import { problemMessage } from '../core/problem';
 import { measuredValueValidator, zodValidator } from '../core/zod-validator';
 import { CaseApi } from './case-api';
@@ -75,7 +85,10 @@ export class LabPanelForm {
   readonly saved = output<CaseDetail>();
 
   protected readonly unitLabels = unitLabels;
-  protected readonly ascitesOptions = ascitesGrades.map((value) => ({ value, label: ascitesLabels[value] }));
+  protected readonly ascitesOptions = ascitesGrades.map((value) => ({
+    value,
+    label: ascitesLabels[value],
+  }));
   protected readonly encephalopathyOptions = encephalopathyGrades.map((value) => ({
     value,
     label: encephalopathyLabels[value],
@@ -86,7 +99,10 @@ export class LabPanelForm {
   protected readonly savedText = signal('');
 
   protected readonly form = this.formBuilder.group({
-    takenAt: this.formBuilder.nonNullable.control(this.today, [Validators.required, zodValidator(shape.takenAt)]),
+    takenAt: this.formBuilder.nonNullable.control(this.today, [
+      Validators.required,
+      zodValidator(shape.takenAt),
+    ]),
     bilirubin: this.measured<BilirubinUnit>('umol/L', shape.bilirubin),
     albumin: this.measured<AlbuminUnit>('g/L', shape.albumin),
     inr: [null as number | null, [Validators.required, zodValidator(shape.inr)]],
@@ -130,7 +146,7 @@ export class LabPanelForm {
     for (const group of [bilirubin, albumin, creatinine]) this.revalidateOnUnitChange(group);
   }
 
-  protected save(): void {
+  protected save(formDirective: FormGroupDirective): void {
     if (this.form.invalid) {
       this.form.markAllAsTouched();
       this.errorText.set('Some values are missing or not plausible; see the marked fields.');
@@ -144,14 +160,16 @@ export class LabPanelForm {
     this.api.addLabPanel(this.caseId(), body).subscribe({
       next: (detail) => {
         this.isSaving.set(false);
-        this.clearValues();
+        this.clearValues(formDirective);
         this.savedText.set('Panel added; the scores are recomputed.');
         this.saved.emit(detail);
       },
       error: (error: unknown) => {
         this.isSaving.set(false);
         const unmatched = applyFieldErrors(this.form, error);
-        this.errorText.set(['The panel was not added.', problemMessage(error), ...unmatched].join(' '));
+        this.errorText.set(
+          ['The panel was not added.', problemMessage(error), ...unmatched].join(' '),
+        );
       },
     });
   }
@@ -185,10 +203,13 @@ export class LabPanelForm {
     };
   }
 
-  /** Empties the values for the next panel; keeps the units and the date as they were. */
-  private clearValues(): void {
+  /**
+   * Empties the values for the next panel; keeps the units and the date as they were. Resets
+   * through the directive so that its "submitted" state goes too and no field shows an error.
+   */
+  private clearValues(formDirective: FormGroupDirective): void {
     const value = this.form.getRawValue();
-    this.form.reset({
+    formDirective.resetForm({
       takenAt: value.takenAt,
       bilirubin: { value: null, unit: value.bilirubin.unit },
       albumin: { value: null, unit: value.albumin.unit },
@@ -202,9 +223,15 @@ export class LabPanelForm {
     });
   }
 
-  private measured<U extends string>(unit: U, schema: Parameters<typeof measuredValueValidator>[0]) {
+  private measured<U extends string>(
+    unit: U,
+    schema: Parameters<typeof measuredValueValidator>[0],
+  ) {
     return this.formBuilder.nonNullable.group({
-      value: this.formBuilder.control<number | null>(null, [Validators.required, measuredValueValidator(schema)]),
+      value: this.formBuilder.control<number | null>(null, [
+        Validators.required,
+        measuredValueValidator(schema),
+      ]),
       unit: this.formBuilder.nonNullable.control<U>(unit),
     });
   }

@@ -11,53 +11,63 @@ import { TypedCellDef } from '../core/typed-cell-def';
   imports: [DatePipe, MatTableModule, TypedCellDef],
   template: `
     @if (panels().length) {
-      <div class="em-table-scroll">
+      <div class="em-table-scroll" tabindex="0" role="region" aria-label="Laboratory panels table">
         <table mat-table [dataSource]="panels()" aria-label="Laboratory panels, newest first">
           <ng-container matColumnDef="takenAt">
             <th mat-header-cell *matHeaderCellDef>Taken</th>
-            <td mat-cell *emCellDef="let panel; of: panels()">
+            <td mat-cell *emCellDef="let panel of panels()">
               <time [attr.datetime]="panel.takenAt">{{ panel.takenAt | date: 'd MMM y' }}</time>
             </td>
           </ng-container>
           <ng-container matColumnDef="bilirubin">
             <th mat-header-cell *matHeaderCellDef>Bilirubin</th>
-            <td mat-cell *emCellDef="let panel; of: panels()">{{ panel.bilirubin.value }} {{ unitLabels[panel.bilirubin.unit] }}</td>
+            <td mat-cell *emCellDef="let panel of panels()">
+              {{ panel.bilirubin.value }} {{ unitLabels[panel.bilirubin.unit] }}
+            </td>
           </ng-container>
           <ng-container matColumnDef="albumin">
             <th mat-header-cell *matHeaderCellDef>Albumin</th>
-            <td mat-cell *emCellDef="let panel; of: panels()">{{ panel.albumin.value }} {{ unitLabels[panel.albumin.unit] }}</td>
+            <td mat-cell *emCellDef="let panel of panels()">
+              {{ panel.albumin.value }} {{ unitLabels[panel.albumin.unit] }}
+            </td>
           </ng-container>
           <ng-container matColumnDef="inr">
             <th mat-header-cell *matHeaderCellDef>INR</th>
-            <td mat-cell *emCellDef="let panel; of: panels()">{{ panel.inr }}</td>
+            <td mat-cell *emCellDef="let panel of panels()">{{ panel.inr }}</td>
           </ng-container>
           <ng-container matColumnDef="creatinine">
             <th mat-header-cell *matHeaderCellDef>Creatinine</th>
-            <td mat-cell *emCellDef="let panel; of: panels()">{{ panel.creatinine.value }} {{ unitLabels[panel.creatinine.unit] }}</td>
+            <td mat-cell *emCellDef="let panel of panels()">
+              {{ panel.creatinine.value }} {{ unitLabels[panel.creatinine.unit] }}
+            </td>
           </ng-container>
           <ng-container matColumnDef="sodium">
             <th mat-header-cell *matHeaderCellDef>Sodium</th>
-            <td mat-cell *emCellDef="let panel; of: panels()">{{ panel.sodiumMmolL }} mmol/L</td>
+            <td mat-cell *emCellDef="let panel of panels()">{{ panel.sodiumMmolL }} mmol/L</td>
           </ng-container>
           <ng-container matColumnDef="platelets">
             <th mat-header-cell *matHeaderCellDef>Platelets</th>
-            <td mat-cell *emCellDef="let panel; of: panels()">{{ panel.plateletsE9L }} × 10⁹/L</td>
+            <td mat-cell *emCellDef="let panel of panels()">{{ panel.plateletsE9L }} × 10⁹/L</td>
           </ng-container>
           <ng-container matColumnDef="ascites">
             <th mat-header-cell *matHeaderCellDef>Ascites</th>
-            <td mat-cell *emCellDef="let panel; of: panels()">{{ ascitesLabels[panel.ascites] }}</td>
+            <td mat-cell *emCellDef="let panel of panels()">{{ ascitesLabels[panel.ascites] }}</td>
           </ng-container>
           <ng-container matColumnDef="encephalopathy">
             <th mat-header-cell *matHeaderCellDef>Encephalopathy</th>
-            <td mat-cell *emCellDef="let panel; of: panels()">{{ encephalopathyLabels[panel.encephalopathy] }}</td>
+            <td mat-cell *emCellDef="let panel of panels()">
+              {{ encephalopathyLabels[panel.encephalopathy] }}
+            </td>
           </ng-container>
           <ng-container matColumnDef="dialysis">
             <th mat-header-cell *matHeaderCellDef>Dialysis</th>
-            <td mat-cell *emCellDef="let panel; of: panels()">{{ panel.dialysisTwiceInPastWeek ? 'Yes' : 'No' }}</td>
+            <td mat-cell *emCellDef="let panel of panels()">
+              {{ panel.dialysisTwiceInPastWeek ? 'Yes' : 'No' }}
+            </td>
           </ng-container>
           <ng-container matColumnDef="enteredBy">
             <th mat-header-cell *matHeaderCellDef>Entered by</th>
-            <td mat-cell *emCellDef="let panel; of: panels()">{{ panel.enteredBy }}</td>
+            <td mat-cell *emCellDef="let panel of panels()">{{ panel.enteredBy }}</td>
           </ng-container>
           <tr mat-header-row *matHeaderRowDef="columns"></tr>
           <tr mat-row *matRowDef="let row; columns: columns"></tr>

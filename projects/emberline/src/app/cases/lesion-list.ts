@@ -1,5 +1,10 @@
 import { ChangeDetectionStrategy, Component, inject, input, output, signal } from '@angular/core';
-import { FormBuilder, ReactiveFormsModule, Validators } from '@angular/forms';
+import {
+  FormBuilder,
+  ReactiveFormsModule,
+  Validators,
+  type FormGroupDirective,
+} from '@angular/forms';
 import { MatButton, MatIconButton } from '@angular/material/button';
 import { MatError, MatFormField, MatLabel, MatSuffix } from '@angular/material/form-field';
 import { MatIcon } from '@angular/material/icon';
@@ -17,7 +22,7 @@ import {
   type LesionView,
 } from '@emberline/shared';
 import { FieldError } from '../core/field-error';
-import { applyFieldErrors } from '../core/field-errors';
+import { applyFieldErrors } from '../core/server-field-errors';
 import { problemMessage } from '../core/problem';
 import { zodValidator } from '../core/zod-validator';
 import { CaseApi } from './case-api';
@@ -29,7 +34,8 @@ import { TypedCellDef } from '../core/typed-cell-def';
   selector: 'em-lesion-list',
   imports: [
     ReactiveFormsModule,
-    MatTableModule, TypedCellDef,
+    MatTableModule,
+    TypedCellDef,
     MatFormField,
     MatLabel,
     MatError,
@@ -63,15 +69,20 @@ export class LesionList {
 
   protected readonly form = inject(FormBuilder).group({
     segment: [null as CouinaudSegment | null, Validators.required],
-    diameterMm: [null as number | null, [Validators.required, zodValidator(createLesionSchema.shape.diameterMm)]],
+    diameterMm: [
+      null as number | null,
+      [Validators.required, zodValidator(createLesionSchema.shape.diameterMm)],
+    ],
     kind: [null as LesionKind | null, Validators.required],
   });
 
   protected columns(): string[] {
-    return this.canEdit() ? ['segment', 'diameterMm', 'kind', 'actions'] : ['segment', 'diameterMm', 'kind'];
+    return this.canEdit()
+      ? ['segment', 'diameterMm', 'kind', 'actions']
+      : ['segment', 'diameterMm', 'kind'];
   }
 
-  protected add(): void {
+  protected add(formDirective: FormGroupDirective): void {
     if (this.form.invalid) {
       this.form.markAllAsTouched();
       return;
@@ -83,13 +94,15 @@ export class LesionList {
     this.api.addLesion(this.caseId(), { segment, diameterMm, kind }).subscribe({
       next: (detail) => {
         this.isBusy.set(false);
-        this.form.reset();
+        formDirective.resetForm();
         this.changed.emit(detail);
       },
       error: (error: unknown) => {
         this.isBusy.set(false);
         const unmatched = applyFieldErrors(this.form, error);
-        this.errorText.set(['The lesion was not added.', problemMessage(error), ...unmatched].join(' '));
+        this.errorText.set(
+          ['The lesion was not added.', problemMessage(error), ...unmatched].join(' '),
+        );
       },
     });
   }

@@ -37,17 +37,23 @@ export class LiverScoresCard {
       line(
         'childPugh',
         'Child-Pugh',
-        scores.childPugh === null ? null : `${scores.childPugh.points} points · class ${scores.childPugh.class}`,
+        scores.childPugh === null
+          ? null
+          : `${scores.childPugh.points} points · class ${scores.childPugh.class}`,
       ),
       line(
         'albi',
         'ALBI',
-        scores.albi === null ? null : `${signedDecimal(scores.albi.score, 3)} · grade ${scores.albi.grade}`,
+        scores.albi === null
+          ? null
+          : `${signedDecimal(scores.albi.score, 3)} · grade ${scores.albi.grade}`,
       ),
     ];
   });
   protected readonly bclc = computed(() => this.scores().bclc);
-  protected readonly bclcReason = computed(() => this.scores().unavailable.bclc ?? 'no reason was given.');
+  protected readonly bclcReason = computed(
+    () => this.scores().unavailable.bclc ?? 'no reason was given.',
+  );
 }
 
 /** A decimal with a true minus sign (−2.412), as printed clinical scores read. */

@@ -12,10 +12,16 @@ import { MatError, MatFormField, MatHint, MatLabel } from '@angular/material/for
 import { MatInput } from '@angular/material/input';
 import { MatRadioButton, MatRadioGroup } from '@angular/material/radio';
 import { MatOption, MatSelect } from '@angular/material/select';
-import { specialtyLabels, type CaseDetail, type CreateCaseRequest, type PrimaryDiagnosis, type Sex } from '@emberline/shared';
+import {
+  specialtyLabels,
+  type CaseDetail,
+  type CreateCaseRequest,
+  type PrimaryDiagnosis,
+  type Sex,
+} from '@emberline/shared';
 import { AuthSession } from '../core/auth-session';
 import { FieldError } from '../core/field-error';
-import { applyFieldErrors } from '../core/field-errors';
+import { applyFieldErrors } from '../core/server-field-errors';
 import { problemMessage } from '../core/problem';
 import { CaseApi } from './case-api';
 import {
@@ -99,7 +105,9 @@ export class NewCaseDialog {
       error: (error: unknown) => {
         this.isSaving.set(false);
         const unmatched = applyFieldErrors(this.form, error);
-        this.errorText.set(['The case was not created.', problemMessage(error), ...unmatched].join(' '));
+        this.errorText.set(
+          ['The case was not created.', problemMessage(error), ...unmatched].join(' '),
+        );
       },
     });
   }

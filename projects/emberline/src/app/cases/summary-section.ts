@@ -19,7 +19,9 @@ export class SummarySection {
   private readonly state = inject(CaseFileState);
 
   protected readonly detail = this.state.detail;
-  protected readonly latestPanelTakenAt = computed(() => this.detail()?.labPanels[0]?.takenAt ?? null);
+  protected readonly latestPanelTakenAt = computed(
+    () => this.detail()?.labPanels[0]?.takenAt ?? null,
+  );
 
   protected replace(detail: CaseDetail): void {
     this.state.replace(detail);

@@ -1,5 +1,10 @@
 import { inject } from '@angular/core';
-import { Router, type CanActivateChildFn, type CanActivateFn, type CanMatchFn } from '@angular/router';
+import {
+  Router,
+  type CanActivateChildFn,
+  type CanActivateFn,
+  type CanMatchFn,
+} from '@angular/router';
 import type { CurrentUser, Role } from '@emberline/shared';
 import { AuthSession } from './auth-session';
 
@@ -35,7 +40,12 @@ export const enrolmentGuard: CanActivateChildFn = (_route, state) => {
   if (!user) return router.createUrlTree(['/sign-in'], { queryParams: { returnUrl: state.url } });
   const path = state.url.split(/[?#]/)[0] ?? '';
   if (user.mustEnrolTotp && path !== '/account') return router.parseUrl('/account');
-  if (!user.mustEnrolTotp && user.roles.length === 0 && path !== '/account' && path !== '/no-role') {
+  if (
+    !user.mustEnrolTotp &&
+    user.roles.length === 0 &&
+    path !== '/account' &&
+    path !== '/no-role'
+  ) {
     return router.parseUrl('/no-role');
   }
   return true;

@@ -23,7 +23,6 @@ import { clinicalCaution } from '@emberline/shared';
       font: var(--mat-sys-body-small);
     }
 
-
     mat-icon {
       flex: none;
       font-size: 20px;

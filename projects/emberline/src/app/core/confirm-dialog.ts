@@ -26,7 +26,9 @@ export interface ConfirmDialogData {
     </mat-dialog-content>
     <mat-dialog-actions align="end">
       <button mat-button type="button" [mat-dialog-close]="false">Cancel</button>
-      <button mat-flat-button type="button" [mat-dialog-close]="true">{{ data.confirmLabel }}</button>
+      <button mat-flat-button type="button" [mat-dialog-close]="true">
+        {{ data.confirmLabel }}
+      </button>
     </mat-dialog-actions>
   `,
 })

@@ -10,11 +10,11 @@ import { AuthSession } from './auth-session';
       <div class="em-panel">
         <h1 id="no-role-title">Waiting for a role</h1>
         <p>
-          You are signed in as {{ user()?.displayName }} ({{ user()?.email }}), but your account has no
-          role yet. An administrator must grant you a role — presenting physician, board member,
+          You are signed in as {{ user()?.displayName }} ({{ user()?.email }}), but your account has
+          no role yet. An administrator must grant you a role — presenting physician, board member,
           proceduralist or nurse coordinator — before you can see cases or boards.
         </p>
-        <p class="em-muted">Once a role is granted, sign out and sign in again.</p>
+        <p class="em-muted">Once a role is granted, reload the page.</p>
       </div>
     </section>
   `,

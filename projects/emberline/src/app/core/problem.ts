@@ -25,7 +25,8 @@ export function problemMessage(error: unknown): string {
   const problem = problemOf(error);
   if (problem) return problem.detail ?? problem.title;
   if (error instanceof HttpErrorResponse) {
-    if (error.status === 0) return 'The server cannot be reached. Check the connection and try again.';
+    if (error.status === 0)
+      return 'The server cannot be reached. Check the connection and try again.';
     return `The server answered with status ${error.status}. Try again in a moment.`;
   }
   return 'Something went wrong. Try again in a moment.';

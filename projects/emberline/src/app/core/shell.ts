@@ -10,7 +10,16 @@ import { ClinicalCaution } from './clinical-caution';
 /** The frame of every signed-in page: top bar with navigation, the page, the caution footer. */
 @Component({
   selector: 'em-shell',
-  imports: [RouterOutlet, RouterLink, RouterLinkActive, MatButton, MatIconButton, MatIcon, MatTooltip, ClinicalCaution],
+  imports: [
+    RouterOutlet,
+    RouterLink,
+    RouterLinkActive,
+    MatButton,
+    MatIconButton,
+    MatIcon,
+    MatTooltip,
+    ClinicalCaution,
+  ],
   templateUrl: './shell.html',
   styleUrl: './shell.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,

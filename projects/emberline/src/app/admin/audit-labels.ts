@@ -20,4 +20,7 @@ export const auditActionLabels: Record<AuditAction, string> = {
   'membership.create': 'Board membership granted',
   'membership.delete': 'Board membership removed',
   'role-policy.update': 'Role policy changed',
+  'series.upload': 'Image series uploaded',
+  'series.list': 'Image series listed',
+  'series.volume-read': 'Image volume read',
 };

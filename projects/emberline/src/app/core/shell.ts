@@ -1,7 +1,5 @@
 import { ChangeDetectionStrategy, Component, computed, inject, signal } from '@angular/core';
-import { MatButton, MatIconButton } from '@angular/material/button';
-import { MatIcon } from '@angular/material/icon';
-import { MatTooltip } from '@angular/material/tooltip';
+import { MatButton } from '@angular/material/button';
 import { Router, RouterLink, RouterLinkActive, RouterOutlet } from '@angular/router';
 import { roleLabels } from '@emberline/shared';
 import { AuthSession } from './auth-session';
@@ -10,16 +8,7 @@ import { ClinicalCaution } from './clinical-caution';
 /** The frame of every signed-in page: top bar with navigation, the page, the caution footer. */
 @Component({
   selector: 'em-shell',
-  imports: [
-    RouterOutlet,
-    RouterLink,
-    RouterLinkActive,
-    MatButton,
-    MatIconButton,
-    MatIcon,
-    MatTooltip,
-    ClinicalCaution,
-  ],
+  imports: [RouterOutlet, RouterLink, RouterLinkActive, MatButton, ClinicalCaution],
   templateUrl: './shell.html',
   styleUrl: './shell.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,

@@ -16,11 +16,17 @@ import { MatPaginator, type PageEvent } from '@angular/material/paginator';
 import { MatProgressBar } from '@angular/material/progress-bar';
 import { MatOption, MatSelect } from '@angular/material/select';
 import { MatTableModule } from '@angular/material/table';
-import { auditActions, type AuditAction, type AuditEventView, type Page } from '@emberline/shared';
+import {
+  auditActionLabels,
+  auditActions,
+  type AuditAction,
+  type AuditEventView,
+  type Page,
+} from '@emberline/shared';
 import { debounceTime, map } from 'rxjs';
 import { problemMessage } from '../core/problem';
 import { AdminApi, type AuditQuery } from './admin-api';
-import { auditActionLabels } from './audit-labels';
+
 import { TypedCellDef } from '../core/typed-cell-def';
 
 interface AuditFilters {

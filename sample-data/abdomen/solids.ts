@@ -26,9 +26,7 @@ export type AnalyticShape =
 /** Volume of an analytic shape, millilitres: 4/3·π·r³ or 4/3·π·abc. */
 export function analyticVolumeMl(shape: AnalyticShape): number {
   const [a, b, c] =
-    shape.type === 'sphere'
-      ? [shape.radiusMm, shape.radiusMm, shape.radiusMm]
-      : shape.semiAxesMm;
+    shape.type === 'sphere' ? [shape.radiusMm, shape.radiusMm, shape.radiusMm] : shape.semiAxesMm;
   return ((4 / 3) * Math.PI * a * b * c) / 1000;
 }
 
@@ -92,9 +90,7 @@ export function capsule(start: Readonly<Vec3>, end: Readonly<Vec3>, radiusMm: nu
  * within its own small box rather than the box of the whole tube.
  */
 export function tubePieces(centreLineLps: readonly Vec3[], radiusMm: number): Solid[] {
-  return centreLineLps
-    .slice(1)
-    .map((end, index) => capsule(centreLineLps[index], end, radiusMm));
+  return centreLineLps.slice(1).map((end, index) => capsule(centreLineLps[index], end, radiusMm));
 }
 
 /** Points that a predicate accepts, within a given box. */

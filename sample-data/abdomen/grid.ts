@@ -25,7 +25,7 @@ export interface CtGrid {
 
 /**
  * 192 × 160 × 64 voxels of 0.8 × 0.8 × 2.5 mm: a 153.6 × 128 × 160 mm box, centred on x = 0 and
- * y = 0, from z = −80 mm to z = +77.5 mm. Origins and spacings are exact in few decimals so that
+ * y = 0, from z = −90 mm to z = +67.5 mm. Origins and spacings are exact in few decimals so that
  * the decimal strings of the DICOM files say exactly what the generator used.
  */
 export const ABDOMEN_GRID: Readonly<CtGrid> = {
@@ -35,7 +35,7 @@ export const ABDOMEN_GRID: Readonly<CtGrid> = {
   columnSpacingMm: 0.8,
   rowSpacingMm: 0.8,
   sliceSpacingMm: 2.5,
-  originLps: [-76.4, -63.6, -80],
+  originLps: [-76.4, -63.6, -90],
 };
 
 /** Row direction X and column direction Y of Image Orientation (Patient); normal X × Y. */

@@ -77,22 +77,26 @@ export default async function setup(project: TestProject): Promise<() => Promise
     child.stderr?.on('data', (chunk: Buffer) => logs.push(chunk.toString()));
     children.push(child);
   };
-  launch(['test/support/fake-idp/main.ts'], {
-    FAKE_IDP_PORT: String(idpPort),
-    FAKE_IDP_DIR: idpDataDir,
-    SP_ACS_URL: `${baseUrl}/api/auth/saml/callback`,
-    SP_ENTITY_ID: `${baseUrl}/api/auth/saml/metadata`,
-  });
-  await waitForHttp(`http://127.0.0.1:${idpPort}/health`);
-  launch(['server/src/main.ts'], {
-    PORT: String(port),
-    PUBLIC_URL: baseUrl,
-    CLIENT_DIST: join(root, 'dist/emberline/browser'),
-    FAKE_IDP_DIR: idpDataDir,
-  });
   try {
+    launch(['test/support/fake-idp/main.ts'], {
+      FAKE_IDP_PORT: String(idpPort),
+      FAKE_IDP_DIR: idpDataDir,
+      SP_ACS_URL: `${baseUrl}/api/auth/saml/callback`,
+      SP_ENTITY_ID: `${baseUrl}/api/auth/saml/metadata`,
+    });
+    // The server reads the identity provider's certificate at start: the IdP comes first.
+    await waitForHttp(`http://127.0.0.1:${idpPort}/health`);
+    launch(['server/src/main.ts'], {
+      PORT: String(port),
+      PUBLIC_URL: baseUrl,
+      CLIENT_DIST: join(root, 'dist/emberline/browser'),
+      FAKE_IDP_DIR: idpDataDir,
+    });
     await waitForHttp(`${baseUrl}/api/health`);
   } catch (error) {
+    // Leave nothing running behind a failed start.
+    for (const child of children) child.kill('SIGTERM');
+    await dropDatabase(database, state);
     throw new Error(`${String(error)}\n${logs.join('')}`);
   }
   project.provide('baseUrl', baseUrl);

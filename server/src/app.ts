@@ -14,6 +14,7 @@ import { currentUserMiddleware, sessionMiddleware } from './modules/auth/session
 import { boardRoutes } from './modules/boards/board.routes';
 import { caseRoutes } from './modules/cases/case.routes';
 import { healthRoutes } from './modules/health/health.routes';
+import { imagingRoutes } from './modules/imaging/imaging.routes';
 import { samlRoutes, samlStatusRoutes } from './modules/saml/saml.routes';
 
 export interface Services {
@@ -71,6 +72,7 @@ export function createApp(services: Services): Express {
   if (config.saml) app.use('/api/auth/saml', samlRoutes(orm, config, config.saml));
   app.use('/api/boards', boardRoutes(orm));
   app.use('/api/cases', caseRoutes(orm));
+  app.use('/api', imagingRoutes(orm));
   app.use('/api/admin', adminRoutes(orm));
   app.use('/api', notFoundHandler);
 

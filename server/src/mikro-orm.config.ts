@@ -7,6 +7,8 @@ import { BoardMembership } from './modules/boards/board-membership.entity';
 import { ClinicalCase } from './modules/cases/case.entity';
 import { LabPanel } from './modules/cases/lab-panel.entity';
 import { Lesion } from './modules/cases/lesion.entity';
+import { ImageSeries } from './modules/imaging/image-series.entity';
+import { UidReplacement } from './modules/imaging/uid-replacement.entity';
 import { SamlAssertionSeen } from './modules/saml/saml-assertion.entity';
 import { SamlRequest } from './modules/saml/saml-request.entity';
 import { HttpSession } from './modules/sessions/http-session.entity';
@@ -28,6 +30,8 @@ export const entities = [
   HttpSession,
   SamlRequest,
   SamlAssertionSeen,
+  ImageSeries,
+  UidReplacement,
 ];
 
 /** MikroORM settings; `clientUrl` decides the database (tests pass their own). */

@@ -6,5 +6,6 @@ export * from './api/paging';
 export * from './api/cases';
 export * from './api/boards';
 export * from './api/audit';
+export * from './api/imaging';
 export * from './scores';
 export * from './geometry';

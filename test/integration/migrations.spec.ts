@@ -13,11 +13,13 @@ const expectedTables = [
   'board_membership',
   'clinical_case',
   'http_session',
+  'image_series',
   'lab_panel',
   'lesion',
   'role_policy',
   'saml_assertion_seen',
   'saml_request',
+  'uid_replacement',
 ];
 
 async function tables(orm: MikroORM): Promise<string[]> {

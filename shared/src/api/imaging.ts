@@ -1,0 +1,223 @@
+/**
+ * Imaging API: the series a case holds, and the wire format of a stored volume.
+ *
+ * A volume travels as one binary body, `application/octet-stream`, laid out as
+ *   bytes 0–7     the ASCII magic `EMBERVOL`
+ *   bytes 8–11    the byte length H of the header that follows, uint32 little-endian
+ *   bytes 12…     the header: ASCII JSON (`VolumeFileHeader`), padded with spaces so that the
+ *                 voxels start on a multiple of 8 bytes
+ *   then          the voxels: int16 little-endian, i (column) fastest, then j (row), then k
+ *                 (slice) — index i + nx·(j + ny·k) — in the unit of `valueUnit`.
+ * The file store holds exactly these bytes, so the server streams them unchanged.
+ */
+import { z } from 'zod';
+import type { GridDimensions, VolumeGeometry } from '../geometry/patient-geometry';
+import type { Vec3 } from '../geometry/vector';
+
+export const imageModalities = ['CT', 'MR'] as const;
+export type ImageModality = (typeof imageModalities)[number];
+
+/** Hounsfield units for CT (Rescale Slope/Intercept applied); the scanner's own scale for MR. */
+export const volumeValueUnits = ['HU', 'scanner-units'] as const;
+export type VolumeValueUnit = (typeof volumeValueUnits)[number];
+
+/**
+ * Codes of the De-identification Method Code Sequence (0012,0064), coding scheme DCM (DICOM
+ * PS3.16 CID 7050, from memory): the Basic Application Level Confidentiality Profile and the
+ * option Emberline applies to dates.
+ */
+export const deidentificationMethodCodes = [
+  { code: '113100', scheme: 'DCM', meaning: 'Basic Application Confidentiality Profile' },
+  {
+    code: '113107',
+    scheme: 'DCM',
+    meaning: 'Retain Longitudinal Temporal Information Modified Dates Option',
+  },
+] as const;
+
+/** How the stored header and volume of a series were de-identified on ingest. */
+export interface DeidentificationRecord {
+  /** Patient Identity Removed (0012,0062) = YES. */
+  patientIdentityRemoved: true;
+  profile: 'DICOM PS3.15 Annex E Basic Application Level Confidentiality Profile';
+  /** The De-identification Method Code Sequence (0012,0064) written into the header. */
+  methodCodes: { code: string; scheme: string; meaning: string }[];
+  /** De-identification Method (0012,0063), as written. */
+  method: string[];
+  /**
+   * Dates (DA, and the date part of DT) moved back by a whole number of days, the same for
+   * every series of a case; times of day kept. The shift itself is never stored.
+   */
+  dateOption: 'shifted-per-case';
+}
+
+/** Where a series' voxel axes point, unit vectors in LPS. */
+export interface SeriesOrientation {
+  /** Row direction, the first triplet of Image Orientation (Patient): i increases along it. */
+  rowLps: Vec3;
+  /** Column direction, the second triplet: j increases along it. */
+  columnLps: Vec3;
+  /** Slice normal, row × column: k increases along it. */
+  sliceNormalLps: Vec3;
+}
+
+/** One stored series of a case (DESIGN.md §6), de-identified. */
+export interface ImageSeriesView {
+  id: string;
+  caseId: string;
+  modality: ImageModality;
+  /** [columns, rows, slices]. */
+  dimensions: GridDimensions;
+  /** [Δi, Δj, Δk], millimetres. */
+  spacingMm: Vec3;
+  /** Centre of voxel (0, 0, 0), LPS, millimetres. */
+  originLps: Vec3;
+  orientation: SeriesOrientation;
+  sliceCount: number;
+  valueUnit: VolumeValueUnit;
+  valueRange: { min: number; max: number };
+  /** Default display window, in `valueUnit`. */
+  window: { centre: number; width: number };
+  /** Series Number (0020,0011) as received, or null. */
+  seriesNumber: number | null;
+  /** Byte length of the volume body (`volumeUrl`). */
+  byteLength: number;
+  volumeUrl: string;
+  deidentification: DeidentificationRecord;
+  uploadedBy: { id: string; displayName: string };
+  createdAt: string;
+}
+
+/** The voxel grid of a series in patient space (DICOM PS3.3 C.7.6.2.1.1, LPS millimetres). */
+export function seriesVolumeGeometry(
+  series: Pick<ImageSeriesView, 'dimensions' | 'spacingMm' | 'originLps' | 'orientation'>,
+): VolumeGeometry {
+  return {
+    dimensions: series.dimensions,
+    spacingMm: series.spacingMm,
+    originLps: series.originLps,
+    direction: [
+      series.orientation.rowLps,
+      series.orientation.columnLps,
+      series.orientation.sliceNormalLps,
+    ],
+  };
+}
+
+const finite = z.number().refine(Number.isFinite, 'a finite number');
+const vec3Schema = z.tuple([finite, finite, finite]);
+const count = z.number().int().positive();
+
+/** The JSON header of a volume body. */
+export const volumeFileHeaderSchema = z.object({
+  format: z.literal('emberline-volume'),
+  version: z.literal(1),
+  dataType: z.literal('int16'),
+  byteOrder: z.literal('little-endian'),
+  /** [columns, rows, slices]. */
+  dimensions: z.tuple([count, count, count]),
+  /** [Δi, Δj, Δk], millimetres. */
+  spacingMm: z.tuple([finite, finite, finite]).refine((s) => s.every((v) => v > 0), 'positive'),
+  /** Centre of voxel (0, 0, 0), LPS, millimetres. */
+  originLps: vec3Schema,
+  /** Unit vectors along i, j and k, LPS. */
+  direction: z.tuple([vec3Schema, vec3Schema, vec3Schema]),
+  modality: z.enum(imageModalities),
+  valueUnit: z.enum(volumeValueUnits),
+  valueRange: z.object({ min: z.number().int(), max: z.number().int() }),
+  window: z.object({ centre: finite, width: finite.refine((w) => w > 0, 'positive') }),
+});
+export type VolumeFileHeader = z.infer<typeof volumeFileHeaderSchema>;
+
+export const volumeFileMagic = 'EMBERVOL';
+const magicLength = 8;
+const lengthFieldBytes = 4;
+const voxelAlignment = 8;
+/** A header longer than this is refused when decoding (a real one is well under 1 kB). */
+const maxHeaderBytes = 65_536;
+
+/** Thrown by `decodeVolumeFile` for bytes that are not a complete volume body. */
+export class VolumeFileError extends Error {
+  override readonly name = 'VolumeFileError';
+}
+
+/** Everything before the voxels: magic, header length and the padded ASCII JSON header. */
+export function encodeVolumeFilePreamble(header: VolumeFileHeader): Uint8Array {
+  // Escape anything beyond ASCII so that one byte is one character both ways.
+  const json = JSON.stringify(volumeFileHeaderSchema.parse(header)).replace(
+    /[\u007f-\uffff]/g,
+    (character) => `\\u${character.charCodeAt(0).toString(16).padStart(4, '0')}`,
+  );
+  const unpadded = magicLength + lengthFieldBytes + json.length;
+  const padding = (voxelAlignment - (unpadded % voxelAlignment)) % voxelAlignment;
+  const headerText = json + ' '.repeat(padding);
+  const bytes = new Uint8Array(magicLength + lengthFieldBytes + headerText.length);
+  for (let index = 0; index < magicLength; index++) {
+    bytes[index] = volumeFileMagic.charCodeAt(index);
+  }
+  new DataView(bytes.buffer).setUint32(magicLength, headerText.length, true);
+  for (let index = 0; index < headerText.length; index++) {
+    bytes[magicLength + lengthFieldBytes + index] = headerText.charCodeAt(index);
+  }
+  return bytes;
+}
+
+function isLittleEndianPlatform(): boolean {
+  return new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
+}
+
+/**
+ * Reads a volume body (see the top of this file): the header, checked, and the voxels as an
+ * Int16Array of nx·ny·nz values, i fastest. Throws a VolumeFileError for anything else.
+ */
+export function decodeVolumeFile(body: ArrayBuffer | Uint8Array): {
+  header: VolumeFileHeader;
+  voxels: Int16Array;
+} {
+  const bytes = body instanceof Uint8Array ? body : new Uint8Array(body);
+  const fixedBytes = magicLength + lengthFieldBytes;
+  if (bytes.length < fixedBytes) throw new VolumeFileError('The volume body is too short.');
+  for (let index = 0; index < magicLength; index++) {
+    if (bytes[index] !== volumeFileMagic.charCodeAt(index)) {
+      throw new VolumeFileError(`The volume body does not start with ${volumeFileMagic}.`);
+    }
+  }
+  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+  const headerBytes = view.getUint32(magicLength, true);
+  if (headerBytes > maxHeaderBytes || fixedBytes + headerBytes > bytes.length) {
+    throw new VolumeFileError('The volume header length is out of range.');
+  }
+  let json = '';
+  for (let index = 0; index < headerBytes; index++) {
+    json += String.fromCharCode(bytes[fixedBytes + index]);
+  }
+  let parsed: unknown;
+  try {
+    parsed = JSON.parse(json);
+  } catch {
+    throw new VolumeFileError('The volume header is not JSON.');
+  }
+  const result = volumeFileHeaderSchema.safeParse(parsed);
+  if (!result.success) throw new VolumeFileError('The volume header is not a volume header.');
+  const header = result.data;
+  const voxelCount = header.dimensions[0] * header.dimensions[1] * header.dimensions[2];
+  const voxelOffset = fixedBytes + headerBytes;
+  if (bytes.length - voxelOffset !== voxelCount * 2) {
+    throw new VolumeFileError(
+      `The volume holds ${bytes.length - voxelOffset} voxel bytes; its dimensions need ` +
+        `${voxelCount * 2}.`,
+    );
+  }
+  const start = bytes.byteOffset + voxelOffset;
+  if (isLittleEndianPlatform() && start % 2 === 0) {
+    return { header, voxels: new Int16Array(bytes.buffer, start, voxelCount) };
+  }
+  const voxels = new Int16Array(voxelCount);
+  for (let index = 0; index < voxelCount; index++) {
+    voxels[index] = view.getInt16(voxelOffset + 2 * index, true);
+  }
+  return { header, voxels };
+}
+
+/** Prefix of the problem-details `type` of every refused upload; the rest names the reason. */
+export const imagingProblemTypePrefix = 'urn:emberline:problem:imaging:';

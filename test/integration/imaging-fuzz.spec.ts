@@ -1,0 +1,313 @@
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { deidentifyHeader } from '../../server/src/modules/imaging/deidentify';
+import { DicomReadPool } from '../../server/src/modules/imaging/dicom-read-pool';
+import type { ReadLimits } from '../../server/src/modules/imaging/dicom-read-protocol';
+import { ImagingRefusal } from '../../server/src/modules/imaging/imaging-refusal';
+import { assembleSeries } from '../../server/src/modules/imaging/series-assembly';
+import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
+import { demoPassword, resetToDemo } from '../support/demo';
+import {
+  buildSeries,
+  implicitLittleEndian,
+  part10,
+  seededRandom,
+  seriesSpec,
+  setEnvironment,
+  uploadFiles,
+} from './imaging-fixtures';
+
+/**
+ * Mutated and truncated variants of valid files, each read through the same worker path as an
+ * upload (`DicomReadPool`), then stacked and de-identified as the service does: every one must
+ * end in an accepted series or an ImagingRefusal with a 4xx, within the time bound.
+ */
+const limits: ReadLimits = {
+  maxFiles: 40,
+  maxInstanceBytes: 32 * 1_048_576,
+  maxInflatedBytes: 64 * 1_048_576,
+  maxSequenceDepth: 12,
+  maxAttributes: 20_000,
+};
+const timeoutMs = 4000;
+const memoryLimitMb = 64;
+const variantCount = 2400;
+const seed = 20261201;
+
+let pool: DicomReadPool;
+
+beforeAll(async () => {
+  pool = new DicomReadPool({ size: 2, timeoutMs, memoryLimitMb, maxQueued: 64, limits });
+  await pool.warm();
+});
+
+afterAll(async () => {
+  await pool.close();
+});
+
+type Outcome =
+  { kind: 'accepted' } | { kind: 'refused'; status: number; reason: string; detail: string };
+
+/** Reads, stacks and de-identifies, as an upload would; anything but a refusal is a failure. */
+async function ingest(files: Uint8Array[], through = pool): Promise<Outcome> {
+  try {
+    const { instances } = await through.read(files.map((file) => file.slice()));
+    const assembled = assembleSeries(instances);
+    deidentifyHeader(assembled.firstSliceHeader, {
+      replaceUid: () => '2.25.1',
+      dateShiftDays: -400,
+    });
+    return { kind: 'accepted' };
+  } catch (error) {
+    if (error instanceof ImagingRefusal) {
+      return { kind: 'refused', status: error.status, reason: error.reason, detail: error.message };
+    }
+    throw error;
+  }
+}
+
+function mutate(original: Uint8Array, random: () => number): Uint8Array {
+  const at = (length: number) => Math.floor(random() * length);
+  const bytes = original.slice();
+  switch (at(7)) {
+    case 0:
+      return bytes.subarray(0, at(bytes.length));
+    case 1: {
+      for (let n = 1 + at(16); n > 0; n--) bytes[at(bytes.length)] = at(256);
+      return bytes;
+    }
+    case 2: {
+      // A length field's worth of bytes set to an extreme: 0xFFFFFFFF, 0, or random.
+      const offset = 132 + at(bytes.length - 136);
+      const value = [0xffffffff, 0, at(2 ** 32)][at(3)];
+      new DataView(bytes.buffer).setUint32(offset, value, true);
+      return bytes;
+    }
+    case 3: {
+      const offset = at(bytes.length);
+      const inserted = Uint8Array.from({ length: 1 + at(64) }, () => at(256));
+      return Uint8Array.from([
+        ...bytes.subarray(0, offset),
+        ...inserted,
+        ...bytes.subarray(offset),
+      ]);
+    }
+    case 4: {
+      const offset = at(bytes.length);
+      return Uint8Array.from([
+        ...bytes.subarray(0, offset),
+        ...bytes.subarray(offset + 1 + at(256)),
+      ]);
+    }
+    case 5: {
+      // Dense damage to the header only (the first kilobyte after the preamble).
+      for (let n = 1 + at(64); n > 0; n--)
+        bytes[132 + at(Math.min(1024, bytes.length - 132))] = at(256);
+      return bytes;
+    }
+    default: {
+      const start = at(bytes.length);
+      const span = bytes.subarray(start, start + 1 + at(512));
+      const offset = at(bytes.length);
+      return Uint8Array.from([...bytes.subarray(0, offset), ...span, ...bytes.subarray(offset)]);
+    }
+  }
+}
+
+/** A valid file's meta, then `count` nested sequences of undefined length (explicit VR LE). */
+function nestedSequences(valid: Uint8Array, count: number, isClosed: boolean): Uint8Array {
+  const metaLength = new DataView(valid.buffer, valid.byteOffset).getUint32(140, true);
+  const head = valid.subarray(0, 144 + metaLength);
+  const open = [0x08, 0x00, 0x40, 0x11, 0x53, 0x51, 0, 0, 0xff, 0xff, 0xff, 0xff];
+  const item = [0xfe, 0xff, 0x00, 0xe0, 0xff, 0xff, 0xff, 0xff];
+  const itemEnd = [0xfe, 0xff, 0x0d, 0xe0, 0, 0, 0, 0];
+  const sequenceEnd = [0xfe, 0xff, 0xdd, 0xe0, 0, 0, 0, 0];
+  const body: number[] = [];
+  for (let n = 0; n < count; n++) body.push(...open, ...item);
+  if (isClosed) for (let n = 0; n < count; n++) body.push(...itemEnd, ...sequenceEnd);
+  return Uint8Array.from([...head, ...body]);
+}
+
+/** A valid file's meta, then `count` distinct empty private attributes: a heap, not a header. */
+function manyAttributes(valid: Uint8Array, count: number): Uint8Array {
+  const metaLength = new DataView(valid.buffer, valid.byteOffset).getUint32(140, true);
+  const head = valid.subarray(0, 144 + metaLength);
+  const bytes = new Uint8Array(head.length + 8 * count);
+  bytes.set(head);
+  const view = new DataView(bytes.buffer);
+  for (let n = 0; n < count; n++) {
+    const at = head.length + 8 * n;
+    view.setUint16(at, 0x1001 + 2 * Math.floor(n / 0xfff0), true);
+    view.setUint16(at + 2, 0x0010 + (n % 0xfff0), true);
+    bytes[at + 4] = 0x4c; // "LO"
+    bytes[at + 5] = 0x4f;
+    view.setUint16(at + 6, 0, true);
+  }
+  return bytes;
+}
+
+describe('fuzzing the reading path: mutated and truncated files', () => {
+  const spec = seriesSpec({ isIdentifying: true });
+  const files = buildSeries(spec);
+  const implicitFiles = buildSeries({ ...spec, transferSyntaxUid: implicitLittleEndian });
+
+  it('accepts the unmutated files (the fuzzing starts from a valid series)', async () => {
+    expect(await ingest(files.slice(0, 3))).toEqual({ kind: 'accepted' });
+    expect(await ingest(implicitFiles.slice(0, 3))).toEqual({ kind: 'accepted' });
+  });
+
+  it(`ends each of ${variantCount} variants (seed ${seed}) in a series or a 4xx, within the bound`, async () => {
+    const random = seededRandom(seed);
+    const outcomes = new Map<string, number>();
+    let slowestMs = 0;
+    const started = performance.now();
+    for (let n = 0; n < variantCount; n += 2) {
+      const batch = [n, n + 1].map((index) => {
+        const base = index % 2 === 0 ? files : implicitFiles;
+        const target = Math.floor(random() * 3);
+        const variant = base.slice(0, 3);
+        variant[target] = mutate(base[target], random);
+        return variant;
+      });
+      const results = await Promise.all(
+        batch.map(async (variant) => {
+          const begin = performance.now();
+          const outcome = await ingest(variant);
+          slowestMs = Math.max(slowestMs, performance.now() - begin);
+          return outcome;
+        }),
+      );
+      for (const outcome of results) {
+        if (outcome.kind === 'refused') {
+          expect(outcome.status).toBeGreaterThanOrEqual(400);
+          expect(outcome.status).toBeLessThan(500);
+        }
+        const key =
+          outcome.kind === 'accepted' ? 'accepted' : `${outcome.status} ${outcome.reason}`;
+        outcomes.set(key, (outcomes.get(key) ?? 0) + 1);
+      }
+    }
+    const totalS = (performance.now() - started) / 1000;
+    // The figures of the run, for the record (a benchmark of sorts, not a timed check).
+    process.stdout.write(
+      `fuzz: ${variantCount} variants in ${totalS.toFixed(1)} s, slowest ` +
+        `${slowestMs.toFixed(0)} ms; ${JSON.stringify(Object.fromEntries([...outcomes].sort()))}\n`,
+    );
+    expect(slowestMs).toBeLessThan(timeoutMs + 2000);
+    expect([...outcomes.values()].reduce((a, b) => a + b, 0)).toBe(variantCount);
+    // The mutations do reach past the first checks: several kinds of refusal, and survivors.
+    expect(outcomes.size).toBeGreaterThan(4);
+  }, 120_000);
+
+  it('refuses sequences nested 50 000 deep (dicom-parser recurses without a limit) with a 4xx', async () => {
+    for (const isClosed of [false, true]) {
+      const outcome = await ingest([nestedSequences(files[0], 50_000, isClosed), files[1]]);
+      expect(outcome).toMatchObject({
+        kind: 'refused',
+        status: 400,
+        reason: 'too-complex',
+        detail: 'File 1 nests its attributes too deeply to be read.',
+      });
+    }
+  });
+
+  it('refuses sequences nested deeper than the limit, well formed, as too complex', async () => {
+    const outcome = await ingest([nestedSequences(files[0], 20, true), files[1]]);
+    expect(outcome).toMatchObject({
+      kind: 'refused',
+      status: 400,
+      reason: 'too-complex',
+      detail:
+        'File 1 nests sequences deeper than 12 levels (at (0008,1140)); an image header never needs that.',
+    });
+  });
+
+  it(`refuses a file whose parse outgrows ${memoryLimitMb} MB in the worker, and reads on`, async () => {
+    const outcome = await ingest([manyAttributes(files[0], 2_000_000), files[1]]);
+    expect(outcome).toMatchObject({
+      kind: 'refused',
+      status: 400,
+      reason: 'too-complex',
+      detail: expect.stringMatching(/needed more than 64 MB of memory/),
+    });
+    expect(await ingest(files.slice(0, 3))).toEqual({ kind: 'accepted' });
+  }, 60_000);
+
+  it('refuses an upload past the time bound, terminating the worker', async () => {
+    const hurried = new DicomReadPool({
+      size: 1,
+      timeoutMs: 1,
+      memoryLimitMb,
+      maxQueued: 4,
+      limits,
+    });
+    try {
+      const outcome = await ingest(files, hurried);
+      expect(outcome).toMatchObject({
+        kind: 'refused',
+        status: 400,
+        detail: expect.stringMatching(/took longer than 0 s/),
+      });
+    } finally {
+      await hurried.close();
+    }
+  });
+
+  it('refuses a deflated data set by its transfer syntax, without inflating it', async () => {
+    const deflated = part10(
+      { '00100010': { vr: 'PN', Value: [{ Alphabetic: 'X' }] } },
+      {
+        transferSyntaxUid: '1.2.840.10008.1.2.1.99',
+      },
+    );
+    // Anything after the meta: it is never inflated.
+    const bomb = Uint8Array.from([...deflated, ...new Uint8Array(4096).fill(0x4b)]);
+    expect(await ingest([bomb, files[1]])).toMatchObject({
+      kind: 'refused',
+      status: 415,
+      reason: 'transfer-syntax',
+    });
+  });
+});
+
+describe('the server under mutated uploads', () => {
+  let testApp: TestApp;
+  const fileStoreDir = mkdtempSync(join(tmpdir(), 'emberline-imaging-fuzz-'));
+  let restoreEnvironment: () => void = () => undefined;
+
+  beforeAll(async () => {
+    restoreEnvironment = setEnvironment({
+      FILE_STORE_DIR: fileStoreDir,
+      DEIDENTIFICATION_SECRET: 'imaging-fuzz-secret-9a8b7c6d5e4f3a2b1c0d',
+    });
+    testApp = await startTestApp();
+  });
+
+  afterAll(async () => {
+    await testApp.close();
+    restoreEnvironment();
+    rmSync(fileStoreDir, { recursive: true, force: true });
+  });
+
+  it('answers 201 or a 4xx to each of 40 mutated uploads, and its health afterwards', async () => {
+    const ids = await resetToDemo(testApp.orm);
+    const presenter = new ApiClient(testApp.app);
+    await presenter.signIn('presenter@emberline.test', demoPassword);
+    const random = seededRandom(seed + 1);
+    const statuses: number[] = [];
+    for (let n = 0; n < 40; n++) {
+      const files = buildSeries(seriesSpec());
+      const target = Math.floor(random() * files.length);
+      files[target] = mutate(files[target], random);
+      const response = await uploadFiles(presenter, ids.northDraft, files);
+      statuses.push(response.status);
+      expect([201, 400, 409, 413, 415], JSON.stringify(response.body)).toContain(response.status);
+      expect((response.body as { detail?: string }).detail ?? 'accepted').toBeTruthy();
+    }
+    expect(statuses.some((status) => status !== 201)).toBe(true);
+    expect((await presenter.get('/api/health')).status).toBe(200);
+    expect(testApp.logs).toEqual([]);
+  }, 60_000);
+});

@@ -4,6 +4,8 @@ export interface ClusterState {
   dataDir: string;
   password: string;
   user: string;
+  /** Whether the call that answered this started the server (it was not running). */
+  isStartedHere?: boolean;
 }
 export function startPostgres(): ClusterState;
 export function stopPostgres(): void;

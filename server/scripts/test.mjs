@@ -10,8 +10,9 @@ rmSync(resultsDir, { recursive: true, force: true });
 mkdirSync(resultsDir, { recursive: true });
 
 ensureDependencies();
-const { startPostgres } = await import('./postgres.mjs');
-startPostgres();
+const { startPostgres, stopPostgres } = await import('./postgres.mjs');
+// Leave the cluster as it was found: stop it afterwards only if this run started it.
+const isPostgresStartedHere = startPostgres().isStartedHere;
 
 const bin = (name) => join(root, 'node_modules', '.bin', name);
 const results = [];
@@ -97,4 +98,5 @@ for (const r of results) {
   );
 }
 process.stdout.write(`\n${passed} passed, ${failed} failed\n`);
+if (isPostgresStartedHere) stopPostgres();
 process.exit(failed ? 1 : 0);

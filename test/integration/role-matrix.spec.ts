@@ -1,4 +1,10 @@
+import { mkdtemp, rm } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { configFromEnvironment } from '../../server/src/config';
+import { samlSettingsFromEnvironment } from '../../server/src/modules/saml/saml-settings';
+import { startFakeIdp, type FakeIdp } from '../support/fake-idp';
 import { User } from '../../server/src/modules/users/user.entity';
 import { Lesion } from '../../server/src/modules/cases/lesion.entity';
 import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
@@ -150,6 +156,39 @@ const routes: Route[] = [
     call: (c) => c.post('/api/auth/totp/setup'),
     expected: row(401, 200, 200, 200, 200, 200, 200),
   },
+  // A malformed code after set-up: refused as invalid input for everyone signed in.
+  {
+    name: 'POST /api/auth/totp/confirm',
+    call: (c) => c.post('/api/auth/totp/confirm', { code: 'abcdef' }),
+    expected: row(401, 400, 400, 400, 400, 400, 400),
+  },
+  {
+    name: 'POST /api/auth/login (wrong password)',
+    call: (c) =>
+      c.post('/api/auth/login', { email: 'member@emberline.test', password: 'not-the-password' }),
+    expected: row(401, 401, 401, 401, 401, 401, 401),
+  },
+  {
+    name: 'GET /api/auth/saml/status',
+    call: (c) => c.get('/api/auth/saml/status'),
+    expected: row(200, 200, 200, 200, 200, 200, 200),
+  },
+  {
+    name: 'GET /api/auth/saml/metadata',
+    call: (c) => c.get('/api/auth/saml/metadata'),
+    expected: row(200, 200, 200, 200, 200, 200, 200),
+  },
+  {
+    name: 'GET /api/auth/saml/login',
+    call: (c) => c.get('/api/auth/saml/login'),
+    expected: row(302, 302, 302, 302, 302, 302, 302),
+  },
+  // No SAMLResponse: a malformed post, refused back to the sign-in page whoever sends it.
+  {
+    name: 'POST /api/auth/saml/callback',
+    call: (c) => c.post('/api/auth/saml/callback', {}),
+    expected: row(303, 303, 303, 303, 303, 303, 303),
+  },
   {
     name: 'GET /api/admin/users',
     call: (c) => c.get('/api/admin/users'),
@@ -246,11 +285,32 @@ const emails: Record<Exclude<Who, 'anonymous'>, string> = {
 };
 
 let testApp: TestApp;
+let idp: FakeIdp;
+let directory: string;
 beforeAll(async () => {
-  testApp = await startTestApp();
+  directory = await mkdtemp(join(tmpdir(), 'emberline-matrix-'));
+  const publicUrl = 'http://127.0.0.1:4399';
+  idp = await startFakeIdp({
+    port: 0,
+    spAcsUrl: `${publicUrl}/api/auth/saml/callback`,
+    spEntityId: `${publicUrl}/api/auth/saml/metadata`,
+    dataDir: join(directory, 'idp'),
+  });
+  const saml = await samlSettingsFromEnvironment(
+    configFromEnvironment({ PORT: '4399' }),
+    {
+      SAML_ENTRY_POINT: idp.ssoUrl,
+      SAML_IDP_ISSUER: idp.entityId,
+      SAML_IDP_CERT_FILE: idp.certFile,
+    },
+    join(directory, 'no-fake-here'),
+  );
+  testApp = await startTestApp({ saml });
 });
 afterAll(async () => {
   await testApp.close();
+  await idp.close();
+  await rm(directory, { recursive: true, force: true });
 });
 
 describe.each(who)('role × route matrix: %s', (role) => {

@@ -16,6 +16,7 @@ import { caseRoutes } from './modules/cases/case.routes';
 import { healthRoutes } from './modules/health/health.routes';
 import { imagingRoutes } from './modules/imaging/imaging.routes';
 import { samlRoutes, samlStatusRoutes } from './modules/saml/saml.routes';
+import { structuresRoutes } from './modules/structures/structures.routes';
 
 export interface Services {
   orm: MikroORM;
@@ -73,6 +74,7 @@ export function createApp(services: Services): Express {
   app.use('/api/boards', boardRoutes(orm));
   app.use('/api/cases', caseRoutes(orm));
   app.use('/api', imagingRoutes(orm));
+  app.use('/api', structuresRoutes(orm));
   app.use('/api/admin', adminRoutes(orm));
   app.use('/api', notFoundHandler);
 

@@ -9,6 +9,8 @@ import { LabPanel } from './modules/cases/lab-panel.entity';
 import { Lesion } from './modules/cases/lesion.entity';
 import { ImageSeries } from './modules/imaging/image-series.entity';
 import { UidReplacement } from './modules/imaging/uid-replacement.entity';
+import { LabelMap } from './modules/structures/label-map.entity';
+import { Structure } from './modules/structures/structure.entity';
 import { SamlAssertionSeen } from './modules/saml/saml-assertion.entity';
 import { SamlRequest } from './modules/saml/saml-request.entity';
 import { HttpSession } from './modules/sessions/http-session.entity';
@@ -32,6 +34,8 @@ export const entities = [
   SamlAssertionSeen,
   ImageSeries,
   UidReplacement,
+  LabelMap,
+  Structure,
 ];
 
 /** MikroORM settings; `clientUrl` decides the database (tests pass their own). */

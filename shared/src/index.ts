@@ -7,5 +7,6 @@ export * from './api/cases';
 export * from './api/boards';
 export * from './api/audit';
 export * from './api/imaging';
+export * from './api/structures';
 export * from './scores';
 export * from './geometry';

@@ -15,10 +15,12 @@ const expectedTables = [
   'http_session',
   'image_series',
   'lab_panel',
+  'label_map',
   'lesion',
   'role_policy',
   'saml_assertion_seen',
   'saml_request',
+  'structure',
   'uid_replacement',
 ];
 

@@ -17,6 +17,10 @@ export const auditActions = [
   'series.list',
   'series.read',
   'series.volume-read',
+  'structures.import',
+  'structures.list',
+  'structures.label-map-read',
+  'structure.update',
   'user.create',
   'user.update',
   'board.create',
@@ -50,6 +54,10 @@ export const auditActionLabels: Record<AuditAction, string> = {
   'series.list': 'Image series listed',
   'series.read': 'Image series opened',
   'series.volume-read': 'Image volume read',
+  'structures.import': 'Structures imported',
+  'structures.list': 'Structures listed',
+  'structures.label-map-read': 'Label map read',
+  'structure.update': 'Structure changed',
 };
 
 export interface AuditEventView {

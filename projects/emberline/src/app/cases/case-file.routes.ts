@@ -3,7 +3,7 @@ import { CaseFile } from './case-file';
 import { SummarySection } from './summary-section';
 
 /**
- * The case file and its sections. Later sections (imaging, plans, discussion, decision,
+ * The case file and its sections. Later sections (plans, discussion, decision,
  * logistics) join `children` and `caseFileSections`.
  */
 export const caseFileRoutes: Routes = [
@@ -13,6 +13,11 @@ export const caseFileRoutes: Routes = [
     children: [
       { path: '', pathMatch: 'full', redirectTo: 'summary' },
       { path: 'summary', title: 'Case summary', component: SummarySection },
+      {
+        path: 'imaging',
+        title: 'Case imaging',
+        loadComponent: () => import('../imaging/imaging-section').then((m) => m.ImagingSection),
+      },
     ],
   },
 ];

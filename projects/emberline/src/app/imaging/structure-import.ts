@@ -1,0 +1,156 @@
+import {
+  ChangeDetectionStrategy,
+  Component,
+  computed,
+  inject,
+  input,
+  output,
+  signal,
+} from '@angular/core';
+import { FormBuilder, ReactiveFormsModule, Validators } from '@angular/forms';
+import { MatButton, MatIconButton } from '@angular/material/button';
+import { MatError, MatFormField, MatLabel } from '@angular/material/form-field';
+import { MatIcon } from '@angular/material/icon';
+import { MatInput } from '@angular/material/input';
+import { MatProgressBar } from '@angular/material/progress-bar';
+import { MatOption, MatSelect } from '@angular/material/select';
+import {
+  maxLabelValue,
+  structureKindLabels,
+  structureKinds,
+  type StructureKind,
+  type StructureLabels,
+  type StructureView,
+} from '@emberline/shared';
+import { problemMessage } from '../core/problem';
+import { byteSize } from './byte-size';
+import { StructureApi } from './structure-api';
+
+/**
+ * Import of a NIfTI-1 label map (.nii or .nii.gz) for one series, with the kinds of its labels
+ * given row by row. Labels left out are imported without a kind, to be mapped afterwards.
+ */
+@Component({
+  selector: 'em-structure-import',
+  imports: [
+    ReactiveFormsModule,
+    MatFormField,
+    MatLabel,
+    MatError,
+    MatInput,
+    MatSelect,
+    MatOption,
+    MatButton,
+    MatIconButton,
+    MatIcon,
+    MatProgressBar,
+  ],
+  templateUrl: './structure-import.html',
+  styleUrl: './structure-import.scss',
+  changeDetection: ChangeDetectionStrategy.OnPush,
+})
+export class StructureImport {
+  private readonly api = inject(StructureApi);
+  private readonly formBuilder = inject(FormBuilder);
+
+  readonly seriesId = input.required<string>();
+  /** Distinguishes the ids of this form from those of other series' forms on the page. */
+  readonly idPrefix = input.required<string>();
+  readonly imported = output<StructureView[]>();
+
+  protected readonly kindOptions = structureKinds.map((kind) => ({
+    kind,
+    label: structureKindLabels[kind],
+  }));
+  protected readonly file = signal<File | null>(null);
+  protected readonly fileSummary = computed(() => {
+    const file = this.file();
+    return file ? `${file.name}, ${byteSize(file.size)}` : 'No file chosen.';
+  });
+  protected readonly isImporting = signal(false);
+  protected readonly errorText = signal('');
+  protected readonly doneText = signal('');
+
+  protected readonly rows = this.formBuilder.array([this.row()]);
+
+  protected choose(event: Event): void {
+    const file = (event.target as HTMLInputElement).files?.[0] ?? null;
+    this.file.set(file);
+    this.errorText.set('');
+    this.doneText.set('');
+  }
+
+  protected addRow(): void {
+    this.rows.push(this.row());
+  }
+
+  protected removeRow(index: number): void {
+    this.rows.removeAt(index);
+  }
+
+  protected submit(event: Event, picker: HTMLInputElement): void {
+    event.preventDefault();
+    const file = this.file();
+    if (!file) {
+      this.errorText.set('Choose a label map: a .nii or .nii.gz file.');
+      return;
+    }
+    if (!/\.nii(\.gz)?$/i.test(file.name)) {
+      this.errorText.set(`${file.name} is not a NIfTI label map: choose a .nii or .nii.gz file.`);
+      return;
+    }
+    const labels = this.mapping();
+    if (typeof labels === 'string') {
+      this.rows.markAllAsTouched();
+      this.errorText.set(labels);
+      return;
+    }
+    this.isImporting.set(true);
+    this.errorText.set('');
+    this.doneText.set('');
+    this.api.importLabelMap(this.seriesId(), file, labels).subscribe({
+      next: (structures) => {
+        this.isImporting.set(false);
+        picker.value = '';
+        this.file.set(null);
+        this.rows.clear();
+        this.rows.push(this.row());
+        const count = structures.length === 1 ? '1 structure' : `${structures.length} structures`;
+        this.doneText.set(`${count} imported.`);
+        this.imported.emit(structures);
+      },
+      error: (error: unknown) => {
+        this.isImporting.set(false);
+        this.errorText.set(`The label map was not imported. ${problemMessage(error)}`);
+      },
+    });
+  }
+
+  /** The rows as the `labels` field wants them, or a sentence on what is wrong with them. */
+  private mapping(): StructureLabels | string {
+    const mapping: StructureLabels = {};
+    for (const { labelValue, kind } of this.rows.getRawValue()) {
+      if (labelValue === null && kind === null) continue;
+      if (labelValue === null || kind === null) {
+        return 'Each row needs both a label value and a kind; empty a row to leave it out.';
+      }
+      if (!Number.isInteger(labelValue) || labelValue < 1 || labelValue > maxLabelValue) {
+        return `Label values are whole numbers from 1 to ${maxLabelValue}; ${labelValue} is not.`;
+      }
+      const key = String(labelValue);
+      if (key in mapping) return `Label ${key} is given twice; give each label one kind.`;
+      mapping[key] = kind;
+    }
+    return mapping;
+  }
+
+  private row() {
+    return this.formBuilder.group({
+      labelValue: this.formBuilder.control<number | null>(null, [
+        Validators.min(1),
+        Validators.max(maxLabelValue),
+      ]),
+      kind: this.formBuilder.control<StructureKind | null>(null),
+    });
+  }
+}

@@ -4,7 +4,7 @@
  * generator's manifest (voxel counts of the painted label map), the analytic sphere volume,
  * and the orientation rules of nifti1.h (RAS world) and DICOM PS3.3 C.7.6.2.1.1 (LPS).
  */
-import { mkdtempSync, rmSync } from 'node:fs';
+import { existsSync, mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { gunzipSync, gzipSync } from 'fflate';
@@ -19,6 +19,7 @@ import { generateAbdomenCt } from '../../sample-data/generate-abdomen-ct';
 import { seedDemoImaging } from '../../server/seeders/demo-imaging';
 import { AuditEvent } from '../../server/src/modules/audit/audit-event.entity';
 import { ImageSeries } from '../../server/src/modules/imaging/image-series.entity';
+import { LabelMap } from '../../server/src/modules/structures/label-map.entity';
 import { Structure } from '../../server/src/modules/structures/structure.entity';
 import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
 import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
@@ -355,6 +356,37 @@ describe('who may import, list and name', () => {
     expect((await anonymous.get(`/api/series/${series.id}/structures`)).status).toBe(401);
     expect((await importLabelMap(anonymous, generated.labelMapNiftiGz)).status).toBe(401);
   });
+});
+
+describe('deleting a draft case', () => {
+  it('removes its stored volume and label map files with it', async () => {
+    const upload = await uploadFiles(
+      presenter,
+      ids.northDraft,
+      generated.slices.map((slice) => new Uint8Array(slice)),
+    );
+    expect(upload.status, JSON.stringify(upload.body)).toBe(201);
+    const draftSeries = upload.body as ImageSeriesView;
+    const imported = await importLabelMap(presenter, generated.labelMapNiftiGz, {
+      seriesId: draftSeries.id,
+      labels: labelsJson,
+    });
+    expect(imported.status).toBe(201);
+    const em = testApp.orm.em.fork();
+    const stored = await em.findOneOrFail(ImageSeries, draftSeries.id);
+    const labelMap = await em.findOneOrFail(LabelMap, { series: draftSeries.id });
+    const files = [
+      join(fileStoreDir, ...stored.storageKey.split('/')),
+      join(fileStoreDir, 'label-maps', ...labelMap.storageKey.split('/')),
+    ];
+    expect(files.map((file) => existsSync(file))).toEqual([true, true]);
+
+    expect((await presenter.delete(`/api/cases/${ids.northDraft}`)).status).toBe(204);
+    expect(files.map((file) => existsSync(file))).toEqual([false, false]);
+    // The other case's files stay.
+    const kept = await em.fork().findOneOrFail(ImageSeries, series.id);
+    expect(existsSync(join(fileStoreDir, ...kept.storageKey.split('/')))).toBe(true);
+  }, 30_000);
 });
 
 describe('seeding the demo CT', () => {

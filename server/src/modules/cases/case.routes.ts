@@ -11,6 +11,10 @@ import { z } from 'zod';
 import { actorOf, requireSignIn, signedInUser } from '../../common/auth-middleware';
 import { NotFoundError } from '../../common/errors';
 import { parse } from '../../common/validate';
+import { FileStore } from '../imaging/file-store';
+import { imagingSettingsFromEnvironment } from '../imaging/imaging-settings';
+import { structuresSettingsFromEnvironment } from '../structures/structures-settings';
+import { labelMapStore } from '../structures/structures.routes';
 import { CaseService } from './case.service';
 
 const idSchema = z.uuid();
@@ -18,7 +22,11 @@ const idSchema = z.uuid();
 export function caseRoutes(orm: MikroORM): Router {
   const router = Router();
   router.use(requireSignIn);
-  const service = () => new CaseService(orm.em);
+  const stores = {
+    volumes: new FileStore(imagingSettingsFromEnvironment().fileStoreDir),
+    labelMaps: labelMapStore(structuresSettingsFromEnvironment()),
+  };
+  const service = () => new CaseService(orm.em, stores);
   const caseId = (value: unknown) => {
     // A malformed id names no case: the same 404 as a case out of reach.
     const result = idSchema.safeParse(value);

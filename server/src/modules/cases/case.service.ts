@@ -27,6 +27,16 @@ import { ClinicalCase } from './case.entity';
 import { LabPanel } from './lab-panel.entity';
 import { Lesion } from './lesion.entity';
 import { CaseRepository } from './case.repository';
+import type { FileStore } from '../imaging/file-store';
+import { ImageSeries } from '../imaging/image-series.entity';
+import { LabelMap } from '../structures/label-map.entity';
+import { logger } from '../../common/logger';
+
+/** Where a case's image files live, so that deleting a draft leaves none behind. */
+export interface CaseFileStores {
+  volumes: FileStore;
+  labelMaps: FileStore;
+}
 
 type CreateCase = z.output<typeof createCaseSchema>;
 type UpdateCase = z.output<typeof updateCaseSchema>;
@@ -39,7 +49,10 @@ type CreateLabPanel = z.output<typeof createLabPanelSchema>;
  * A case the user may not see answers 404, a forbidden action on a visible case 403.
  */
 export class CaseService {
-  constructor(private readonly em: EntityManager) {}
+  constructor(
+    private readonly em: EntityManager,
+    private readonly stores?: CaseFileStores,
+  ) {}
 
   private get cases(): CaseRepository {
     return this.em.getRepository(ClinicalCase) as CaseRepository;
@@ -126,9 +139,24 @@ export class CaseService {
     if (found.status !== 'draft') throw new ConflictError('Only a draft case can be deleted.');
     await found.lesions.init();
     await found.labPanels.init();
+    const series = await this.em.find(ImageSeries, { clinicalCase: found.id });
+    const labelMaps = series.length
+      ? await this.em.find(LabelMap, { series: { $in: series.map((s) => s.id) } })
+      : [];
     this.em.remove(found);
     recordAudit(this.em, actor, { action: 'case.delete', entityType: 'case', entityId: found.id });
     await this.em.flush();
+    // The rows went with the case (cascade); the files go after the commit, so a failed
+    // delete never leaves rows pointing at missing files.
+    const { stores } = this;
+    if (!stores) return;
+    const removals = await Promise.allSettled([
+      ...series.map((s) => stores.volumes.remove(s.storageKey)),
+      ...labelMaps.map((m) => stores.labelMaps.remove(m.storageKey)),
+    ]);
+    if (removals.some((r) => r.status === 'rejected')) {
+      logger.warn(`deleting case ${found.id} left image files behind`);
+    }
   }
 
   async addLesion(

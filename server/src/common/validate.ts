@@ -1,5 +1,5 @@
-import type { z } from 'zod';
-import { ValidationError } from './errors';
+import { z } from 'zod';
+import { NotFoundError, ValidationError } from './errors';
 
 /** Parses with a shared zod schema; a failure becomes a 400 that names each field. */
 export function parse<S extends z.ZodType>(schema: S, value: unknown): z.output<S> {
@@ -14,4 +14,13 @@ export function parse<S extends z.ZodType>(schema: S, value: unknown): z.output<
     first ? `${first.path}: ${first.message}` : 'The request is not valid.',
     errors,
   );
+}
+
+const uuidSchema = z.uuid();
+
+/** A record id from the path; a malformed one names nothing: the same 404 as a record out of reach. */
+export function pathId(value: unknown, what: string): string {
+  const result = uuidSchema.safeParse(value);
+  if (!result.success) throw new NotFoundError(what);
+  return result.data;
 }

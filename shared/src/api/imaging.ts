@@ -11,6 +11,7 @@
  * The file store holds exactly these bytes, so the server streams them unchanged.
  */
 import { z } from 'zod';
+import { decodeStoredFilePreamble, encodeStoredFilePreamble } from './stored-file-preamble';
 import type { GridDimensions, VolumeGeometry } from '../geometry/patient-geometry';
 import type { Vec3 } from '../geometry/vector';
 
@@ -130,9 +131,6 @@ export const volumeFileHeaderSchema = z.object({
 export type VolumeFileHeader = z.infer<typeof volumeFileHeaderSchema>;
 
 export const volumeFileMagic = 'EMBERVOL';
-const magicLength = 8;
-const lengthFieldBytes = 4;
-const voxelAlignment = 8;
 /** A header longer than this is refused when decoding (a real one is well under 1 kB). */
 const maxHeaderBytes = 65_536;
 
@@ -143,23 +141,7 @@ export class VolumeFileError extends Error {
 
 /** Everything before the voxels: magic, header length and the padded ASCII JSON header. */
 export function encodeVolumeFilePreamble(header: VolumeFileHeader): Uint8Array {
-  // Escape anything beyond ASCII so that one byte is one character both ways.
-  const json = JSON.stringify(volumeFileHeaderSchema.parse(header)).replace(
-    /[\u007f-\uffff]/g,
-    (character) => `\\u${character.charCodeAt(0).toString(16).padStart(4, '0')}`,
-  );
-  const unpadded = magicLength + lengthFieldBytes + json.length;
-  const padding = (voxelAlignment - (unpadded % voxelAlignment)) % voxelAlignment;
-  const headerText = json + ' '.repeat(padding);
-  const bytes = new Uint8Array(magicLength + lengthFieldBytes + headerText.length);
-  for (let index = 0; index < magicLength; index++) {
-    bytes[index] = volumeFileMagic.charCodeAt(index);
-  }
-  new DataView(bytes.buffer).setUint32(magicLength, headerText.length, true);
-  for (let index = 0; index < headerText.length; index++) {
-    bytes[magicLength + lengthFieldBytes + index] = headerText.charCodeAt(index);
-  }
-  return bytes;
+  return encodeStoredFilePreamble(volumeFileMagic, volumeFileHeaderSchema.parse(header));
 }
 
 function isLittleEndianPlatform(): boolean {
@@ -175,33 +157,18 @@ export function decodeVolumeFile(body: ArrayBuffer | Uint8Array): {
   voxels: Int16Array;
 } {
   const bytes = body instanceof Uint8Array ? body : new Uint8Array(body);
-  const fixedBytes = magicLength + lengthFieldBytes;
-  if (bytes.length < fixedBytes) throw new VolumeFileError('The volume body is too short.');
-  for (let index = 0; index < magicLength; index++) {
-    if (bytes[index] !== volumeFileMagic.charCodeAt(index)) {
-      throw new VolumeFileError(`The volume body does not start with ${volumeFileMagic}.`);
-    }
-  }
-  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
-  const headerBytes = view.getUint32(magicLength, true);
-  if (headerBytes > maxHeaderBytes || fixedBytes + headerBytes > bytes.length) {
-    throw new VolumeFileError('The volume header length is out of range.');
-  }
-  let json = '';
-  for (let index = 0; index < headerBytes; index++) {
-    json += String.fromCharCode(bytes[fixedBytes + index]);
-  }
-  let parsed: unknown;
-  try {
-    parsed = JSON.parse(json);
-  } catch {
-    throw new VolumeFileError('The volume header is not JSON.');
-  }
-  const result = volumeFileHeaderSchema.safeParse(parsed);
+  const preamble = decodeStoredFilePreamble(bytes, {
+    magic: volumeFileMagic,
+    what: 'The volume',
+    maxHeaderBytes,
+    refuse: (message) => new VolumeFileError(message),
+  });
+  const result = volumeFileHeaderSchema.safeParse(preamble.header);
   if (!result.success) throw new VolumeFileError('The volume header is not a volume header.');
   const header = result.data;
   const voxelCount = header.dimensions[0] * header.dimensions[1] * header.dimensions[2];
-  const voxelOffset = fixedBytes + headerBytes;
+  const { voxelOffset } = preamble;
+  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
   if (bytes.length - voxelOffset !== voxelCount * 2) {
     throw new VolumeFileError(
       `The volume holds ${bytes.length - voxelOffset} voxel bytes; its dimensions need ` +

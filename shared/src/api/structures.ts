@@ -11,6 +11,7 @@
  *                 i (column) fastest, then j (row), then k (slice) — on the series' own grid.
  */
 import { z } from 'zod';
+import { decodeStoredFilePreamble, encodeStoredFilePreamble } from './stored-file-preamble';
 
 /** The kinds a label may stand for: the identifiers of DESIGN.md §6. */
 export const structureKinds = [
@@ -117,9 +118,6 @@ export const labelMapFileHeaderSchema = z.object({
 export type LabelMapFileHeader = z.infer<typeof labelMapFileHeaderSchema>;
 
 export const labelMapFileMagic = 'EMBERLBL';
-const magicLength = 8;
-const lengthFieldBytes = 4;
-const voxelAlignment = 8;
 const maxHeaderBytes = 1_048_576;
 
 /** Thrown by `decodeLabelMapFile` for bytes that are not a complete label map body. */
@@ -129,19 +127,7 @@ export class LabelMapFileError extends Error {
 
 /** Everything before the voxels: magic, header length and the padded ASCII JSON header. */
 export function encodeLabelMapFilePreamble(header: LabelMapFileHeader): Uint8Array {
-  const json = JSON.stringify(labelMapFileHeaderSchema.parse(header));
-  const unpadded = magicLength + lengthFieldBytes + json.length;
-  const padding = (voxelAlignment - (unpadded % voxelAlignment)) % voxelAlignment;
-  const headerText = json + ' '.repeat(padding);
-  const bytes = new Uint8Array(magicLength + lengthFieldBytes + headerText.length);
-  for (let index = 0; index < magicLength; index++) {
-    bytes[index] = labelMapFileMagic.charCodeAt(index);
-  }
-  new DataView(bytes.buffer).setUint32(magicLength, headerText.length, true);
-  for (let index = 0; index < headerText.length; index++) {
-    bytes[magicLength + lengthFieldBytes + index] = headerText.charCodeAt(index) & 0x7f;
-  }
-  return bytes;
+  return encodeStoredFilePreamble(labelMapFileMagic, labelMapFileHeaderSchema.parse(header));
 }
 
 /**
@@ -153,34 +139,19 @@ export function decodeLabelMapFile(body: ArrayBuffer | Uint8Array): {
   labels: Uint8Array | Uint16Array;
 } {
   const bytes = body instanceof Uint8Array ? body : new Uint8Array(body);
-  const fixedBytes = magicLength + lengthFieldBytes;
-  if (bytes.length < fixedBytes) throw new LabelMapFileError('The label map body is too short.');
-  for (let index = 0; index < magicLength; index++) {
-    if (bytes[index] !== labelMapFileMagic.charCodeAt(index)) {
-      throw new LabelMapFileError(`The label map body does not start with ${labelMapFileMagic}.`);
-    }
-  }
-  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
-  const headerBytes = view.getUint32(magicLength, true);
-  if (headerBytes > maxHeaderBytes || fixedBytes + headerBytes > bytes.length) {
-    throw new LabelMapFileError('The label map header length is out of range.');
-  }
-  let json = '';
-  for (let index = 0; index < headerBytes; index++) {
-    json += String.fromCharCode(bytes[fixedBytes + index]);
-  }
-  let parsed: unknown;
-  try {
-    parsed = JSON.parse(json);
-  } catch {
-    throw new LabelMapFileError('The label map header is not JSON.');
-  }
-  const result = labelMapFileHeaderSchema.safeParse(parsed);
+  const preamble = decodeStoredFilePreamble(bytes, {
+    magic: labelMapFileMagic,
+    what: 'The label map',
+    maxHeaderBytes,
+    refuse: (message) => new LabelMapFileError(message),
+  });
+  const result = labelMapFileHeaderSchema.safeParse(preamble.header);
   if (!result.success) throw new LabelMapFileError('The label map header is not one.');
   const header = result.data;
   const voxelCount = header.dimensions[0] * header.dimensions[1] * header.dimensions[2];
   const bytesPerVoxel = header.dataType === 'uint8' ? 1 : 2;
-  const voxelOffset = fixedBytes + headerBytes;
+  const { voxelOffset } = preamble;
+  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
   if (bytes.length - voxelOffset !== voxelCount * bytesPerVoxel) {
     throw new LabelMapFileError(
       `The label map holds ${bytes.length - voxelOffset} voxel bytes; its dimensions need ` +

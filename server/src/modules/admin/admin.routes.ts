@@ -12,15 +12,9 @@ import {
 } from '@emberline/shared';
 import { actorOf, requireRole } from '../../common/auth-middleware';
 import { NotFoundError } from '../../common/errors';
-import { parse } from '../../common/validate';
+import { parse, pathId } from '../../common/validate';
 import { listAuditEvents } from '../audit/audit.service';
 import { AdminService } from './admin.service';
-
-function id(value: unknown, what: string): string {
-  const result = z.uuid().safeParse(value);
-  if (!result.success) throw new NotFoundError(what);
-  return result.data;
-}
 
 export function adminRoutes(orm: MikroORM): Router {
   const router = Router();
@@ -38,7 +32,7 @@ export function adminRoutes(orm: MikroORM): Router {
   router.patch('/users/:id', async (request, response) => {
     const body = parse(updateUserSchema, request.body);
     response.json(
-      await service().updateUser(actorOf(request), id(request.params.id, 'The user'), body),
+      await service().updateUser(actorOf(request), pathId(request.params.id, 'The user'), body),
     );
   });
 
@@ -54,7 +48,7 @@ export function adminRoutes(orm: MikroORM): Router {
     const body = parse(addMembershipSchema, request.body);
     await service().addMembership(
       actorOf(request),
-      id(request.params.id, 'The board'),
+      pathId(request.params.id, 'The board'),
       body.userId,
       body.specialty,
     );
@@ -63,8 +57,8 @@ export function adminRoutes(orm: MikroORM): Router {
   router.delete('/boards/:id/members/:userId', async (request, response) => {
     await service().removeMembership(
       actorOf(request),
-      id(request.params.id, 'The board'),
-      id(request.params.userId, 'The user'),
+      pathId(request.params.id, 'The board'),
+      pathId(request.params.userId, 'The user'),
     );
     response.status(204).end();
   });

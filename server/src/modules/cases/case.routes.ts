@@ -7,17 +7,13 @@ import {
   createLesionSchema,
   updateCaseSchema,
 } from '@emberline/shared';
-import { z } from 'zod';
 import { actorOf, requireSignIn, signedInUser } from '../../common/auth-middleware';
-import { NotFoundError } from '../../common/errors';
-import { parse } from '../../common/validate';
+import { parse, pathId } from '../../common/validate';
 import { FileStore } from '../imaging/file-store';
 import { imagingSettingsFromEnvironment } from '../imaging/imaging-settings';
 import { structuresSettingsFromEnvironment } from '../structures/structures-settings';
 import { labelMapStore } from '../structures/structures.routes';
 import { CaseService } from './case.service';
-
-const idSchema = z.uuid();
 
 export function caseRoutes(orm: MikroORM): Router {
   const router = Router();
@@ -27,12 +23,7 @@ export function caseRoutes(orm: MikroORM): Router {
     labelMaps: labelMapStore(structuresSettingsFromEnvironment()),
   };
   const service = () => new CaseService(orm.em, stores);
-  const caseId = (value: unknown) => {
-    // A malformed id names no case: the same 404 as a case out of reach.
-    const result = idSchema.safeParse(value);
-    if (!result.success) throw new NotFoundError('The case');
-    return result.data;
-  };
+  const caseId = (value: unknown) => pathId(value, 'The case');
 
   router.get('/', async (request, response) => {
     const query = parse(caseListQuerySchema, request.query);

@@ -1,17 +1,13 @@
 import { join } from 'node:path';
-import { pipeline } from 'node:stream/promises';
 import { Router } from 'express';
 import type { MikroORM } from '@mikro-orm/postgresql';
-import { z } from 'zod';
 import { updateStructureSchema } from '@emberline/shared';
 import { actorOf, requireSignIn, signedInUser } from '../../common/auth-middleware';
-import { NotFoundError } from '../../common/errors';
-import { parse } from '../../common/validate';
+import { parse, pathId } from '../../common/validate';
+import { sendStoredFile } from '../../common/send-stored-file';
 import { FileStore } from '../imaging/file-store';
 import { structuresSettingsFromEnvironment, type StructuresSettings } from './structures-settings';
 import { StructuresService } from './structures.service';
-
-const idSchema = z.uuid();
 
 /** The label maps' own folder of the file store. */
 export function labelMapStore(settings: StructuresSettings): FileStore {
@@ -32,18 +28,12 @@ export function structuresRoutes(
   const router = Router();
   const dependencies = { settings, store: labelMapStore(settings) };
   const service = () => new StructuresService(orm.em, dependencies);
-  const idOf = (value: unknown, what: string) => {
-    // A malformed id names nothing: the same 404 as a record out of reach.
-    const result = idSchema.safeParse(value);
-    if (!result.success) throw new NotFoundError(what);
-    return result.data;
-  };
 
   router.post('/series/:id/structures', requireSignIn, async (request, response) => {
     const structures = await service().importFromRequest(
       signedInUser(request),
       actorOf(request),
-      idOf(request.params.id, 'The series'),
+      pathId(request.params.id, 'The series'),
       request,
       response,
     );
@@ -55,33 +45,22 @@ export function structuresRoutes(
       await service().list(
         signedInUser(request),
         actorOf(request),
-        idOf(request.params.id, 'The series'),
+        pathId(request.params.id, 'The series'),
       ),
     );
   });
 
   router.get('/series/:id/label-map', requireSignIn, async (request, response) => {
-    const { stream, byteLength } = await service().openLabelMap(
+    const file = await service().openLabelMap(
       signedInUser(request),
       actorOf(request),
-      idOf(request.params.id, 'The series'),
+      pathId(request.params.id, 'The series'),
     );
-    response.status(200).set({
-      'Content-Type': 'application/octet-stream',
-      'Content-Length': String(byteLength),
-      'Cache-Control': 'private, no-store',
-    });
-    try {
-      await pipeline(stream, response);
-    } catch (error) {
-      // The client went away mid-body: nothing to answer, nothing to log.
-      if ((error as { code?: unknown }).code === 'ERR_STREAM_PREMATURE_CLOSE') return;
-      throw error;
-    }
+    await sendStoredFile(response, file);
   });
 
   router.patch('/structures/:id', requireSignIn, async (request, response) => {
-    const id = idOf(request.params.id, 'The structure');
+    const id = pathId(request.params.id, 'The structure');
     response.json(
       await service().update(
         signedInUser(request),

@@ -12,7 +12,6 @@ import { FormBuilder, ReactiveFormsModule, Validators } from '@angular/forms';
 import { MatButton } from '@angular/material/button';
 import { MatError, MatFormField, MatHint, MatLabel } from '@angular/material/form-field';
 import { MatInput } from '@angular/material/input';
-import { MatRadioButton, MatRadioGroup } from '@angular/material/radio';
 import { MatOption, MatSelect } from '@angular/material/select';
 import {
   caseStatusLabels,
@@ -26,14 +25,8 @@ import { FieldError } from '../core/field-error';
 import { applyFieldErrors } from '../core/server-field-errors';
 import { problemMessage } from '../core/problem';
 import { CaseApi } from './case-api';
-import {
-  caseCodeValidators,
-  diagnosisOptions,
-  ecogOptions,
-  findingOptions,
-  sexOptions,
-  yearOfBirthValidators,
-} from './case-form-options';
+import { CaseClinicalFields } from './case-clinical-fields';
+import { caseCodeValidators, yearOfBirthValidators } from './case-form-options';
 import { ecogLabels, findingLabel, sexLabels } from './clinical-labels';
 
 type EditableStatus = 'draft' | 'ready-for-board';
@@ -50,10 +43,9 @@ type EditableStatus = 'draft' | 'ready-for-board';
     MatInput,
     MatSelect,
     MatOption,
-    MatRadioGroup,
-    MatRadioButton,
     MatButton,
     FieldError,
+    CaseClinicalFields,
   ],
   templateUrl: './case-details-form.html',
   styleUrl: './case-details-form.scss',
@@ -65,10 +57,6 @@ export class CaseDetailsForm {
   readonly detail = input.required<CaseDetail>();
   readonly saved = output<CaseDetail>();
 
-  protected readonly sexOptions = sexOptions;
-  protected readonly diagnosisOptions = diagnosisOptions;
-  protected readonly ecogOptions = ecogOptions;
-  protected readonly findingOptions = findingOptions;
   protected readonly statusLabels = caseStatusLabels;
   protected readonly sexLabels = sexLabels;
   protected readonly diagnosisLabels = primaryDiagnosisLabels;

@@ -10,7 +10,6 @@ import {
 } from '@angular/material/dialog';
 import { MatError, MatFormField, MatHint, MatLabel } from '@angular/material/form-field';
 import { MatInput } from '@angular/material/input';
-import { MatRadioButton, MatRadioGroup } from '@angular/material/radio';
 import { MatOption, MatSelect } from '@angular/material/select';
 import {
   specialtyLabels,
@@ -24,14 +23,8 @@ import { FieldError } from '../core/field-error';
 import { applyFieldErrors } from '../core/server-field-errors';
 import { problemMessage } from '../core/problem';
 import { CaseApi } from './case-api';
-import {
-  caseCodeValidators,
-  diagnosisOptions,
-  ecogOptions,
-  findingOptions,
-  sexOptions,
-  yearOfBirthValidators,
-} from './case-form-options';
+import { CaseClinicalFields } from './case-clinical-fields';
+import { caseCodeValidators, yearOfBirthValidators } from './case-form-options';
 
 /** Opens a new case on one of the presenting physician's boards; closes with the created case. */
 @Component({
@@ -49,10 +42,9 @@ import {
     MatInput,
     MatSelect,
     MatOption,
-    MatRadioGroup,
-    MatRadioButton,
     MatButton,
     FieldError,
+    CaseClinicalFields,
   ],
   templateUrl: './new-case-dialog.html',
   styleUrl: './new-case-dialog.scss',
@@ -64,10 +56,6 @@ export class NewCaseDialog {
 
   protected readonly boards = inject(AuthSession).user()?.boards ?? [];
   protected readonly specialtyLabels = specialtyLabels;
-  protected readonly sexOptions = sexOptions;
-  protected readonly diagnosisOptions = diagnosisOptions;
-  protected readonly ecogOptions = ecogOptions;
-  protected readonly findingOptions = findingOptions;
   protected readonly isSaving = signal(false);
   protected readonly errorText = signal('');
 

@@ -10,3 +10,7 @@ export * from './api/imaging';
 export * from './api/structures';
 export * from './scores';
 export * from './geometry';
+export * from './api/applicator-profiles';
+export * from './api/plans';
+export * from './api/safety-profiles';
+export * from './api/assessments';

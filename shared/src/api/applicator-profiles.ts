@@ -1,0 +1,96 @@
+/**
+ * Applicator profiles (DESIGN.md §5): what an ablation applicator is and the zone its maker's
+ * table promises. Administrators manage them; plans refer to them by id.
+ *
+ * A zone table row says: at `powerW` for `timeS` the zone is an ellipsoid `zoneLengthMm` long
+ * along the shaft and `zoneWidthMm` across it, its centre `tipOffsetMm` behind the tip towards
+ * the entry.
+ */
+import { z } from 'zod';
+
+export const ablationModalities = ['microwave', 'radiofrequency'] as const;
+export type AblationModality = (typeof ablationModalities)[number];
+export const ablationModalityLabels: Record<AblationModality, string> = {
+  microwave: 'Microwave (MWA)',
+  radiofrequency: 'Radiofrequency (RFA)',
+};
+
+const positive = (what: string) =>
+  z.number({ error: `${what} must be a number` }).positive(`${what} must be greater than 0`);
+
+export const zoneTableRowSchema = z.strictObject({
+  powerW: positive('Power (W)').max(500, 'Power (W) must be at most 500'),
+  timeS: positive('Time (s)').max(3600, 'Time (s) must be at most 3600'),
+  zoneLengthMm: positive('Zone length (mm)').max(150, 'Zone length (mm) must be at most 150'),
+  zoneWidthMm: positive('Zone width (mm)').max(150, 'Zone width (mm) must be at most 150'),
+  tipOffsetMm: z
+    .number({ error: 'Tip offset (mm) must be a number' })
+    .min(-50, 'Tip offset (mm) must be at least -50')
+    .max(100, 'Tip offset (mm) must be at most 100'),
+});
+export type ZoneTableRow = z.infer<typeof zoneTableRowSchema>;
+
+/** A zone table: at least one row, no (power, time) pair twice. */
+export const zoneTableSchema = z
+  .array(zoneTableRowSchema)
+  .min(1, 'The zone table needs at least one row')
+  .max(200, 'The zone table may hold at most 200 rows')
+  .superRefine((rows, context) => {
+    const seen = new Set<string>();
+    rows.forEach((row, index) => {
+      const key = `${row.powerW}|${row.timeS}`;
+      if (seen.has(key)) {
+        context.addIssue({
+          code: 'custom',
+          path: [index],
+          message: `The zone table holds ${row.powerW} W for ${row.timeS} s twice`,
+        });
+      }
+      seen.add(key);
+    });
+  });
+
+/** POST /api/admin/applicator-profiles, and the whole body of a PUT/PATCH. */
+export const createApplicatorProfileSchema = z
+  .strictObject({
+    name: z.string().trim().min(1, 'A name is required').max(80),
+    modality: z.enum(ablationModalities),
+    gaugeG: z.number().int('Gauge must be a whole number').min(10).max(25),
+    workingLengthMm: positive('Working length (mm)').max(400),
+    activeLengthMm: positive('Active length (mm)').max(80),
+    zoneTable: zoneTableSchema,
+    notes: z.string().trim().max(2000).optional(),
+  })
+  .refine((profile) => profile.activeLengthMm < profile.workingLengthMm, {
+    path: ['activeLengthMm'],
+    message: 'The active length must be shorter than the working length',
+  });
+export type CreateApplicatorProfile = z.infer<typeof createApplicatorProfileSchema>;
+
+/** PATCH /api/admin/applicator-profiles/:id: any field; `isRetired` hides it from new plans. */
+export const updateApplicatorProfileSchema = z.strictObject({
+  name: z.string().trim().min(1).max(80).optional(),
+  modality: z.enum(ablationModalities).optional(),
+  gaugeG: z.number().int().min(10).max(25).optional(),
+  workingLengthMm: positive('Working length (mm)').max(400).optional(),
+  activeLengthMm: positive('Active length (mm)').max(80).optional(),
+  zoneTable: zoneTableSchema.optional(),
+  notes: z.string().trim().max(2000).optional(),
+  isRetired: z.boolean().optional(),
+});
+export type UpdateApplicatorProfile = z.infer<typeof updateApplicatorProfileSchema>;
+
+export interface ApplicatorProfileView {
+  id: string;
+  name: string;
+  modality: AblationModality;
+  gaugeG: number;
+  workingLengthMm: number;
+  activeLengthMm: number;
+  zoneTable: ZoneTableRow[];
+  notes: string | null;
+  /** Retired profiles stay readable for the plans that use them but cannot be chosen anew. */
+  isRetired: boolean;
+  createdAt: string;
+  updatedAt: string;
+}

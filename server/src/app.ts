@@ -1,4 +1,4 @@
-import express, { type Express } from 'express';
+import express, { type Express, type RequestHandler } from 'express';
 import cookieParser from 'cookie-parser';
 import helmet from 'helmet';
 import { existsSync } from 'node:fs';
@@ -9,12 +9,18 @@ import type { AppConfig } from './config';
 import { csrfProtection } from './common/csrf';
 import { errorMiddleware, notFoundHandler } from './common/error-middleware';
 import { adminRoutes } from './modules/admin/admin.routes';
+import type { AssessmentRuntime } from './modules/assessments/assessment-runtime';
+import { assessmentStores } from './modules/assessments/assessment-runtime';
+import { assessmentRoutes } from './modules/assessments/assessments.routes';
+import { imagingSettingsFromEnvironment } from './modules/imaging/imaging-settings';
 import { authRoutes } from './modules/auth/auth.routes';
 import { currentUserMiddleware, sessionMiddleware } from './modules/auth/session';
 import { boardRoutes } from './modules/boards/board.routes';
 import { caseRoutes } from './modules/cases/case.routes';
 import { healthRoutes } from './modules/health/health.routes';
 import { imagingRoutes } from './modules/imaging/imaging.routes';
+import { adminProfileRoutes } from './modules/plans/admin-profiles.routes';
+import { planRoutes } from './modules/plans/plans.routes';
 import { samlRoutes, samlStatusRoutes } from './modules/saml/saml.routes';
 import { structuresRoutes } from './modules/structures/structures.routes';
 
@@ -24,6 +30,10 @@ export interface Services {
   sessionPool: Pool;
   config: AppConfig;
   log: (message: string, error?: unknown) => void;
+  /** The session middleware, when the caller shares it with Socket.IO; made here otherwise. */
+  session?: RequestHandler;
+  /** The assessment queue; without it a request for an assessment answers 503. */
+  assessments?: Pick<AssessmentRuntime, 'queue' | 'displays'> | null;
 }
 
 export const samlCallbackPath = '/api/auth/saml/callback';
@@ -55,7 +65,7 @@ export function createApp(services: Services): Express {
   app.use(express.json({ limit: '256kb' }));
   app.use(express.urlencoded({ extended: false, limit: '512kb' }));
   app.use(cookieParser());
-  app.use('/api', sessionMiddleware(config, services.sessionPool));
+  app.use('/api', services.session ?? sessionMiddleware(config, services.sessionPool));
   app.use((_request, _response, next) => RequestContext.create(orm.em, next));
   app.use('/api', currentUserMiddleware(orm, config));
   app.use(
@@ -75,7 +85,19 @@ export function createApp(services: Services): Express {
   app.use('/api/cases', caseRoutes(orm));
   app.use('/api', imagingRoutes(orm));
   app.use('/api', structuresRoutes(orm));
+  app.use('/api', planRoutes(orm));
+  app.use(
+    '/api',
+    assessmentRoutes(orm, {
+      queue: services.assessments?.queue ?? null,
+      displays:
+        services.assessments?.displays ??
+        assessmentStores(imagingSettingsFromEnvironment().fileStoreDir).displays,
+      isBioheatRequested: true,
+    }),
+  );
   app.use('/api/admin', adminRoutes(orm));
+  app.use('/api/admin', adminProfileRoutes(orm));
   app.use('/api', notFoundHandler);
 
   if (config.clientDist && existsSync(join(config.clientDist, 'index.html'))) {

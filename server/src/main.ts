@@ -1,3 +1,4 @@
+import { createServer } from 'node:http';
 import pg from 'pg';
 import { fileURLToPath } from 'node:url';
 import { createApp } from './app';
@@ -5,7 +6,12 @@ import { configFromEnvironment } from './config';
 import { databaseUrl } from './database-url';
 import { openDatabase } from './db';
 import { logger } from './common/logger';
+import { sessionMiddleware } from './modules/auth/session';
 import { samlSettingsFromEnvironment } from './modules/saml/saml-settings';
+import { AssessmentProgressListener } from './modules/assessments/assessment-progress';
+import { startAssessmentRuntime } from './modules/assessments/assessment-runtime';
+import { assessmentSocketFeature, relayProgress } from './modules/assessments/assessment.socket';
+import { createRealtimeServer } from './realtime/io';
 
 const config = configFromEnvironment();
 config.clientDist =
@@ -14,16 +20,28 @@ config.clientDist =
 config.saml = await samlSettingsFromEnvironment(config, process.env, process.env.FAKE_IDP_DIR);
 const orm = await openDatabase();
 const sessionPool = new pg.Pool({ connectionString: databaseUrl(), max: 4 });
-const app = createApp({ orm, sessionPool, config, log: logger.error });
+const assessments = await startAssessmentRuntime({
+  orm,
+  connectionString: databaseUrl(),
+  log: logger.error,
+  isWorking: process.env.ASSESSMENT_IN_SERVER !== '0',
+});
+const session = sessionMiddleware(config, sessionPool);
+const app = createApp({ orm, sessionPool, config, log: logger.error, session, assessments });
 
 const port = Number(process.env.PORT ?? 4300);
 const host = process.env.HOST ?? '127.0.0.1';
-const server = app.listen(port, host, () =>
-  logger.info(`Emberline listening on http://${host}:${port}`),
-);
+const server = createServer(app);
+const io = createRealtimeServer(server, { orm, config, session }, [assessmentSocketFeature(orm)]);
+const progress = new AssessmentProgressListener(databaseUrl(), relayProgress(io), logger.error);
+await progress.start();
+server.listen(port, host, () => logger.info(`Emberline listening on http://${host}:${port}`));
 
 async function shutDown(): Promise<void> {
+  await io.close();
   server.close();
+  await progress.close();
+  await assessments.close();
   await sessionPool.end();
   await orm.close();
   process.exit(0);

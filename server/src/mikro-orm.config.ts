@@ -1,6 +1,7 @@
 import { defineConfig } from '@mikro-orm/postgresql';
 import { Migrator } from '@mikro-orm/migrations';
 import { fileURLToPath } from 'node:url';
+import { Assessment } from './modules/assessments/assessment.entity';
 import { AuditEvent } from './modules/audit/audit-event.entity';
 import { Board } from './modules/boards/board.entity';
 import { BoardMembership } from './modules/boards/board-membership.entity';
@@ -11,6 +12,9 @@ import { ImageSeries } from './modules/imaging/image-series.entity';
 import { UidReplacement } from './modules/imaging/uid-replacement.entity';
 import { LabelMap } from './modules/structures/label-map.entity';
 import { Structure } from './modules/structures/structure.entity';
+import { ApplicatorProfile } from './modules/plans/applicator-profile.entity';
+import { NeedlePlan } from './modules/plans/needle-plan.entity';
+import { SafetyProfile } from './modules/plans/safety-profile.entity';
 import { SamlAssertionSeen } from './modules/saml/saml-assertion.entity';
 import { SamlRequest } from './modules/saml/saml-request.entity';
 import { HttpSession } from './modules/sessions/http-session.entity';
@@ -36,6 +40,10 @@ export const entities = [
   UidReplacement,
   LabelMap,
   Structure,
+  ApplicatorProfile,
+  SafetyProfile,
+  NeedlePlan,
+  Assessment,
 ];
 
 /** MikroORM settings; `clientUrl` decides the database (tests pass their own). */

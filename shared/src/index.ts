@@ -14,3 +14,5 @@ export * from './api/applicator-profiles';
 export * from './api/plans';
 export * from './api/safety-profiles';
 export * from './api/assessments';
+export * from './api/realtime';
+export * from './api/assessment-display';

@@ -8,6 +8,8 @@ const database = `emberline_migrations_${process.pid}`;
 
 const expectedTables = [
   'app_user',
+  'applicator_profile',
+  'assessment',
   'audit_event',
   'board',
   'board_membership',
@@ -17,7 +19,9 @@ const expectedTables = [
   'lab_panel',
   'label_map',
   'lesion',
+  'needle_plan',
   'role_policy',
+  'safety_profile',
   'saml_assertion_seen',
   'saml_request',
   'structure',

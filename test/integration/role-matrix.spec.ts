@@ -9,6 +9,13 @@ import { User } from '../../server/src/modules/users/user.entity';
 import { Lesion } from '../../server/src/modules/cases/lesion.entity';
 import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
 import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
+import { demoMicrowaveProfileName } from '../../server/seeders/demo-plans';
+import { ClinicalCase } from '../../server/src/modules/cases/case.entity';
+import { ImageSeries } from '../../server/src/modules/imaging/image-series.entity';
+import { ApplicatorProfile } from '../../server/src/modules/plans/applicator-profile.entity';
+import { NeedlePlan } from '../../server/src/modules/plans/needle-plan.entity';
+import { SafetyProfile } from '../../server/src/modules/plans/safety-profile.entity';
+import { insertSeriesRow, planBody, safetyBody } from './plan-fixtures';
 
 /**
  * Every role and an anonymous client against every route of the foundation, one expected status a
@@ -33,6 +40,12 @@ interface Context {
   memberUserId: string;
   southUserId: string;
   runTag: string;
+  /** A series row of northReady, its presenter's draft plan and submitted plan. */
+  seriesId: string;
+  draftPlanId: string;
+  submittedPlanId: string;
+  applicatorProfileId: string;
+  safetyProfileId: string;
 }
 
 interface Route {
@@ -249,6 +262,116 @@ const routes: Route[] = [
     expected: row(401, 200, 403, 403, 403, 403, 403),
   },
   {
+    name: 'GET /api/applicator-profiles',
+    call: (c) => c.get('/api/applicator-profiles'),
+    expected: row(401, 403, 200, 200, 200, 200, 200),
+  },
+  {
+    name: 'GET /api/safety-profiles/default',
+    call: (c) => c.get('/api/safety-profiles/default'),
+    expected: row(401, 403, 200, 200, 200, 200, 200),
+  },
+  {
+    name: 'GET /api/admin/applicator-profiles',
+    call: (c) => c.get('/api/admin/applicator-profiles'),
+    expected: row(401, 200, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'POST /api/admin/applicator-profiles',
+    call: (c, x) =>
+      c.post('/api/admin/applicator-profiles', {
+        name: `Matrix RFA ${x.runTag}`,
+        modality: 'radiofrequency',
+        gaugeG: 17,
+        workingLengthMm: 150,
+        activeLengthMm: 20,
+        zoneTable: [{ powerW: 100, timeS: 360, zoneLengthMm: 22, zoneWidthMm: 16, tipOffsetMm: 9 }],
+      }),
+    expected: row(401, 201, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'GET /api/admin/applicator-profiles/:id',
+    call: (c, x) => c.get(`/api/admin/applicator-profiles/${x.applicatorProfileId}`),
+    expected: row(401, 200, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'PATCH /api/admin/applicator-profiles/:id',
+    call: (c, x) =>
+      c.patch(`/api/admin/applicator-profiles/${x.applicatorProfileId}`, { gaugeG: 14 }),
+    expected: row(401, 200, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'GET /api/admin/safety-profiles',
+    call: (c) => c.get('/api/admin/safety-profiles'),
+    expected: row(401, 200, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'POST /api/admin/safety-profiles',
+    call: (c, x) => c.post('/api/admin/safety-profiles', safetyBody(`Matrix ${x.runTag}`)),
+    expected: row(401, 201, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'GET /api/admin/safety-profiles/:id',
+    call: (c, x) => c.get(`/api/admin/safety-profiles/${x.safetyProfileId}`),
+    expected: row(401, 200, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'PUT /api/admin/safety-profiles/:default',
+    call: (c, x) =>
+      c.put(
+        `/api/admin/safety-profiles/${x.safetyProfileId}`,
+        safetyBody(`Matrix default ${x.runTag}`, { isDefault: true }),
+      ),
+    expected: row(401, 200, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'POST /api/cases/:north-ready/plans',
+    call: (c, x) =>
+      c.post(`/api/cases/${x.ids.northReady}/plans`, planBody(x.seriesId, x.applicatorProfileId)),
+    expected: row(401, 404, 201, 403, 403, 404, 404),
+  },
+  {
+    name: 'POST /api/cases/:south-ready/plans',
+    call: (c, x) =>
+      c.post(`/api/cases/${x.ids.southReady}/plans`, planBody(x.seriesId, x.applicatorProfileId)),
+    expected: row(401, 404, 404, 404, 404, 404, 403),
+  },
+  {
+    name: 'GET /api/cases/:north-ready/plans',
+    call: (c, x) => c.get(`/api/cases/${x.ids.northReady}/plans`),
+    expected: row(401, 404, 200, 200, 200, 404, 404),
+  },
+  {
+    name: 'GET /api/cases/:north-decided/plans',
+    call: (c, x) => c.get(`/api/cases/${x.ids.northDecided}/plans`),
+    expected: row(401, 404, 200, 200, 200, 200, 404),
+  },
+  {
+    name: 'GET /api/plans/:north-ready-draft',
+    call: (c, x) => c.get(`/api/plans/${x.draftPlanId}`),
+    expected: row(401, 404, 200, 200, 200, 404, 404),
+  },
+  {
+    name: 'PATCH /api/plans/:north-ready-draft',
+    call: (c, x) => c.patch(`/api/plans/${x.draftPlanId}`, { name: 'Renamed in the matrix' }),
+    expected: row(401, 404, 200, 403, 403, 404, 404),
+  },
+  {
+    name: 'PATCH /api/plans/:north-ready-submitted (not a draft)',
+    call: (c, x) => c.patch(`/api/plans/${x.submittedPlanId}`, { name: 'Too late' }),
+    expected: row(401, 404, 409, 403, 403, 404, 404),
+  },
+  {
+    name: 'DELETE /api/plans/:north-ready-submitted (not a draft)',
+    call: (c, x) => c.delete(`/api/plans/${x.submittedPlanId}`),
+    expected: row(401, 404, 409, 403, 403, 404, 404),
+  },
+  {
+    name: 'DELETE /api/plans/:north-ready-draft',
+    call: (c, x) => c.delete(`/api/plans/${x.draftPlanId}`),
+    expected: row(401, 404, 204, 403, 403, 404, 404),
+  },
+  {
     name: 'DELETE /api/admin/boards/:north/members/:south',
     call: (c, x) => c.delete(`/api/admin/boards/${x.ids.northBoard}/members/${x.southUserId}`),
     expected: row(401, 204, 403, 403, 403, 403, 403),
@@ -325,12 +448,34 @@ describe.each(who)('role × route matrix: %s', (role) => {
       { clinicalCase: ids.northDraft },
       { orderBy: { segment: 'asc' } },
     );
+    const northReady = await em.findOneOrFail(ClinicalCase, ids.northReady);
+    const seriesId = await insertSeriesRow(testApp.orm, northReady.id, northReady.presenter.id);
+    const applicatorProfileId = (
+      await em.findOneOrFail(ApplicatorProfile, { name: demoMicrowaveProfileName })
+    ).id;
+    const plans = (['draft', 'submitted'] as const).map((status) => {
+      const plan = new NeedlePlan({
+        clinicalCase: em.getReference(ClinicalCase, northReady.id, { wrapped: true }),
+        series: em.getReference(ImageSeries, seriesId, { wrapped: true }),
+        author: northReady.presenter,
+        name: `Matrix ${status} plan`,
+        applicators: planBody(seriesId, applicatorProfileId).applicators,
+      });
+      plan.status = status;
+      return plan;
+    });
+    await em.persist(plans).flush();
     context = {
       ids,
       lesionId: lesion.id,
       memberUserId: (await em.findOneOrFail(User, { email: 'member@emberline.test' })).id,
       southUserId: (await em.findOneOrFail(User, { email: 'south@emberline.test' })).id,
       runTag: role.toUpperCase(),
+      seriesId,
+      draftPlanId: plans[0].id,
+      submittedPlanId: plans[1].id,
+      applicatorProfileId,
+      safetyProfileId: (await em.findOneOrFail(SafetyProfile, { isDefault: true })).id,
     };
     client = new ApiClient(testApp.app);
     if (role !== 'anonymous')

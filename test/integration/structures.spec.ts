@@ -296,12 +296,12 @@ describe(`refusals (${NIFTI_1}; ${PS3_3})`, () => {
     expect(problemOf(response).detail).toContain('"spleen"');
   });
 
-  it('refuses a DICOM file with 415: DICOM SEG import is not available yet', async () => {
+  it('refuses a DICOM file that is not a segmentation (a CT slice) with 415', async () => {
     const response = await importLabelMap(presenter, new Uint8Array(generated.slices[0]), {
       fileName: 'seg.dcm',
     });
     expect(response.status).toBe(415);
-    expect(problemOf(response).detail).toContain('DICOM SEG import is not available yet');
+    expect(problemOf(response).detail).toContain('not a segmentation');
   });
 
   it('refuses a gzip file that inflates past what the series grid can need (413)', async () => {

@@ -1,5 +1,6 @@
 import type { MikroORM } from '@mikro-orm/postgresql';
 import { seedDemo, demoPassword } from '../../server/seeders/demo-seed';
+import { seedDemoProfiles } from '../../server/seeders/demo-plans';
 import { ClinicalCase } from '../../server/src/modules/cases/case.entity';
 import { truncateAll } from './test-app';
 
@@ -14,10 +15,14 @@ export interface DemoIds {
   southBoard: string;
 }
 
-/** A fresh copy of the invented demo hospital, and the ids the tests need from it. */
+/**
+ * A fresh copy of the invented demo hospital with its applicator and safety profiles, and the
+ * ids the tests need from it.
+ */
 export async function resetToDemo(orm: MikroORM): Promise<DemoIds> {
   await truncateAll(orm);
   await seedDemo(orm.em.fork());
+  await seedDemoProfiles(orm.em.fork());
   const em = orm.em.fork();
   const byCode = async (caseCode: string) => em.findOneOrFail(ClinicalCase, { caseCode });
   const northDraft = await byCode('NLB-2026-019');

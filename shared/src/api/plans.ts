@@ -79,6 +79,9 @@ export const updatePlanSchema = z.strictObject({
     .max(maximumApplicatorsPerPlan)
     .optional(),
   notes: z.string().trim().max(4000).nullable().optional(),
+  status: z
+    .literal('submitted', { error: 'status may only move a draft to "submitted"' })
+    .optional(),
 });
 export type UpdatePlan = z.infer<typeof updatePlanSchema>;
 

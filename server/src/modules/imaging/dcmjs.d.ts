@@ -35,6 +35,8 @@ declare module 'dcmjs' {
       DicomMessage: {
         readFile(buffer: ArrayBuffer, options?: Record<string, unknown>): DicomDict;
       };
+      /** 1-bit pixel packing (tests writing DICOM SEG): one bit a non-zero value, LSB first. */
+      BitArray: { pack(pixels: ArrayLike<number>): Uint8Array };
     };
     log: { setLevel(level: 'trace' | 'debug' | 'info' | 'warn' | 'error' | 'silent'): void };
   };

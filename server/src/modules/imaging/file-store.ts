@@ -1,10 +1,13 @@
 import { randomUUID } from 'node:crypto';
 import type { ReadStream } from 'node:fs';
-import { mkdir, open, rename, rm } from 'node:fs/promises';
+import { mkdir, open, readFile, rename, rm } from 'node:fs/promises';
 import { dirname, join, resolve, sep } from 'node:path';
 
-/** Keys the store hands out: a folder and a random name, nothing derived from the data. */
-const keyPattern = /^volumes\/[0-9a-f-]{36}\.vol$/;
+/**
+ * Keys the store accepts: a folder, a UUID and an extension — nothing derived from the data,
+ * nothing a caller could steer outside the root.
+ */
+const keyPattern = /^[a-z][a-z-]{0,30}\/[0-9a-f-]{36}\.[a-z]{2,8}$/;
 const temporaryPrefix = '.incoming-';
 
 /**
@@ -71,6 +74,11 @@ export class FileStore {
       await handle.close();
       throw error;
     }
+  }
+
+  /** The whole file `key` in memory (label maps for the assessment engine: a few MB). */
+  async readWhole(key: string): Promise<Uint8Array> {
+    return new Uint8Array(await readFile(this.pathOf(key)));
   }
 
   async remove(key: string): Promise<void> {

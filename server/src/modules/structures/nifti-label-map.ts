@@ -61,17 +61,6 @@ export function inflateIfGzip(bytes: Uint8Array, maxInflatedBytes: number): Uint
   }
 }
 
-/** True for a DICOM Part 10 file: 128-byte preamble, then `DICM`. */
-export function isDicomPart10(bytes: Uint8Array): boolean {
-  return (
-    bytes.length >= 132 &&
-    bytes[128] === 0x44 &&
-    bytes[129] === 0x49 &&
-    bytes[130] === 0x43 &&
-    bytes[131] === 0x4d
-  );
-}
-
 function ascii(bytes: Uint8Array, offset: number, length: number): string {
   let text = '';
   for (let index = offset; index < offset + length && bytes[index] !== 0; index++) {

@@ -12,7 +12,15 @@ export type StructureRefusalReason =
   | 'too-large'
   | 'gzip'
   | 'not-nifti'
-  | 'dicom-seg'
+  | 'not-segmentation'
+  | 'dicom-transfer-syntax'
+  | 'dicom-malformed'
+  | 'dicom-truncated'
+  | 'dicom-seg-type'
+  | 'segments'
+  | 'segment-overlap'
+  | 'too-complex'
+  | 'busy'
   | 'nifti-malformed'
   | 'nifti-truncated'
   | 'nifti-datatype'
@@ -38,6 +46,8 @@ function titleOf(status: number): string {
       return 'Upload too large';
     case 415:
       return 'Unsupported label map';
+    case 503:
+      return 'Busy';
     default:
       return 'Invalid label map';
   }

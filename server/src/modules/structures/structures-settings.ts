@@ -1,11 +1,14 @@
 import { fileURLToPath } from 'node:url';
 import { z } from 'zod';
+import type { DicomSegReadOptions } from './dicom-seg-reader';
 
 export interface StructuresSettings {
   /** The file store's folder (shared with the image volumes; label maps go in a folder of it). */
   fileStoreDir: string;
   /** Bytes of the label map file as sent (a .nii.gz counts compressed). */
   maxUploadBytes: number;
+  /** Bounds of reading a DICOM SEG file (in a worker thread). */
+  segmentationRead: DicomSegReadOptions;
 }
 
 const dataDir = fileURLToPath(new URL('../../../../.data/', import.meta.url));
@@ -18,6 +21,9 @@ const environmentSchema = z.object({
     .int()
     .positive()
     .default(256 * mebibyte),
+  STRUCTURES_READ_TIMEOUT_MS: z.coerce.number().int().positive().default(60_000),
+  STRUCTURES_WORKER_MEMORY_MB: z.coerce.number().int().positive().default(256),
+  STRUCTURES_MAX_CONCURRENT_READS: z.coerce.number().int().positive().default(2),
 });
 
 export function structuresSettingsFromEnvironment(env = process.env): StructuresSettings {
@@ -29,5 +35,10 @@ export function structuresSettingsFromEnvironment(env = process.env): Structures
   return {
     fileStoreDir: result.data.FILE_STORE_DIR,
     maxUploadBytes: result.data.STRUCTURES_MAX_UPLOAD_BYTES,
+    segmentationRead: {
+      timeoutMs: result.data.STRUCTURES_READ_TIMEOUT_MS,
+      memoryLimitMb: result.data.STRUCTURES_WORKER_MEMORY_MB,
+      maxConcurrent: result.data.STRUCTURES_MAX_CONCURRENT_READS,
+    },
   };
 }

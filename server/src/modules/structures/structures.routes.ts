@@ -6,6 +6,7 @@ import { actorOf, requireSignIn, signedInUser } from '../../common/auth-middlewa
 import { parse, pathId } from '../../common/validate';
 import { sendStoredFile } from '../../common/send-stored-file';
 import { FileStore } from '../imaging/file-store';
+import { DicomSegReader } from './dicom-seg-reader';
 import { structuresSettingsFromEnvironment, type StructuresSettings } from './structures-settings';
 import { StructuresService } from './structures.service';
 
@@ -26,7 +27,11 @@ export function structuresRoutes(
   settings: StructuresSettings = structuresSettingsFromEnvironment(),
 ): Router {
   const router = Router();
-  const dependencies = { settings, store: labelMapStore(settings) };
+  const dependencies = {
+    settings,
+    store: labelMapStore(settings),
+    segmentationReader: new DicomSegReader(settings.segmentationRead),
+  };
   const service = () => new StructuresService(orm.em, dependencies);
 
   router.post('/series/:id/structures', requireSignIn, async (request, response) => {

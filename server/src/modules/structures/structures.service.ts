@@ -11,7 +11,6 @@ import {
   type StructureLabels,
   type StructureView,
   type UpdateStructure,
-  type VolumeGeometry,
 } from '@emberline/shared';
 import { hasRole } from '../../common/auth-middleware';
 import { ForbiddenError, NotFoundError } from '../../common/errors';
@@ -21,9 +20,9 @@ import { visibilityFilter } from '../cases/case.service';
 import type { FileStore } from '../imaging/file-store';
 import { ImageSeries } from '../imaging/image-series.entity';
 import { User } from '../users/user.entity';
-import { assertSameGrid } from './grid-match';
+import { DicomSegReader } from './dicom-seg-reader';
+import { decodeLabelMap } from './label-map-decode';
 import { LabelMap } from './label-map.entity';
-import { inflateIfGzip, isDicomPart10, readNiftiLabelMap } from './nifti-label-map';
 import { Structure } from './structure.entity';
 import { StructureRefusal } from './structure-refusal';
 import { receiveImport } from './structure-upload';
@@ -33,20 +32,11 @@ export interface StructuresDependencies {
   /** The label map store: a FileStore of its own folder. */
   store: FileStore;
   settings: StructuresSettings;
-}
-
-/** Room a NIfTI file takes beyond its voxels: header, extensions (generous). */
-const niftiOverheadBytes = 1_048_576;
-/** The widest NIfTI voxel read (float64). */
-const maxBytesPerVoxel = 8;
-
-function seriesGeometry(series: ImageSeries): VolumeGeometry {
-  return {
-    dimensions: series.dimensions,
-    spacingMm: series.spacingMm,
-    originLps: series.originLps,
-    direction: series.direction,
-  };
+  /**
+   * Reads DICOM SEG files, at most `maxConcurrent` at once across requests; without one (the
+   * demo seeder, which imports NIfTI) the service makes its own from the settings.
+   */
+  segmentationReader?: DicomSegReader;
 }
 
 /** mL of `voxelCount` voxels of the series: count × Δi·Δj·Δk (mm³) / 1000, to six decimals. */
@@ -250,18 +240,13 @@ export class StructuresService {
     labelsText: string | undefined,
   ): Promise<StructureView[]> {
     const labels = parseLabels(labelsText);
-    const { store } = this.dependencies;
-    if (isDicomPart10(file)) {
-      throw new StructureRefusal(
-        415,
-        'dicom-seg',
-        'DICOM SEG import is not available yet; send the label map as NIfTI-1 (.nii or .nii.gz).',
-      );
-    }
-    const [nx, ny, nz] = series.dimensions;
-    const inflated = inflateIfGzip(file, niftiOverheadBytes + nx * ny * nz * maxBytesPerVoxel);
-    const labelMap = readNiftiLabelMap(inflated);
-    assertSameGrid(labelMap.geometry, seriesGeometry(series));
+    const { store, settings } = this.dependencies;
+    const labelMap = await decodeLabelMap(
+      file,
+      series,
+      this.dependencies.segmentationReader ?? new DicomSegReader(settings.segmentationRead),
+    );
+    const { source, segments } = labelMap;
 
     const counts = new Map<number, number>();
     let largest = 0;
@@ -307,7 +292,7 @@ export class StructuresService {
     const previousMap = await this.em.findOne(LabelMap, { series: series.id });
     const previousKey = previousMap?.storageKey ?? null;
     const fields = {
-      source: 'nifti' as const,
+      source,
       dataType: voxels.dataType,
       storageKey,
       byteLength,
@@ -328,23 +313,29 @@ export class StructuresService {
       const volumeMl = volumeMlOf(voxelCount, series);
       const namedKind = labels[String(labelValue)];
       const row = previous.get(labelValue);
+      // A SEG names its segments itself: `labels`, else the kind its description suggests,
+      // else the kind the row had; the name is always the segment's label.
+      const segment = segments?.get(labelValue);
       if (row) {
-        Object.assign(row, { voxelCount, volumeMl, source: 'nifti' });
-        if (namedKind) {
+        Object.assign(row, { voxelCount, volumeMl, source });
+        if (segment) {
+          row.kind = namedKind ?? segment.suggestedKind ?? row.kind;
+          row.name = segment.name ?? defaultName(labelValue, row.kind);
+        } else if (namedKind) {
           row.kind = namedKind;
           row.name = defaultName(labelValue, namedKind);
         }
       } else {
-        const kind = namedKind ?? null;
+        const kind = namedKind ?? segment?.suggestedKind ?? null;
         this.em.persist(
           new Structure({
             series: seriesRef,
             labelValue,
             kind,
-            name: defaultName(labelValue, kind),
+            name: segment?.name ?? defaultName(labelValue, kind),
             voxelCount,
             volumeMl,
-            source: 'nifti',
+            source,
           }),
         );
       }
@@ -355,7 +346,7 @@ export class StructuresService {
       entityId: series.id,
       detail: {
         caseId: series.clinicalCase.id,
-        source: 'nifti',
+        source,
         structureCount: labelValues.length,
         isReplacement: previousMap !== null,
       },

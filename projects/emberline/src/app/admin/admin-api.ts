@@ -2,13 +2,18 @@ import { HttpClient, httpResource, type HttpResourceRef } from '@angular/common/
 import { Injectable, inject } from '@angular/core';
 import type {
   AdminUserView,
+  ApplicatorProfileView,
   AuditAction,
   AuditEventView,
   BoardView,
+  CreateApplicatorProfile,
   Page,
   Role,
   RolePolicyView,
+  SafetyProfileBody,
+  SafetyProfileView,
   Specialty,
+  UpdateApplicatorProfile,
 } from '@emberline/shared';
 import type { Observable } from 'rxjs';
 
@@ -82,6 +87,41 @@ export class AdminApi {
     return this.http.put<RolePolicyView>(`/api/admin/role-policies/${encodeURIComponent(role)}`, {
       requiresTotp,
     });
+  }
+
+  /** Every applicator profile, the retired ones too. */
+  applicatorProfiles(): HttpResourceRef<ApplicatorProfileView[] | undefined> {
+    return httpResource<ApplicatorProfileView[]>(() => '/api/admin/applicator-profiles');
+  }
+
+  createApplicatorProfile(body: CreateApplicatorProfile): Observable<ApplicatorProfileView> {
+    return this.http.post<ApplicatorProfileView>('/api/admin/applicator-profiles', body);
+  }
+
+  updateApplicatorProfile(
+    profileId: string,
+    body: UpdateApplicatorProfile,
+  ): Observable<ApplicatorProfileView> {
+    return this.http.patch<ApplicatorProfileView>(
+      `/api/admin/applicator-profiles/${encodeURIComponent(profileId)}`,
+      body,
+    );
+  }
+
+  safetyProfiles(): HttpResourceRef<SafetyProfileView[] | undefined> {
+    return httpResource<SafetyProfileView[]>(() => '/api/admin/safety-profiles');
+  }
+
+  createSafetyProfile(body: SafetyProfileBody): Observable<SafetyProfileView> {
+    return this.http.post<SafetyProfileView>('/api/admin/safety-profiles', body);
+  }
+
+  /** Replaces every threshold; `isDefault: true` makes it the default. */
+  replaceSafetyProfile(profileId: string, body: SafetyProfileBody): Observable<SafetyProfileView> {
+    return this.http.put<SafetyProfileView>(
+      `/api/admin/safety-profiles/${encodeURIComponent(profileId)}`,
+      body,
+    );
   }
 
   audit(query: () => AuditQuery): HttpResourceRef<Page<AuditEventView> | undefined> {

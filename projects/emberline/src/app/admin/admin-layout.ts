@@ -39,6 +39,8 @@ export class AdminLayout {
   protected readonly areas = [
     { path: 'users', label: 'Users' },
     { path: 'boards', label: 'Boards' },
+    { path: 'applicator-profiles', label: 'Applicator profiles' },
+    { path: 'safety-profiles', label: 'Safety profiles' },
     { path: 'audit', label: 'Audit log' },
   ];
 }

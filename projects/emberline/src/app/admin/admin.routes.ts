@@ -3,6 +3,8 @@ import { AdminAudit } from './admin-audit';
 import { AdminBoards } from './admin-boards';
 import { AdminLayout } from './admin-layout';
 import { AdminUsers } from './admin-users';
+import { ApplicatorProfiles } from './applicator-profiles';
+import { SafetyProfiles } from './safety-profiles';
 
 export const adminRoutes: Routes = [
   {
@@ -12,6 +14,16 @@ export const adminRoutes: Routes = [
       { path: '', pathMatch: 'full', redirectTo: 'users' },
       { path: 'users', title: 'Users · Administration', component: AdminUsers },
       { path: 'boards', title: 'Boards · Administration', component: AdminBoards },
+      {
+        path: 'applicator-profiles',
+        title: 'Applicator profiles · Administration',
+        component: ApplicatorProfiles,
+      },
+      {
+        path: 'safety-profiles',
+        title: 'Safety profiles · Administration',
+        component: SafetyProfiles,
+      },
       { path: 'audit', title: 'Audit log · Administration', component: AdminAudit },
     ],
   },

@@ -18,6 +18,17 @@ export const caseFileRoutes: Routes = [
         title: 'Case imaging',
         loadComponent: () => import('../imaging/imaging-section').then((m) => m.ImagingSection),
       },
+      {
+        // Lazy on its own: vtk.js stays out of every other chunk.
+        path: 'imaging/:seriesId/viewer',
+        title: 'Case viewer',
+        loadComponent: () => import('../imaging/viewer/viewer-page').then((m) => m.ViewerPage),
+      },
+      {
+        path: 'plans',
+        title: 'Case plans',
+        loadComponent: () => import('../plans/plans-section').then((m) => m.PlansSection),
+      },
     ],
   },
 ];

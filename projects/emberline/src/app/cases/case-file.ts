@@ -17,6 +17,7 @@ import { CaseStatusBadge } from './case-status-badge';
 export const caseFileSections: readonly { path: string; label: string }[] = [
   { path: 'summary', label: 'Summary' },
   { path: 'imaging', label: 'Imaging' },
+  { path: 'plans', label: 'Plans' },
 ];
 
 /** The case file: its header and the navigation between its sections. */

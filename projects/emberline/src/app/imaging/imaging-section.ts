@@ -2,6 +2,7 @@ import { DatePipe, DecimalPipe } from '@angular/common';
 import { ChangeDetectionStrategy, Component, computed, inject } from '@angular/core';
 import { MatButton } from '@angular/material/button';
 import { MatProgressBar } from '@angular/material/progress-bar';
+import { RouterLink } from '@angular/router';
 import type { ImageSeriesView } from '@emberline/shared';
 import { CaseFileState } from '../cases/case-file-state';
 import { problemMessage } from '../core/problem';
@@ -9,10 +10,21 @@ import { SeriesApi } from './series-api';
 import { SeriesUpload } from './series-upload';
 import { StructurePanel } from './structure-panel';
 
-/** Imaging of the case file: its series, their upload, and the structures of each series. */
+/**
+ * Imaging of the case file: its series, their upload, the structures of each series, and the
+ * way into each series' viewer.
+ */
 @Component({
   selector: 'em-imaging-section',
-  imports: [DatePipe, DecimalPipe, MatButton, MatProgressBar, SeriesUpload, StructurePanel],
+  imports: [
+    DatePipe,
+    DecimalPipe,
+    MatButton,
+    MatProgressBar,
+    RouterLink,
+    SeriesUpload,
+    StructurePanel,
+  ],
   templateUrl: './imaging-section.html',
   styleUrl: './imaging-section.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,

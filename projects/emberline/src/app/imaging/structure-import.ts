@@ -27,8 +27,10 @@ import { byteSize } from './byte-size';
 import { StructureApi } from './structure-api';
 
 /**
- * Import of a NIfTI-1 label map (.nii or .nii.gz) for one series, with the kinds of its labels
- * given row by row. Labels left out are imported without a kind, to be mapped afterwards.
+ * Import of a label map for one series — NIfTI-1 (.nii or .nii.gz) or DICOM SEG (.dcm, whose
+ * segment descriptions name the structures and suggest their kinds) — with the kinds of its
+ * labels given row by row. Labels left out keep the suggested kind or none, to be mapped
+ * afterwards.
  */
 @Component({
   selector: 'em-structure-import',
@@ -92,11 +94,13 @@ export class StructureImport {
     event.preventDefault();
     const file = this.file();
     if (!file) {
-      this.errorText.set('Choose a label map: a .nii or .nii.gz file.');
+      this.errorText.set('Choose a label map: a .nii, .nii.gz or .dcm (DICOM SEG) file.');
       return;
     }
-    if (!/\.nii(\.gz)?$/i.test(file.name)) {
-      this.errorText.set(`${file.name} is not a NIfTI label map: choose a .nii or .nii.gz file.`);
+    if (!/\.(nii(\.gz)?|dcm)$/i.test(file.name)) {
+      this.errorText.set(
+        `${file.name} is not a label map: choose a .nii, .nii.gz or .dcm (DICOM SEG) file.`,
+      );
       return;
     }
     const labels = this.mapping();

@@ -1,0 +1,217 @@
+/**
+ * The vtk.js side of the 3D view: the structures' surfaces in patient LPS millimetres, the
+ * applicator paths as tubes with a ball at each target, and the crosshair point. The camera
+ * turns with the mouse (trackball) or the keys the component forwards. Plain TypeScript: the
+ * component owns one and calls `dispose()` when it goes.
+ */
+import '@kitware/vtk.js/Rendering/OpenGL/Actor';
+import '@kitware/vtk.js/Rendering/OpenGL/Camera';
+import '@kitware/vtk.js/Rendering/OpenGL/PolyDataMapper';
+import '@kitware/vtk.js/Rendering/OpenGL/Renderer';
+import '@kitware/vtk.js/Rendering/OpenGL/Texture';
+import vtkDataArray from '@kitware/vtk.js/Common/Core/DataArray';
+import vtkPolyData from '@kitware/vtk.js/Common/DataModel/PolyData';
+import vtkTubeFilter from '@kitware/vtk.js/Filters/General/TubeFilter';
+import vtkLineSource from '@kitware/vtk.js/Filters/Sources/LineSource';
+import vtkSphereSource from '@kitware/vtk.js/Filters/Sources/SphereSource';
+import vtkInteractorStyleTrackballCamera from '@kitware/vtk.js/Interaction/Style/InteractorStyleTrackballCamera';
+import vtkActor from '@kitware/vtk.js/Rendering/Core/Actor';
+import vtkMapper from '@kitware/vtk.js/Rendering/Core/Mapper';
+import vtkRenderWindow from '@kitware/vtk.js/Rendering/Core/RenderWindow';
+import vtkRenderWindowInteractor from '@kitware/vtk.js/Rendering/Core/RenderWindowInteractor';
+import vtkRenderer from '@kitware/vtk.js/Rendering/Core/Renderer';
+import vtkOpenGLRenderWindow from '@kitware/vtk.js/Rendering/OpenGL/RenderWindow';
+import type { StructureKind, Vec3 } from '@emberline/shared';
+import { viewerBackground } from './slice-scene';
+import type { SurfaceMesh } from './surface-mesh';
+import { rgbOf, type LabelAppearance, type PathShape } from './viewer-data';
+
+/**
+ * Organs that enclose others are drawn fainter than the slider says, so that what lies inside
+ * them stays visible: the skin at a fifth, the liver at two fifths (a display choice).
+ */
+const enclosingShare: Partial<Record<StructureKind, number>> = { skin: 0.2, liver: 0.4 };
+
+const pathColour = rgbOf('#ff8a3d');
+const selectedPathColour = rgbOf('#ffd23f');
+const cursorColour = rgbOf('#ffffff');
+
+interface PathActors {
+  line: vtkLineSource;
+  tube: vtkTubeFilter;
+  tubeMapper: vtkMapper;
+  tubeActor: vtkActor;
+  ball: vtkSphereSource;
+  ballMapper: vtkMapper;
+  ballActor: vtkActor;
+}
+
+export class SurfaceScene {
+  private readonly renderWindow = vtkRenderWindow.newInstance();
+  private readonly renderer = vtkRenderer.newInstance({ background: viewerBackground });
+  private readonly openGlWindow = vtkOpenGLRenderWindow.newInstance();
+  private readonly interactor = vtkRenderWindowInteractor.newInstance();
+  private readonly style = vtkInteractorStyleTrackballCamera.newInstance();
+  private readonly surfaces = new Map<number, { data: vtkPolyData; mapper: vtkMapper; actor: vtkActor }>();
+  private readonly paths: PathActors[] = [];
+  private readonly cursor = vtkSphereSource.newInstance({ radius: 1.5, thetaResolution: 16, phiResolution: 12 });
+  private readonly cursorMapper = vtkMapper.newInstance();
+  private readonly cursorActor = vtkActor.newInstance();
+  private hasCamera = false;
+  private isDisposed = false;
+
+  constructor(container: HTMLElement) {
+    this.renderWindow.addRenderer(this.renderer);
+    this.renderWindow.addView(this.openGlWindow);
+    this.openGlWindow.setContainer(container);
+    const canvas = this.openGlWindow.getCanvas();
+    if (canvas) canvas.style.cssText = 'display:block;width:100%;height:100%';
+    this.interactor.setView(this.openGlWindow);
+    this.interactor.initialize();
+    this.interactor.setInteractorStyle(this.style);
+    this.interactor.bindEvents(container);
+    this.cursorMapper.setInputConnection(this.cursor.getOutputPort());
+    this.cursorActor.setMapper(this.cursorMapper);
+    this.cursorActor.getProperty().setColor(...cursorColour);
+    this.cursorActor.setVisibility(false);
+    this.renderer.addActor(this.cursorActor);
+  }
+
+  /** Adds (or replaces) the surface of one label. */
+  addSurface(mesh: SurfaceMesh): void {
+    this.removeSurface(mesh.labelValue);
+    const data = vtkPolyData.newInstance();
+    data.getPoints().setData(mesh.pointsLps, 3);
+    data.getPolys().setData(mesh.polys);
+    data.getPointData().setNormals(
+      vtkDataArray.newInstance({ name: 'Normals', values: mesh.normals, numberOfComponents: 3 }),
+    );
+    const mapper = vtkMapper.newInstance();
+    mapper.setInputData(data);
+    const actor = vtkActor.newInstance();
+    actor.setMapper(mapper);
+    actor.getProperty().setSpecular(0.2);
+    actor.getProperty().setSpecularPower(20);
+    this.renderer.addActor(actor);
+    this.surfaces.set(mesh.labelValue, { data, mapper, actor });
+    if (!this.hasCamera) this.resetCamera();
+  }
+
+  private removeSurface(labelValue: number): void {
+    const existing = this.surfaces.get(labelValue);
+    if (!existing) return;
+    this.renderer.removeActor(existing.actor);
+    existing.actor.delete();
+    existing.mapper.delete();
+    existing.data.delete();
+    this.surfaces.delete(labelValue);
+  }
+
+  setAppearance(appearance: LabelAppearance): void {
+    for (const [labelValue, { actor }] of this.surfaces) {
+      const kind = appearance.kinds.get(labelValue) ?? null;
+      const share = (kind && enclosingShare[kind]) ?? 1;
+      actor.getProperty().setColor(...rgbOf(appearance.colours.get(labelValue) ?? '#ffffff'));
+      actor.getProperty().setOpacity(Math.max(0.02, appearance.opacity * share));
+      actor.setVisibility(appearance.visible.has(labelValue) && appearance.opacity > 0);
+    }
+  }
+
+  setPaths(shapes: readonly PathShape[]): void {
+    while (this.paths.length > shapes.length) this.disposePath(this.paths.pop() as PathActors);
+    while (this.paths.length < shapes.length) this.paths.push(this.newPath());
+    shapes.forEach((shape, index) => {
+      const actors = this.paths[index];
+      actors.line.setPoint1(shape.entryLps[0], shape.entryLps[1], shape.entryLps[2]);
+      actors.line.setPoint2(shape.targetLps[0], shape.targetLps[1], shape.targetLps[2]);
+      actors.ball.setCenter(shape.targetLps[0], shape.targetLps[1], shape.targetLps[2]);
+      const colour = shape.isSelected ? selectedPathColour : pathColour;
+      actors.tubeActor.getProperty().setColor(...colour);
+      actors.ballActor.getProperty().setColor(...colour);
+    });
+  }
+
+  private newPath(): PathActors {
+    const line = vtkLineSource.newInstance({ resolution: 1 });
+    const tube = vtkTubeFilter.newInstance({ radius: 1, numberOfSides: 16, capping: true });
+    tube.setInputConnection(line.getOutputPort());
+    const tubeMapper = vtkMapper.newInstance();
+    tubeMapper.setInputConnection(tube.getOutputPort());
+    const tubeActor = vtkActor.newInstance();
+    tubeActor.setMapper(tubeMapper);
+    const ball = vtkSphereSource.newInstance({ radius: 2, thetaResolution: 16, phiResolution: 12 });
+    const ballMapper = vtkMapper.newInstance();
+    ballMapper.setInputConnection(ball.getOutputPort());
+    const ballActor = vtkActor.newInstance();
+    ballActor.setMapper(ballMapper);
+    this.renderer.addActor(tubeActor);
+    this.renderer.addActor(ballActor);
+    return { line, tube, tubeMapper, tubeActor, ball, ballMapper, ballActor };
+  }
+
+  private disposePath(actors: PathActors): void {
+    this.renderer.removeActor(actors.tubeActor);
+    this.renderer.removeActor(actors.ballActor);
+    for (const object of Object.values(actors)) object.delete();
+  }
+
+  setCursor(pointLps: Readonly<Vec3> | null): void {
+    if (pointLps) this.cursor.setCenter(pointLps[0], pointLps[1], pointLps[2]);
+    this.cursorActor.setVisibility(pointLps !== null);
+  }
+
+  /** Seen from the front (anterior), head up: the coronal view's way (common practice). */
+  resetCamera(): void {
+    const camera = this.renderer.getActiveCamera();
+    camera.setFocalPoint(0, 0, 0);
+    camera.setPosition(0, -1, 0);
+    camera.setViewUp(0, 0, 1);
+    this.renderer.resetCamera();
+    this.hasCamera = this.surfaces.size > 0;
+  }
+
+  /** Turns the camera about the focal point, degrees. */
+  rotate(azimuthDeg: number, elevationDeg: number): void {
+    const camera = this.renderer.getActiveCamera();
+    camera.azimuth(azimuthDeg);
+    camera.elevation(elevationDeg);
+    camera.orthogonalizeViewUp();
+    this.renderer.resetCameraClippingRange();
+  }
+
+  zoom(factor: number): void {
+    this.renderer.getActiveCamera().zoom(factor);
+    this.renderer.resetCameraClippingRange();
+  }
+
+  resize(widthPx: number, heightPx: number): void {
+    const ratio = globalThis.devicePixelRatio || 1;
+    this.openGlWindow.setSize(
+      Math.max(1, Math.floor(widthPx * ratio)),
+      Math.max(1, Math.floor(heightPx * ratio)),
+    );
+  }
+
+  render(): void {
+    if (this.isDisposed) return;
+    this.renderer.resetCameraClippingRange();
+    this.renderWindow.render();
+  }
+
+  dispose(): void {
+    if (this.isDisposed) return;
+    this.isDisposed = true;
+    this.interactor.unbindEvents();
+    for (const labelValue of [...this.surfaces.keys()]) this.removeSurface(labelValue);
+    for (const actors of this.paths.splice(0)) this.disposePath(actors);
+    this.cursorActor.delete();
+    this.cursorMapper.delete();
+    this.cursor.delete();
+    this.interactor.delete();
+    this.style.delete();
+    this.renderer.delete();
+    this.openGlWindow.setContainer(null);
+    this.openGlWindow.delete();
+    this.renderWindow.delete();
+  }
+}

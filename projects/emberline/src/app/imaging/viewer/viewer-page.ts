@@ -1,0 +1,186 @@
+import {
+  ChangeDetectionStrategy,
+  Component,
+  computed,
+  effect,
+  inject,
+  input,
+  signal,
+  untracked,
+} from '@angular/core';
+import { takeUntilDestroyed, toObservable } from '@angular/core/rxjs-interop';
+import { MatButton } from '@angular/material/button';
+import { MatProgressBar } from '@angular/material/progress-bar';
+import { Router, RouterLink } from '@angular/router';
+import {
+  planStatusLabels,
+  type ApplicatorProfileView,
+  type ImageSeriesView,
+  type PlanView,
+} from '@emberline/shared';
+import { EMPTY, catchError, filter, forkJoin, switchMap, tap } from 'rxjs';
+import { CaseFileState } from '../../cases/case-file-state';
+import { problemMessage } from '../../core/problem';
+import { PlanApi } from '../../plans/plan-api';
+import { DraftingPanel } from './drafting/drafting-panel';
+import { newDraft, settingsForProfile } from './drafting/drafting-state';
+import { SliceView } from './slice-view';
+import { StructureToggles } from './structure-toggles';
+import { ViewerApi } from './viewer-api';
+import { ViewerSession, type ViewerMode } from './viewer-session';
+import { ViewerToolbar } from './viewer-toolbar';
+import { VolumeView } from './volume-view';
+import { hasWebGl2, noWebGl2Message } from './webgl-support';
+
+/**
+ * The case viewer of one series (DESIGN.md §6): axial, coronal and sagittal slices and the 3D
+ * view, the structures over them, the display window, the distance measurement, and the
+ * drafting of needle plans with live clearance. Route `/cases/:id/imaging/:seriesId/viewer`,
+ * `?plan=<id>` opens a plan.
+ */
+@Component({
+  selector: 'em-viewer-page',
+  imports: [
+    RouterLink,
+    MatButton,
+    MatProgressBar,
+    ViewerToolbar,
+    SliceView,
+    VolumeView,
+    StructureToggles,
+    DraftingPanel,
+  ],
+  providers: [ViewerSession],
+  templateUrl: './viewer-page.html',
+  styleUrl: './viewer-page.scss',
+  changeDetection: ChangeDetectionStrategy.OnPush,
+})
+export class ViewerPage {
+  private readonly state = inject(CaseFileState);
+  private readonly api = inject(ViewerApi);
+  private readonly planApi = inject(PlanApi);
+  private readonly router = inject(Router);
+  protected readonly session = inject(ViewerSession);
+
+  /** Route parameter. */
+  readonly seriesId = input.required<string>();
+  /** Query parameter: the plan to open. */
+  readonly plan = input<string | undefined>();
+
+  protected readonly hasWebGl = hasWebGl2();
+  protected readonly noWebGlMessage = noWebGl2Message;
+  protected readonly statusLabels = planStatusLabels;
+  protected readonly caseId = this.state.caseId;
+  protected readonly canEdit = computed(() => this.state.detail()?.permissions.canEdit ?? false);
+  protected readonly series = signal<ImageSeriesView | null>(null);
+  protected readonly loadError = signal('');
+  protected readonly isLoaded = signal(false);
+
+  protected readonly plans = this.planApi.list(this.state.caseId);
+  protected readonly seriesPlans = computed<PlanView[]>(() =>
+    (this.plans.hasValue() ? this.plans.value() : []).filter(
+      (plan) => plan.seriesId === this.seriesId(),
+    ),
+  );
+  private readonly profileResource = this.planApi.profiles();
+  protected readonly profiles = computed<ApplicatorProfileView[]>(() =>
+    this.profileResource.hasValue() ? this.profileResource.value().filter((p) => !p.isRetired) : [],
+  );
+  /** The saved plan on screen. */
+  protected readonly shownPlan = signal<PlanView | null>(null);
+  protected readonly planNotice = signal('');
+  private openedPlanId: string | null = null;
+
+  constructor() {
+    if (this.hasWebGl) this.loadSeries();
+    effect(() => this.openRequestedPlan());
+  }
+
+  private loadSeries(): void {
+    toObservable(this.seriesId)
+      .pipe(
+        filter((id) => !!id),
+        tap(() => {
+          this.isLoaded.set(false);
+          this.loadError.set('');
+        }),
+        switchMap((id) =>
+          forkJoin({
+            series: this.api.series(id),
+            volume: this.api.volume(id),
+            labelMap: this.api.labelMap(id),
+            structures: this.api.structures(id),
+          }).pipe(
+            catchError((error: unknown) => {
+              this.loadError.set(problemMessage(error));
+              return EMPTY;
+            }),
+          ),
+        ),
+        takeUntilDestroyed(),
+      )
+      .subscribe(({ series, volume, labelMap, structures }) => {
+        this.series.set(series);
+        this.session.structures.set(structures);
+        this.session.load(volume, labelMap, series.window);
+        this.isLoaded.set(true);
+      });
+  }
+
+  /** Opens `?plan=` once the series and the plans are there; never the same plan twice. */
+  private openRequestedPlan(): void {
+    const planId = this.plan();
+    const isLoaded = this.isLoaded();
+    const plans = this.plans.hasValue() ? this.plans.value() : null;
+    const canEdit = this.canEdit();
+    if (!planId || !isLoaded || !plans || planId === this.openedPlanId) return;
+    untracked(() => {
+      this.openedPlanId = planId;
+      const plan = plans.find((candidate) => candidate.id === planId);
+      if (!plan) {
+        this.planNotice.set('The plan asked for is not one of this case.');
+      } else if (plan.seriesId !== this.seriesId()) {
+        this.planNotice.set(`The plan ${plan.name} was drafted on another series of the case.`);
+      } else {
+        this.planNotice.set('');
+        this.shownPlan.set(plan);
+        this.session.openPlan(plan, canEdit);
+      }
+    });
+  }
+
+  protected modeRequested(mode: ViewerMode): void {
+    if (mode === 'draft' && !this.session.draft()) {
+      this.startNewPlan();
+      return;
+    }
+    this.session.mode.set(mode);
+  }
+
+  protected startNewPlan(): void {
+    if (!this.canEdit()) return;
+    const first = this.profiles()[0];
+    this.shownPlan.set(null);
+    this.openedPlanId = null;
+    void this.router.navigate([], { queryParams: { plan: null }, queryParamsHandling: 'merge' });
+    this.session.startDrafting(newDraft(first ? settingsForProfile(first) : undefined), true);
+  }
+
+  protected saved(plan: PlanView): void {
+    this.shownPlan.set(plan);
+    this.openedPlanId = plan.id;
+    this.plans.reload();
+    void this.router.navigate([], {
+      queryParams: { plan: plan.id },
+      queryParamsHandling: 'merge',
+      replaceUrl: true,
+    });
+  }
+
+  protected closed(): void {
+    this.session.stopDrafting();
+    this.shownPlan.set(null);
+    this.openedPlanId = null;
+    void this.router.navigate([], { queryParams: { plan: null }, queryParamsHandling: 'merge' });
+  }
+}

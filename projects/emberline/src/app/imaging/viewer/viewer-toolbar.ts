@@ -1,0 +1,87 @@
+import { DecimalPipe } from '@angular/common';
+import { ChangeDetectionStrategy, Component, computed, inject, input, output } from '@angular/core';
+import { MatButton } from '@angular/material/button';
+import { MatButtonToggle, MatButtonToggleGroup } from '@angular/material/button-toggle';
+import { MatFormField, MatLabel, MatSuffix } from '@angular/material/form-field';
+import { MatInput } from '@angular/material/input';
+import type { Vec3 } from '@emberline/shared';
+import { minimumWindowWidth, presetOf, windowPresets, type DisplayWindow } from './display-window';
+import { ViewerSession, type ViewerMode } from './viewer-session';
+
+/**
+ * The viewer's controls above the views: what a click does (crosshair, measure, draft), the
+ * display window (presets and typed values), and the read-outs of the crosshair, the pointer
+ * and the measured distance in patient coordinates.
+ */
+@Component({
+  selector: 'em-viewer-toolbar',
+  imports: [
+    DecimalPipe,
+    MatButton,
+    MatButtonToggleGroup,
+    MatButtonToggle,
+    MatFormField,
+    MatLabel,
+    MatInput,
+    MatSuffix,
+  ],
+  templateUrl: './viewer-toolbar.html',
+  styleUrl: './viewer-toolbar.scss',
+  changeDetection: ChangeDetectionStrategy.OnPush,
+})
+export class ViewerToolbar {
+  private readonly session = inject(ViewerSession);
+
+  /** The series' own default window. */
+  readonly seriesWindow = input.required<DisplayWindow>();
+  /** Whether a plan may be drafted here (the presenter on a case they edit). */
+  readonly canDraft = input(false);
+  readonly modeRequested = output<ViewerMode>();
+
+  protected readonly presets = windowPresets;
+  protected readonly mode = this.session.mode;
+  protected readonly window = this.session.window;
+  protected readonly activePreset = computed(() => presetOf(this.window()));
+  protected readonly isCt = computed(() => this.session.volume()?.valueUnit === 'HU');
+  protected readonly unit = computed(() => (this.isCt() ? 'HU' : 'units'));
+  protected readonly isSeriesWindow = computed(() => {
+    const series = this.seriesWindow();
+    const current = this.window();
+    return series.centre === current.centre && series.width === current.width;
+  });
+  protected readonly cursor = this.session.cursorLps;
+  protected readonly cursorVoxel = this.session.cursorVoxel;
+  protected readonly cursorValue = this.session.cursorValue;
+  protected readonly hover = this.session.hover;
+  protected readonly measurement = this.session.measurement;
+  protected readonly measurementMm = this.session.measurementMm;
+
+  protected chooseMode(mode: ViewerMode): void {
+    this.modeRequested.emit(mode);
+  }
+
+  protected apply(window: DisplayWindow): void {
+    this.window.set({ ...window });
+  }
+
+  protected setCentre(event: Event): void {
+    const value = Number((event.target as HTMLInputElement).value);
+    if (Number.isFinite(value)) this.window.update((window) => ({ ...window, centre: value }));
+  }
+
+  protected setWidth(event: Event): void {
+    const value = Number((event.target as HTMLInputElement).value);
+    if (Number.isFinite(value)) {
+      this.window.update((window) => ({ ...window, width: Math.max(minimumWindowWidth, value) }));
+    }
+  }
+
+  protected clearMeasurement(): void {
+    this.measurement.set(null);
+  }
+
+  /** Rounded voxel indices as text: "(96, 80, 32)". */
+  protected voxelText(voxel: Readonly<Vec3>): string {
+    return `(${voxel.map((value) => Math.round(value)).join(', ')})`;
+  }
+}

@@ -1,0 +1,199 @@
+import { DecimalPipe } from '@angular/common';
+import {
+  ChangeDetectionStrategy,
+  Component,
+  DestroyRef,
+  ElementRef,
+  afterNextRender,
+  effect,
+  inject,
+  signal,
+  untracked,
+  viewChild,
+} from '@angular/core';
+import type { StructureKind } from '@emberline/shared';
+import { clearanceKindOrder } from './drafting/clearance-fields';
+import { SurfaceBuilder } from './surface-builder';
+import type { SurfaceReply } from './surface-protocol';
+import { SurfaceScene } from './surface-scene';
+import { ViewerSession } from './viewer-session';
+
+/** The 3D view shows the tumour first and the enclosing organs last. */
+const surfaceOrder: readonly StructureKind[] = ['tumour', ...clearanceKindOrder.filter((kind) => kind !== 'tumour')];
+
+export const surfacesReadyMark = 'emberline:viewer-surfaces-ready';
+
+/**
+ * The 3D view: surface models of the structures (built in a worker, one by one), the
+ * applicator paths and the crosshair point. Drag to turn, wheel to zoom; arrow keys turn,
+ * plus and minus zoom, 0 resets.
+ */
+@Component({
+  selector: 'em-volume-view',
+  imports: [DecimalPipe],
+  template: `
+    <div class="caption">
+      <span class="name">3D</span>
+      <span class="em-muted" aria-live="polite">{{ status() }}</span>
+      <button type="button" class="fit" (click)="reset()">Reset</button>
+    </div>
+    <div
+      #host
+      class="host"
+      tabindex="0"
+      role="application"
+      aria-label="3D view of the structures and the applicator paths. Arrow keys turn it, plus and minus zoom, 0 resets."
+      (keydown)="keyDown($event)"
+    ></div>
+    @if (triangleCount()) {
+      <p class="note">
+        {{ triangleCount() | number }} triangles · surfaces smoothed for display; figures come from
+        the label map
+      </p>
+    }
+  `,
+  styleUrl: './volume-view.scss',
+  changeDetection: ChangeDetectionStrategy.OnPush,
+})
+export class VolumeView {
+  private readonly session = inject(ViewerSession);
+  private readonly host = viewChild.required<ElementRef<HTMLElement>>('host');
+  private scene: SurfaceScene | null = null;
+  private builder: SurfaceBuilder | null = null;
+  private resizeObserver: ResizeObserver | null = null;
+  private frameRequest = 0;
+  private readonly isSceneReady = signal(false);
+
+  protected readonly status = signal('Waiting for the slices…');
+  protected readonly triangleCount = signal(0);
+  private surfaceCount = 0;
+
+  constructor() {
+    afterNextRender(() => this.start());
+    inject(DestroyRef).onDestroy(() => this.stop());
+    effect(() => this.showAppearance());
+    effect(() => this.showPaths());
+    effect(() => this.showCursor());
+    // Surfaces are built once the slices are on screen, so that they never delay them.
+    effect(() => {
+      if (this.session.hasFirstFrame() && this.isSceneReady()) untracked(() => this.buildSurfaces());
+    });
+  }
+
+  private start(): void {
+    const host = this.host().nativeElement;
+    this.scene = new SurfaceScene(host);
+    host.querySelector('canvas')?.setAttribute('role', 'img');
+    host
+      .querySelector('canvas')
+      ?.setAttribute('aria-label', '3D surfaces of the structures and the applicator paths');
+    this.resizeObserver = new ResizeObserver((entries) => {
+      const box = entries[0]?.contentRect;
+      if (box) this.resized(box.width, box.height);
+    });
+    this.resizeObserver.observe(host);
+    const box = host.getBoundingClientRect();
+    this.resized(box.width, box.height);
+    this.isSceneReady.set(true);
+  }
+
+  private stop(): void {
+    cancelAnimationFrame(this.frameRequest);
+    this.resizeObserver?.disconnect();
+    this.builder?.dispose();
+    this.scene?.dispose();
+    this.scene = null;
+  }
+
+  private resized(widthPx: number, heightPx: number): void {
+    if (widthPx < 1 || heightPx < 1) return;
+    this.scene?.resize(widthPx, heightPx);
+    this.requestRender();
+  }
+
+  private buildSurfaces(): void {
+    const labelMap = this.session.labelMap();
+    const volume = this.session.volume();
+    if (this.builder || !volume) return;
+    if (!labelMap) {
+      this.status.set('No structures imported for this series.');
+      return;
+    }
+    const kinds = this.session.appearance().kinds;
+    const rank = (value: number) => {
+      const kind = kinds.get(value) ?? null;
+      return kind ? surfaceOrder.indexOf(kind) : surfaceOrder.length;
+    };
+    const labelValues = [...labelMap.labelValues].sort((a, b) => rank(a) - rank(b) || a - b);
+    this.status.set(`Building surfaces… 0 of ${labelValues.length}`);
+    this.builder = new SurfaceBuilder((reply) => this.received(reply, labelValues.length));
+    this.builder.build({ labels: labelMap.labels, geometry: volume.geometry, labelValues });
+  }
+
+  private received(reply: SurfaceReply, total: number): void {
+    if (reply.type === 'surface') {
+      this.scene?.addSurface(reply.mesh);
+      this.scene?.setAppearance(this.session.appearance());
+      this.surfaceCount++;
+      this.triangleCount.update((count) => count + reply.mesh.triangleCount);
+      this.status.set(`Building surfaces… ${this.surfaceCount} of ${total}`);
+      this.requestRender();
+    } else if (reply.type === 'surfaces-done') {
+      performance.mark(surfacesReadyMark);
+      this.status.set(`${this.surfaceCount} surfaces in ${(reply.totalMs / 1000).toFixed(1)} s`);
+    } else if (reply.type === 'failed') {
+      this.status.set(`The surfaces could not be built: ${reply.message}`);
+    }
+  }
+
+  private showAppearance(): void {
+    const appearance = this.session.appearance();
+    if (!this.isSceneReady()) return;
+    this.scene?.setAppearance(appearance);
+    this.requestRender();
+  }
+
+  private showPaths(): void {
+    const paths = this.session.paths();
+    if (!this.isSceneReady()) return;
+    this.scene?.setPaths(paths);
+    this.requestRender();
+  }
+
+  private showCursor(): void {
+    const cursor = this.session.cursorLps();
+    if (!this.isSceneReady()) return;
+    this.scene?.setCursor(cursor);
+    this.requestRender();
+  }
+
+  private requestRender(): void {
+    if (this.frameRequest || !this.scene) return;
+    this.frameRequest = requestAnimationFrame(() => {
+      this.frameRequest = 0;
+      this.scene?.render();
+    });
+  }
+
+  protected reset(): void {
+    this.scene?.resetCamera();
+    this.requestRender();
+  }
+
+  protected keyDown(event: KeyboardEvent): void {
+    const turns: Record<string, [number, number]> = {
+      ArrowLeft: [-10, 0],
+      ArrowRight: [10, 0],
+      ArrowUp: [0, 10],
+      ArrowDown: [0, -10],
+    };
+    const turn = turns[event.key];
+    if (turn) this.scene?.rotate(turn[0], turn[1]);
+    else if (event.key === '+' || event.key === '=') this.scene?.zoom(1.2);
+    else if (event.key === '-') this.scene?.zoom(1 / 1.2);
+    else if (event.key === '0') this.scene?.resetCamera();
+    else return;
+    event.preventDefault();
+    this.requestRender();
+  }
+}

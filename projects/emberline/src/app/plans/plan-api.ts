@@ -1,0 +1,50 @@
+import { HttpClient, HttpContext, httpResource, type HttpResourceRef } from '@angular/common/http';
+import { Injectable, inject } from '@angular/core';
+import type { ApplicatorProfileView, CreatePlan, PlanView, UpdatePlan } from '@emberline/shared';
+import type { Observable } from 'rxjs';
+import { SHOWS_OWN_ERRORS } from '../core/http-context-tokens';
+
+/** The needle plans of a case and the applicator profiles to draft them with. */
+@Injectable({ providedIn: 'root' })
+export class PlanApi {
+  private readonly http = inject(HttpClient);
+
+  /** The plans of a case; idle while the id is undefined. */
+  list(caseId: () => string | undefined): HttpResourceRef<PlanView[] | undefined> {
+    return httpResource<PlanView[]>(() => {
+      const id = caseId();
+      return id ? `/api/cases/${encodeURIComponent(id)}/plans` : undefined;
+    });
+  }
+
+  /** The profiles a plan may use (retired ones are left out by the server). */
+  profiles(isWanted: () => boolean = () => true): HttpResourceRef<ApplicatorProfileView[] | undefined> {
+    return httpResource<ApplicatorProfileView[]>(() =>
+      isWanted() ? '/api/applicator-profiles' : undefined,
+    );
+  }
+
+  /** The panel that saves shows the refusal beside the form: no snack bar. */
+  create(caseId: string, body: CreatePlan): Observable<PlanView> {
+    return this.http.post<PlanView>(`/api/cases/${encodeURIComponent(caseId)}/plans`, body, {
+      context: shownBeside(),
+    });
+  }
+
+  update(planId: string, body: UpdatePlan): Observable<PlanView> {
+    return this.http.patch<PlanView>(`/api/plans/${encodeURIComponent(planId)}`, body, {
+      context: shownBeside(),
+    });
+  }
+
+  /** Deletes a draft plan (the server refuses any other). */
+  remove(planId: string): Observable<null> {
+    return this.http.delete<null>(`/api/plans/${encodeURIComponent(planId)}`, {
+      context: shownBeside(),
+    });
+  }
+}
+
+function shownBeside(): HttpContext {
+  return new HttpContext().set(SHOWS_OWN_ERRORS, true);
+}

@@ -1,0 +1,87 @@
+import { DatePipe, DecimalPipe } from '@angular/common';
+import { ChangeDetectionStrategy, Component, computed, inject, signal } from '@angular/core';
+import { MatButton } from '@angular/material/button';
+import { MatDialog } from '@angular/material/dialog';
+import { MatIcon } from '@angular/material/icon';
+import { MatProgressBar } from '@angular/material/progress-bar';
+import { RouterLink } from '@angular/router';
+import { planStatusLabels, vector3, type PlanView } from '@emberline/shared';
+import { CaseFileState } from '../cases/case-file-state';
+import { ConfirmDialog, type ConfirmDialogData } from '../core/confirm-dialog';
+import { problemMessage } from '../core/problem';
+import { PlanApi } from './plan-api';
+
+/**
+ * Plans of the case file (DESIGN.md §3): the needle plans drafted in the viewer, each with its
+ * state and its applicators, a link that opens it in the viewer, and the deletion of drafts.
+ */
+@Component({
+  selector: 'em-plans-section',
+  imports: [DatePipe, DecimalPipe, RouterLink, MatButton, MatIcon, MatProgressBar],
+  templateUrl: './plans-section.html',
+  styleUrl: './plans-section.scss',
+  changeDetection: ChangeDetectionStrategy.OnPush,
+})
+export class PlansSection {
+  private readonly state = inject(CaseFileState);
+  private readonly api = inject(PlanApi);
+  private readonly dialog = inject(MatDialog);
+
+  protected readonly caseId = this.state.caseId;
+  protected readonly canEdit = computed(() => this.state.detail()?.permissions.canEdit ?? false);
+  protected readonly statusLabels = planStatusLabels;
+  protected readonly resource = this.api.list(this.state.caseId);
+  protected readonly plans = computed<PlanView[]>(() =>
+    this.resource.hasValue() ? this.resource.value() : [],
+  );
+  protected readonly loadError = computed(() => {
+    const error = this.resource.error();
+    return error ? problemMessage(error) : '';
+  });
+  protected readonly deletingIds = signal<ReadonlySet<string>>(new Set());
+  protected readonly deleteError = signal('');
+
+  /** Entry-to-target length of an applicator, millimetres. */
+  protected lengthMm(applicator: PlanView['applicators'][number]): number {
+    return vector3.distance(applicator.entry, applicator.target);
+  }
+
+  protected canDelete(plan: PlanView): boolean {
+    return this.canEdit() && plan.status === 'draft';
+  }
+
+  protected confirmDelete(plan: PlanView): void {
+    const data: ConfirmDialogData = {
+      title: `Delete the plan ${plan.name}?`,
+      message: 'The draft and its applicators are deleted. This cannot be undone.',
+      confirmLabel: 'Delete draft',
+    };
+    this.dialog
+      .open<ConfirmDialog, ConfirmDialogData, boolean>(ConfirmDialog, { data })
+      .afterClosed()
+      .subscribe((isConfirmed) => {
+        if (isConfirmed) this.delete(plan);
+      });
+  }
+
+  private delete(plan: PlanView): void {
+    this.deleteError.set('');
+    this.deletingIds.update((ids) => new Set(ids).add(plan.id));
+    const settle = () =>
+      this.deletingIds.update((ids) => {
+        const rest = new Set(ids);
+        rest.delete(plan.id);
+        return rest;
+      });
+    this.api.remove(plan.id).subscribe({
+      next: () => {
+        settle();
+        this.resource.update((list) => list?.filter((candidate) => candidate.id !== plan.id));
+      },
+      error: (error: unknown) => {
+        settle();
+        this.deleteError.set(`The plan ${plan.name} was not deleted. ${problemMessage(error)}`);
+      },
+    });
+  }
+}

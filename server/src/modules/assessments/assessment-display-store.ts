@@ -1,0 +1,25 @@
+/**
+ * The display data of an assessment (zone masks and tumour-surface margins, encoded by the
+ * engine's display codec in shared/) kept as one file per assessment in the file store.
+ */
+import type { FileStore } from '../imaging/file-store';
+
+export class AssessmentDisplayStore {
+  constructor(private readonly store: FileStore) {}
+
+  keyOf(assessmentId: string): string {
+    return `assessments/${assessmentId}.display`;
+  }
+
+  async write(assessmentId: string, body: ArrayBuffer): Promise<void> {
+    await this.store.writeAtomically(this.keyOf(assessmentId), [new Uint8Array(body)]);
+  }
+
+  openRead(assessmentId: string) {
+    return this.store.openRead(this.keyOf(assessmentId));
+  }
+
+  async remove(assessmentId: string): Promise<void> {
+    await this.store.remove(this.keyOf(assessmentId));
+  }
+}

@@ -1,0 +1,47 @@
+/**
+ * What the server hands a pool thread and gets back. Everything is plain data (structured
+ * clone), the label map's buffer transferred rather than copied.
+ */
+import type {
+  AssessmentResult,
+  SafetyProfileBody,
+  StructureKind,
+  VolumeGeometry,
+  ZoneTableRow,
+} from '@emberline/shared';
+
+export interface TaskApplicator {
+  entry: [number, number, number];
+  target: [number, number, number];
+  profile: {
+    id: string;
+    workingLengthMm: number;
+    activeLengthMm: number;
+    zoneTable: ZoneTableRow[];
+  };
+  powerW: number;
+  timeS: number;
+}
+
+export interface AssessmentTaskInput {
+  geometry: VolumeGeometry;
+  labelMap: { dataType: 'uint8' | 'uint16'; buffer: ArrayBuffer };
+  structures: { id: string; labelValue: number; kind: StructureKind | null }[];
+  applicators: TaskApplicator[];
+  safetyProfile: SafetyProfileBody;
+  /** Whether to run the bioheat model beside the table model. */
+  isBioheatRequested: boolean;
+}
+
+export interface TaskProgress {
+  /** 0–1 over the whole assessment. */
+  fraction: number;
+  stage: string;
+}
+
+export interface AssessmentTaskOutput {
+  result: AssessmentResult;
+  timingsMs: Record<string, number>;
+  /** Binary display data for the client (zones and margins), already encoded. */
+  display: ArrayBuffer | null;
+}

@@ -1,0 +1,87 @@
+/**
+ * The pool thread's task: decode the label map, calibrate the bioheat model of each applicator
+ * profile (kept per thread: a profile's table does not change under the same id and content),
+ * run the engine, encode the display data. Progress goes back through the task's MessagePort.
+ */
+import type { MessagePort } from 'node:worker_threads';
+import {
+  assessPlan,
+  calibrateApplicatorProfile,
+  decodeLabelMapFile,
+  encodeAssessmentDisplay,
+  DEFAULT_CROP_MARGIN_MM,
+} from '@emberline/shared';
+import type { AssessmentTaskInput, AssessmentTaskOutput, TaskProgress } from './assessment-task-protocol';
+
+const calibrations = new Map<string, number>();
+
+function calibrationOf(profile: AssessmentTaskInput['applicators'][number]['profile']): number {
+  const key = JSON.stringify([profile.activeLengthMm, profile.zoneTable]);
+  let parameter = calibrations.get(key);
+  if (parameter === undefined) {
+    parameter = calibrateApplicatorProfile({
+      activeLengthMm: profile.activeLengthMm,
+      zoneTable: profile.zoneTable,
+    }).parameter;
+    calibrations.set(key, parameter);
+  }
+  return parameter;
+}
+
+export default function runAssessmentTask({
+  input,
+  port,
+}: {
+  input: AssessmentTaskInput;
+  port: MessagePort;
+}): AssessmentTaskOutput {
+  const report = (progress: TaskProgress) => port.postMessage(progress);
+  const { labels } = decodeLabelMapFile(input.labelMap.buffer);
+  const calibrationShare = input.isBioheatRequested ? 0.15 : 0;
+  report({ fraction: 0.01, stage: 'Reading the structures' });
+  const applicators = input.applicators.map((applicator, index) => {
+    const calibration = input.isBioheatRequested ? calibrationOf(applicator.profile) : undefined;
+    report({
+      fraction: (calibrationShare * (index + 1)) / input.applicators.length,
+      stage: 'Calibrating the heating model',
+    });
+    return {
+      entry: applicator.entry,
+      target: applicator.target,
+      profile: applicator.profile,
+      powerW: applicator.powerW,
+      timeS: applicator.timeS,
+      ...(calibration === undefined ? {} : { calibration }),
+    };
+  });
+  const run = assessPlan(
+    {
+      geometry: input.geometry,
+      labelMap: labels,
+      structures: input.structures,
+      applicators,
+      safetyProfile: input.safetyProfile,
+      options: {
+        zoneModels: input.isBioheatRequested ? ['table', 'bioheat'] : ['table'],
+        cropMarginMm: DEFAULT_CROP_MARGIN_MM,
+      },
+    },
+    {
+      onProgress: (fraction: number, stage: string) =>
+        report({ fraction: calibrationShare + (1 - calibrationShare) * fraction, stage }),
+    },
+  );
+  const display = encodeAssessmentDisplay({
+    zones: run.zones.map((zone) => ({ model: zone.model, geometry: zone.geometry, mask: zone.mask })),
+    margins: run.marginSamples.map((sample) => ({
+      structureId: sample.structureId,
+      pointsLps: sample.lps,
+      marginMm: sample.marginMm,
+    })),
+  });
+  return {
+    result: run.result,
+    timingsMs: run.timingsMs,
+    display: display.buffer.slice(display.byteOffset, display.byteOffset + display.byteLength) as ArrayBuffer,
+  };
+}

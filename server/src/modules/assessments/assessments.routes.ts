@@ -1,0 +1,72 @@
+import { Router } from 'express';
+import type { MikroORM } from '@mikro-orm/postgresql';
+import { actorOf, requireSignIn, signedInUser } from '../../common/auth-middleware';
+import { pathId } from '../../common/validate';
+import { sendStoredFile } from '../../common/send-stored-file';
+import { NotFoundError } from '../../common/errors';
+import type { AssessmentDisplayStore } from './assessment-display-store';
+import type { AssessmentQueue } from './assessment-queue';
+import { AssessmentService } from './assessment.service';
+
+export interface AssessmentRouteDependencies {
+  queue: AssessmentQueue | null;
+  displays: AssessmentDisplayStore;
+  isBioheatRequested: boolean;
+}
+
+/**
+ * Assessment routes, mounted at /api:
+ *   POST /plans/:id/assessments    → 202 { id, status, … } (an unchanged plan reuses its result)
+ *   GET  /plans/:id/assessments    the plan's assessments, newest first
+ *   GET  /assessments/:id          { id, status, progress, result?, error? }
+ *   GET  /assessments/:id/display  zone masks and margins for the viewer (binary)
+ */
+export function assessmentRoutes(orm: MikroORM, dependencies: AssessmentRouteDependencies): Router {
+  const router = Router();
+  const service = () =>
+    new AssessmentService(orm.em, dependencies.queue, dependencies.isBioheatRequested);
+
+  router.post('/plans/:id/assessments', requireSignIn, async (request, response) => {
+    const view = await service().request(
+      signedInUser(request),
+      actorOf(request),
+      pathId(request.params.id, 'The plan'),
+    );
+    response.status(202).location(`/api/assessments/${view.id}`).json(view);
+  });
+
+  router.get('/plans/:id/assessments', requireSignIn, async (request, response) => {
+    response.json(
+      await service().listForPlan(
+        signedInUser(request),
+        actorOf(request),
+        pathId(request.params.id, 'The plan'),
+      ),
+    );
+  });
+
+  router.get('/assessments/:id', requireSignIn, async (request, response) => {
+    response.json(
+      await service().get(
+        signedInUser(request),
+        actorOf(request),
+        pathId(request.params.id, 'The assessment'),
+      ),
+    );
+  });
+
+  router.get('/assessments/:id/display', requireSignIn, async (request, response) => {
+    const view = await service().get(
+      signedInUser(request),
+      actorOf(request),
+      pathId(request.params.id, 'The assessment'),
+    );
+    if (view.status !== 'done') throw new NotFoundError('The display data of this assessment');
+    const file = await dependencies.displays.openRead(view.id).catch(() => {
+      throw new NotFoundError('The display data of this assessment');
+    });
+    await sendStoredFile(response, file);
+  });
+
+  return router;
+}

@@ -1,0 +1,77 @@
+/**
+ * The stages of an assessment, their names in words for progress messages, their share of the
+ * work for the progress fraction, and the clock that times them.
+ */
+
+export const assessmentStages = [
+  'inventory',
+  'zone-table',
+  'crop',
+  'distance-fields',
+  'trajectory',
+  'table-zone',
+  'vessels',
+  'bioheat-zone',
+  'coverage',
+  'heat-sinks',
+  'verdict',
+] as const;
+export type AssessmentStage = (typeof assessmentStages)[number];
+
+export const assessmentStageLabels: Record<AssessmentStage, string> = {
+  inventory: 'Label inventory',
+  'zone-table': 'Zone table',
+  crop: 'Crop',
+  'distance-fields': 'Distance fields',
+  trajectory: 'Trajectory safety',
+  'table-zone': 'Table zone',
+  vessels: 'Vessel calibre',
+  'bioheat-zone': 'Bioheat zone',
+  coverage: 'Coverage',
+  'heat-sinks': 'Heat sinks',
+  verdict: 'Verdict',
+};
+
+/** Rough share of a table-only run's time (measured on the benchmark plan), summing to 1. */
+const TABLE_RUN_SHARES: Record<AssessmentStage, number> = {
+  inventory: 0.05,
+  'zone-table': 0.01,
+  crop: 0.04,
+  'distance-fields': 0.45,
+  trajectory: 0.1,
+  'table-zone': 0.03,
+  vessels: 0.12,
+  'bioheat-zone': 0,
+  coverage: 0.12,
+  'heat-sinks': 0.05,
+  verdict: 0.03,
+};
+
+/** Share of the bioheat zone when it runs: the physics dominates everything else. */
+const BIOHEAT_SHARE = 0.75;
+
+/** Where an assessment is, for a progress bar. */
+export interface AssessmentProgress {
+  stage: AssessmentStage;
+  /** The stage in words. */
+  label: string;
+  /** Share of the whole assessment done, 0–1. */
+  fraction: number;
+}
+
+/** Share of the whole run each stage takes. */
+export function stageShares(withBioheat: boolean): Record<AssessmentStage, number> {
+  const shares = { ...TABLE_RUN_SHARES };
+  if (!withBioheat) return shares;
+  for (const stage of Object.keys(shares) as AssessmentStage[]) {
+    shares[stage] *= 1 - BIOHEAT_SHARE;
+  }
+  shares['bioheat-zone'] = BIOHEAT_SHARE;
+  return shares;
+}
+
+/** Milliseconds from an arbitrary origin: `performance.now()` where there is one. */
+export function monotonicMs(): number {
+  const clock = (globalThis as { performance?: { now(): number } }).performance;
+  return clock ? clock.now() : Date.now();
+}

@@ -91,7 +91,10 @@ const demoCases: DemoCase[] = [
     primaryDiagnosis: 'hcc',
     status: 'ready-for-board',
     ecog: 0,
-    lesions: [{ segment: 'VII', diameterMm: 24, kind: 'hcc' }],
+    lesions: [
+      { segment: 'VIII', diameterMm: 24, kind: 'hcc' },
+      { segment: 'VI', diameterMm: 18, kind: 'hcc' },
+    ],
     labs: {
       bilirubinMgDl: 1.1,
       albuminGDl: 3.8,

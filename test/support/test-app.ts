@@ -3,7 +3,7 @@ import request from 'supertest';
 import type { Express } from 'express';
 import { inject } from 'vitest';
 import type { MikroORM } from '@mikro-orm/postgresql';
-import { createApp } from '../../server/src/app';
+import { createApp, type Services } from '../../server/src/app';
 import { configFromEnvironment, type AppConfig } from '../../server/src/config';
 import { migrate, openDatabase } from '../../server/src/db';
 
@@ -16,7 +16,10 @@ export interface TestApp {
 }
 
 /** The real application on the run's own database, migrated; logs are captured for checks. */
-export async function startTestApp(overrides: Partial<AppConfig> = {}): Promise<TestApp> {
+export async function startTestApp(
+  overrides: Partial<AppConfig> = {},
+  services: Pick<Services, 'assessments'> = {},
+): Promise<TestApp> {
   const url = inject('databaseUrl');
   const orm = await openDatabase(url);
   await migrate(orm);
@@ -27,6 +30,7 @@ export async function startTestApp(overrides: Partial<AppConfig> = {}): Promise<
   };
   const logs: string[] = [];
   const app = createApp({
+    ...services,
     orm,
     sessionPool,
     config,

@@ -27,6 +27,7 @@ describe('assessment display body', () => {
       margins: [
         {
           structureId: 'a',
+          model: 'table' as const,
           pointsLps: Float32Array.from([1.5, -2.25, 3, 4, 5, 6]),
           marginMm: Float32Array.from([4.5, -1.25]),
         },

@@ -22,6 +22,8 @@ export interface DisplayZone {
 
 export interface DisplayMargins {
   structureId: string;
+  /** The zone model the margins were measured against. */
+  model: ZoneModel;
   /** Surface points, LPS mm, x y z per point. */
   pointsLps: Float32Array;
   /** Local margin at each point, mm (negative: outside the zone). */
@@ -57,7 +59,9 @@ const headerSchema = z.object({
       mask: block,
     }),
   ),
-  margins: z.array(z.object({ structureId: z.string(), points: block, margins: block })),
+  margins: z.array(
+    z.object({ structureId: z.string(), model: z.enum(zoneModels), points: block, margins: block }),
+  ),
 });
 export type AssessmentDisplayHeader = z.infer<typeof headerSchema>;
 
@@ -88,6 +92,7 @@ export function encodeAssessmentDisplay(display: AssessmentDisplay): Uint8Array 
     })),
     margins: display.margins.map((entry) => ({
       structureId: entry.structureId,
+      model: entry.model,
       points: place(
         new Uint8Array(
           entry.pointsLps.buffer,
@@ -146,6 +151,7 @@ export function decodeAssessmentDisplay(body: ArrayBuffer | Uint8Array): Assessm
     }),
     margins: parsed.data.margins.map((entry) => ({
       structureId: entry.structureId,
+      model: entry.model,
       pointsLps: floats(entry.points),
       marginMm: floats(entry.margins),
     })),

@@ -28,13 +28,13 @@ function calibrationOf(profile: AssessmentTaskInput['applicators'][number]['prof
   return parameter;
 }
 
-export default function runAssessmentTask({
+export default async function runAssessmentTask({
   input,
   port,
 }: {
   input: AssessmentTaskInput;
   port: MessagePort;
-}): AssessmentTaskOutput {
+}): Promise<AssessmentTaskOutput> {
   const report = (progress: TaskProgress) => port.postMessage(progress);
   const { labels } = decodeLabelMapFile(input.labelMap.buffer);
   const calibrationShare = input.isBioheatRequested ? 0.15 : 0;
@@ -54,7 +54,7 @@ export default function runAssessmentTask({
       ...(calibration === undefined ? {} : { calibration }),
     };
   });
-  const run = assessPlan(
+  const run = await assessPlan(
     {
       geometry: input.geometry,
       labelMap: labels,
@@ -67,14 +67,18 @@ export default function runAssessmentTask({
       },
     },
     {
-      onProgress: (fraction: number, stage: string) =>
-        report({ fraction: calibrationShare + (1 - calibrationShare) * fraction, stage }),
+      onProgress: (progress) =>
+        report({
+          fraction: calibrationShare + (1 - calibrationShare) * progress.fraction,
+          stage: progress.label,
+        }),
     },
   );
   const display = encodeAssessmentDisplay({
     zones: run.zones.map((zone) => ({ model: zone.model, geometry: zone.geometry, mask: zone.mask })),
     margins: run.marginSamples.map((sample) => ({
       structureId: sample.structureId,
+      model: sample.model,
       pointsLps: sample.lps,
       marginMm: sample.marginMm,
     })),

@@ -144,8 +144,8 @@ export function labelSurface(
   const mask = smoothedMask(labels, geometry, labelValue, box, stride);
   const image = vtkImageData.newInstance();
   image.setDimensions(mask.size);
-  image.setOrigin(0, 0, 0);
-  image.setSpacing(1, 1, 1);
+  image.setOrigin([0, 0, 0]);
+  image.setSpacing([1, 1, 1]);
   const scalars = vtkDataArray.newInstance({ values: mask.values, numberOfComponents: 1 });
   image.getPointData().setScalars(scalars);
   const contour = vtkImageMarchingCubes.newInstance({

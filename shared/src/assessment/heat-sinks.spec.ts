@@ -1,0 +1,147 @@
+import { describe, expect, it } from 'vitest';
+import { euclideanDistanceTransform } from '../geometry/distance-transform';
+import { halfVoxelDiagonalMm } from '../geometry/path-clearance';
+import { voxelCount, type VolumeGeometry } from '../geometry/patient-geometry';
+import { dot, normalize, subtract, type Vec3 } from '../geometry/vector';
+import { rasteriseEllipsoids, tableZoneEllipsoid } from './ellipsoid-zone';
+import { findHeatSinks } from './heat-sinks';
+import { kindCode } from './label-inventory';
+import { vesselDiameters } from './vessel-calibre';
+import { maskExtent, zoneSignedField } from './zone-field';
+
+const spacingMm: Vec3 = [0.8, 0.8, 2];
+const geometry: VolumeGeometry = {
+  dimensions: [110, 90, 36],
+  spacingMm,
+  originLps: [-43.7, -35.9, -35.3],
+  direction: [
+    [1, 0, 0],
+    [0, 1, 0],
+    [0, 0, 1],
+  ],
+};
+const h = halfVoxelDiagonalMm(spacingMm);
+const VEIN = kindCode('hepatic-vein');
+const PORTAL = kindCode('portal-vein');
+
+/** Distance from a point to the line through `through` along the unit `axis`, mm. */
+function distanceToLine(point: Vec3, through: Vec3, axis: Vec3): number {
+  const offset = subtract(point, through);
+  const along = dot(offset, axis);
+  return Math.sqrt(Math.max(0, dot(offset, offset) - along * along));
+}
+
+/** Kind codes of tubes (radius, axis through a point), painted by voxel centres. */
+function tubes(list: { code: number; radiusMm: number; through: Vec3; axis: Vec3 }[]): Uint8Array {
+  const codes = new Uint8Array(voxelCount(geometry.dimensions));
+  const [nx, ny, nz] = geometry.dimensions;
+  const [ox, oy, oz] = geometry.originLps;
+  let index = 0;
+  for (let k = 0; k < nz; k++) {
+    for (let j = 0; j < ny; j++) {
+      for (let i = 0; i < nx; i++, index++) {
+        const point: Vec3 = [ox + i * spacingMm[0], oy + j * spacingMm[1], oz + k * spacingMm[2]];
+        for (const tube of list) {
+          if (distanceToLine(point, tube.through, tube.axis) <= tube.radiusMm)
+            codes[index] = tube.code;
+        }
+      }
+    }
+  }
+  return codes;
+}
+
+function diametersOf(codes: Uint8Array, code: number): Float32Array {
+  const mask = Uint8Array.from(codes, (value) => (value === code ? 1 : 0));
+  const outside = Uint8Array.from(mask, (value) => 1 - value);
+  const inside = euclideanDistanceTransform(outside, geometry.dimensions, spacingMm);
+  return vesselDiameters(mask, inside, geometry.dimensions, spacingMm);
+}
+
+describe('vesselDiameters', () => {
+  it.each([{ radiusMm: 1.5 }, { radiusMm: 2.5 }, { radiusMm: 4 }])(
+    'reads 2R along an oblique tube of radius $radiusMm mm, within a voxel diagonal',
+    ({ radiusMm }) => {
+      // A cylinder of radius R has diameter 2R everywhere (analytic); the reading is within
+      // 2h (a voxel diagonal) of it, as vessel-calibre.ts derives.
+      const axis = normalize([0.3, 0.2, 1]);
+      const codes = tubes([{ code: VEIN, radiusMm, through: [0.17, -0.29, 0], axis }]);
+      const diameters = diametersOf(codes, VEIN);
+      const values = [...diameters].filter((value) => !Number.isNaN(value));
+      const median = values.sort((a, b) => a - b)[Math.floor(values.length / 2)];
+      expect(Math.abs(median - 2 * radiusMm)).toBeLessThanOrEqual(2 * h);
+      // Every voxel of the tube, wall or centre, reads the diameter of its cross-section.
+      expect(values[Math.floor(values.length * 0.05)]).toBeGreaterThanOrEqual(2 * radiusMm - 2 * h);
+      expect(values[Math.floor(values.length * 0.95)]).toBeLessThanOrEqual(2 * radiusMm + 2 * h);
+    },
+  );
+});
+
+describe('findHeatSinks', () => {
+  // A spherical zone of radius 12 mm at the origin; a 5 mm hepatic vein along z whose axis lies
+  // s = 18 mm from the centre; a 1.6 mm portal branch at 14 mm. Gap from a vessel's wall to
+  // the zone's surface: s − R_vessel − R_zone (analytic).
+  const zoneRadiusMm = 12;
+  const zone = tableZoneEllipsoid([-50, 0, 0], [0, 0, 0], {
+    zoneLengthMm: 2 * zoneRadiusMm,
+    zoneWidthMm: 2 * zoneRadiusMm,
+    tipOffsetMm: 0,
+  });
+  const zoneMask = rasteriseEllipsoids([zone], geometry);
+  const codes = tubes([
+    { code: VEIN, radiusMm: 2.5, through: [18, 0, 0], axis: [0, 0, 1] },
+    { code: PORTAL, radiusMm: 0.8, through: [0, 14, 0], axis: [0, 0.6, 0.8] },
+  ]);
+  const extent = maskExtent(zoneMask, geometry.dimensions);
+  if (!extent) throw new Error('empty zone');
+  const zoneField = zoneSignedField(zoneMask, geometry, [extent], 12 + 4 * h);
+  const run = (heatSinkDistanceMm: number) =>
+    findHeatSinks({
+      cropGeometry: geometry,
+      kindCodes: codes,
+      zoneField,
+      vessels: [
+        { kind: 'hepatic-vein', diametersMm: diametersOf(codes, VEIN) },
+        { kind: 'portal-vein', diametersMm: diametersOf(codes, PORTAL) },
+      ],
+      heatSinkDiameterMm: 3,
+      heatSinkDistanceMm,
+    });
+
+  it('reports a vessel at least 3 mm wide within the distance, with its gap to the zone', () => {
+    // Lu DSK et al., AJR 2002;178:47: heat sink at vessels of 3 mm and more.
+    const found = run(10);
+    expect(found).toHaveLength(1);
+    const [vein] = found;
+    expect(vein.kind).toBe('hepatic-vein');
+    expect(Math.abs(vein.diameterMm - 5)).toBeLessThanOrEqual(2 * h);
+    // Each voxelised surface lies within h of its analytic one (triangle inequality).
+    expect(Math.abs(vein.distanceMm - (18 - 2.5 - zoneRadiusMm))).toBeLessThanOrEqual(2 * h);
+  });
+
+  it('leaves out a wide vessel farther than the distance', () => {
+    // The gap is 3.5 mm: a 2 mm heat-sink distance leaves the vein out.
+    expect(run(2)).toEqual([]);
+  });
+
+  it('leaves out a vessel narrower than the diameter, however close', () => {
+    // The 1.6 mm portal branch runs into the zone itself.
+    expect(run(10).some((vessel) => vessel.kind === 'portal-vein')).toBe(false);
+  });
+
+  it('gives a vessel running through the zone a distance of 0', () => {
+    const through = tubes([
+      { code: VEIN, radiusMm: 2.5, through: [5, 0, 0], axis: [0, 0, 1] },
+    ]);
+    const found = findHeatSinks({
+      cropGeometry: geometry,
+      kindCodes: through,
+      zoneField,
+      vessels: [{ kind: 'hepatic-vein', diametersMm: diametersOf(through, VEIN) }],
+      heatSinkDiameterMm: 3,
+      heatSinkDistanceMm: 10,
+    });
+    expect(found).toHaveLength(1);
+    expect(found[0].distanceMm).toBe(0);
+  });
+});

@@ -10,6 +10,8 @@ export * from './api/imaging';
 export * from './api/structures';
 export * from './scores';
 export * from './geometry';
+export * from './bioheat';
+export * from './assessment';
 export * from './api/applicator-profiles';
 export * from './api/plans';
 export * from './api/safety-profiles';

@@ -18,7 +18,10 @@ export interface TestApp {
 /** The real application on the run's own database, migrated; logs are captured for checks. */
 export async function startTestApp(
   overrides: Partial<AppConfig> = {},
-  services: Pick<Services, 'assessments'> = {},
+  options: {
+    /** Starts the assessment queue (and workers) once the database is open. */
+    assessments?: (orm: MikroORM) => Promise<NonNullable<Services['assessments']>>;
+  } = {},
 ): Promise<TestApp> {
   const url = inject('databaseUrl');
   const orm = await openDatabase(url);
@@ -29,8 +32,9 @@ export async function startTestApp(
     ...overrides,
   };
   const logs: string[] = [];
+  const assessments = options.assessments ? await options.assessments(orm) : null;
   const app = createApp({
-    ...services,
+    assessments,
     orm,
     sessionPool,
     config,

@@ -9,9 +9,8 @@
  * table. What it shows is decision support: the treating team, local protocols and licensed
  * practice decide (`clinicalCaution`).
  */
-import type { AssessmentResult, ZoneAssessment, ZoneModel } from '../api/assessments';
+import type { AssessmentResult, ZoneModel } from '../api/assessments';
 import { clinicalCaution } from '../api/caution';
-import type { StructureKind } from '../api/structures';
 import { halfVoxelDiagonalMm } from '../geometry/path-clearance';
 import { lpsToVoxel, type VolumeGeometry } from '../geometry/patient-geometry';
 import { addScaled, normalize, subtract, type Vec3 } from '../geometry/vector';
@@ -35,7 +34,7 @@ import {
   type BioheatZoneModel,
 } from './bioheat-zone';
 import { assessCoverage, type TumourMarginSamples } from './coverage';
-import type { DistanceFieldCache } from './distance-field-cache';
+import { runCache, type DistanceFieldCache } from './distance-field-cache';
 import {
   ellipsoidVoxelExtent,
   isEllipsoidInsideGrid,
@@ -53,9 +52,15 @@ import {
   type CropContext,
 } from './kind-fields';
 import { kindCode, statisticsOf, takeLabelInventory, type LabelInventory } from './label-inventory';
-import { cropBoxAround, cropLabels, kindCodesOf, type CropRegion } from './plan-crop';
+import { cropBoxAround, prepareCrop, type PreparedCrop } from './plan-crop';
+import { segmentOnGrid } from './segment-distance';
 import { assessTrajectory, type TrajectoryFigures } from './trajectory-safety';
-import { extentOfLabel, nearestTumourLabel, tumourLabelsMeeting } from './treated-tumours';
+import {
+  extentOfLabel,
+  nearestTumourLabel,
+  treatedTumours,
+  tumourLabelsMeeting,
+} from './treated-tumours';
 import { vesselDiameters } from './vessel-calibre';
 import { judgePlan } from './verdict';
 import { extentOfLpsPoints, type VoxelExtent } from './voxel-extent';
@@ -66,11 +71,11 @@ import { interpolateZoneTable } from './zone-table';
 export const ENGINE_VERSION = '1.0.0';
 
 /**
- * Widest vessel radius whose calibre is read beside a zone, mm: the crop reaches this much
- * beyond the heat-sink distance so that such a vessel's far wall is seen (portal trunk and
- * inferior vena cava stay under it; from memory).
+ * How far the zone crop reaches beyond the heat-sink distance, mm: at least this, and at least
+ * the heat-sink diameter, so that a vessel beside the zone is seen across twice the width that
+ * makes it a heat sink and its calibre is read at the threshold, however the profile sets it.
  */
-export const VESSEL_RADIUS_ALLOWANCE_MM = 15;
+export const VESSEL_ALLOWANCE_MM = 10;
 
 export interface AssessPlanOptions {
   /** Hears each stage start and end, and the bioheat model's own progress. */
@@ -102,8 +107,14 @@ export interface AssessPlanOutput {
   marginSamples: TumourMarginSamples[];
   /** Wall time of each stage that ran, milliseconds. */
   timingsMs: Partial<Record<AssessmentStage, number>>;
-  /** The crop of the series grid everything was computed on. */
-  crop: { box: VoxelBox; geometry: VolumeGeometry };
+  /**
+   * The crops of the series grid the figures were computed on: around the paths (clearances)
+   * and around the zones (zones, coverage, vessels).
+   */
+  crops: {
+    path: { box: VoxelBox; geometry: VolumeGeometry };
+    zone: { box: VoxelBox; geometry: VolumeGeometry };
+  };
   /** To show beside the verdict. */
   caution: string;
 }
@@ -149,24 +160,26 @@ export async function assessPlan(
     return takeLabelInventory(labelMap, geometry.dimensions, input.structures);
   });
   const ellipsoids = stage('zone-table', () => input.applicators.map(tableZoneOf));
-
-  const plan = stage('crop', () => planCrop(input, inventory, ellipsoids, withBioheat, options));
-  const { crop } = plan;
-  const cropVoxelsPerKindCode = voxelsPerKindCode(crop.kindCodes);
-  const isInCrop = (kind: StructureKind) => cropVoxelsPerKindCode[kindCode(kind)] > 0;
+  const plan = stage('crop', () => planCrops(input, inventory, ellipsoids, withBioheat, options));
+  const pathCrop = plan.path.context;
+  const zoneCrop = plan.zone.context;
+  const pathVoxelsPerKindCode = voxelsPerKindCode(pathCrop.kindCodes);
+  const zoneVoxelsPerKindCode = voxelsPerKindCode(zoneCrop.kindCodes);
 
   stage('distance-fields', () => {
-    for (const kind of inventory.kindsPresent.filter(isInCrop)) outsideDistanceOfKind(crop, kind);
+    for (const kind of inventory.kindsPresent) {
+      if (pathVoxelsPerKindCode[kindCode(kind)] > 0) outsideDistanceOfKind(pathCrop, kind);
+    }
   });
   const trajectories: TrajectoryFigures[] = stage('trajectory', () =>
     input.applicators.map((applicator) =>
       assessTrajectory(
         {
-          crop,
+          crop: pathCrop,
           seriesGeometry: geometry,
           labelMap,
           pathMarginMm: input.options.cropMarginMm,
-          cropVoxelsPerKindCode,
+          cropVoxelsPerKindCode: pathVoxelsPerKindCode,
         },
         {
           entryLps: applicator.entry,
@@ -181,58 +194,37 @@ export async function assessPlan(
   const zoneMasks = new Map<ZoneModel, Uint8Array>();
   const cutZoneModels: ZoneModel[] = [];
   stage('table-zone', () => {
-    zoneMasks.set('table', rasteriseEllipsoids(ellipsoids, crop.geometry));
+    zoneMasks.set('table', rasteriseEllipsoids(ellipsoids, zoneCrop.geometry));
     if (!ellipsoids.every((zone) => isEllipsoidInsideGrid(zone, geometry))) {
       cutZoneModels.push('table');
     }
   });
 
-  const heatSinkKinds = safetyProfile.heatSinkKinds.filter(isInCrop);
   const vessels = stage('vessels', () =>
-    heatSinkKinds.map((kind) => {
-      const code = kindCode(kind);
-      const mask = maskOfCode(crop.kindCodes, code);
-      const inside = insideDistanceOfKind(crop, kind);
-      const { dimensions, spacingMm } = crop.geometry;
-      return { kind, diametersMm: vesselDiameters(mask, inside, dimensions, spacingMm) };
-    }),
+    safetyProfile.heatSinkKinds
+      .filter((kind) => zoneVoxelsPerKindCode[kindCode(kind)] > 0)
+      .map((kind) => {
+        const mask = maskOfCode(zoneCrop.kindCodes, kindCode(kind));
+        const inside = insideDistanceOfKind(zoneCrop, kind);
+        const { dimensions, spacingMm } = zoneCrop.geometry;
+        return { kind, diametersMm: vesselDiameters(mask, inside, dimensions, spacingMm) };
+      }),
   );
 
   if (withBioheat && plan.bioheatBox) {
-    const bioheatBox = plan.bioheatBox;
-    const calibrations = calibrationsOf(input.applicators);
     checkAbort();
     report('bioheat-zone', doneShare);
     const startedAt = monotonicMs();
-    const bioheatGeometry = boxGeometry(crop.geometry, bioheatBox);
-    const heatSinkMask = wideVesselMask(
-      crop.geometry,
-      bioheatBox,
-      vessels,
-      safetyProfile.heatSinkDiameterMm,
-    );
-    const model = options.bioheat ?? defaultBioheatZoneModel;
     const shareBefore = doneShare;
-    const result = await model({
-      geometry: bioheatGeometry,
-      heatSinkMask,
-      applicators: input.applicators.map((applicator, index) => ({
-        entryLps: applicator.entry,
-        tipLps: applicator.target,
-        activeLengthMm: applicator.profile.activeLengthMm,
-        powerW: applicator.powerW,
-        timeS: applicator.timeS,
-        calibration: calibrations[index],
-      })),
-      onProgress: (fraction) =>
-        report(
-          'bioheat-zone',
-          shareBefore + shares['bioheat-zone'] * Math.min(1, Math.max(0, fraction)),
-        ),
-      shouldAbort: options.shouldAbort,
-      timeLimitMs: options.bioheatTimeLimitMs,
+    const onFraction = (fraction: number) =>
+      report(
+        'bioheat-zone',
+        shareBefore + shares['bioheat-zone'] * Math.min(1, Math.max(0, fraction)),
+      );
+    const damage = await runBioheat(input, zoneCrop.geometry, plan.bioheatBox, vessels, {
+      ...options,
+      onFraction,
     });
-    const damage = damageOnCrop(result, crop.geometry);
     zoneMasks.set('bioheat', damage.mask);
     if (damage.isCut) cutZoneModels.push('bioheat');
     timingsMs['bioheat-zone'] = monotonicMs() - startedAt;
@@ -241,26 +233,32 @@ export async function assessPlan(
   }
   const primaryZoneModel: ZoneModel = zoneMasks.has('bioheat') ? 'bioheat' : 'table';
 
-  const treated = treatedTumours(input, inventory, plan, zoneMasks);
+  const treated = treatedTumours(
+    input.structures,
+    inventory,
+    plan.nearestTumours,
+    plan.candidateTumours,
+    zoneMasks.values(),
+    { labels: plan.zone.labels, box: zoneCrop.box },
+  );
   const paddingMm =
-    safetyProfile.heatSinkDistanceMm + 4 * halfVoxelDiagonalMm(crop.geometry.spacingMm);
+    safetyProfile.heatSinkDistanceMm + 4 * halfVoxelDiagonalMm(zoneCrop.geometry.spacingMm);
   const coverage = stage('coverage', () =>
     [...zoneMasks].map(([model, mask]) => {
-      const forDistances = maskExtent(mask, crop.geometry.dimensions)
-        ? mask
-        : tipsMask(input, crop);
-      const zoneExtent = maskExtent(forDistances, crop.geometry.dimensions) as VoxelExtent;
+      const { dimensions } = zoneCrop.geometry;
+      const measured = maskExtent(mask, dimensions) ? mask : tipsMask(input, zoneCrop.geometry);
+      const zoneExtent = maskExtent(measured, dimensions) as VoxelExtent;
       const field = zoneSignedField(
-        forDistances,
-        crop.geometry,
+        measured,
+        zoneCrop.geometry,
         [zoneExtent, ...treated.map((tumour) => tumour.extent)],
         paddingMm,
       );
       const figures = assessCoverage({
         model,
-        cropGeometry: crop.geometry,
-        cropLabels: plan.labels,
-        kindCodes: crop.kindCodes,
+        cropGeometry: zoneCrop.geometry,
+        cropLabels: plan.zone.labels,
+        kindCodes: zoneCrop.kindCodes,
         zoneMask: mask,
         zoneField: field,
         tumours: treated,
@@ -272,15 +270,14 @@ export async function assessPlan(
   const primary = coverage.find((entry) => entry.model === primaryZoneModel) ?? coverage[0];
   const heatSinks = stage('heat-sinks', () =>
     findHeatSinks({
-      cropGeometry: crop.geometry,
-      kindCodes: crop.kindCodes,
+      cropGeometry: zoneCrop.geometry,
+      kindCodes: zoneCrop.kindCodes,
       zoneField: primary.field,
       vessels,
       heatSinkDiameterMm: safetyProfile.heatSinkDiameterMm,
       heatSinkDistanceMm: safetyProfile.heatSinkDistanceMm,
     }),
   );
-  const zones: ZoneAssessment[] = coverage.map((entry) => entry.figures.zone);
   const applicators = trajectories.map((trajectory) => trajectory.safety);
   const verdict = stage('verdict', () =>
     judgePlan(
@@ -294,21 +291,22 @@ export async function assessPlan(
       safetyProfile,
     ),
   );
+  const cropView = (context: CropContext) => ({ box: context.box, geometry: context.geometry });
   return {
     result: {
       engineVersion: ENGINE_VERSION,
       applicators,
-      zones,
+      zones: coverage.map((entry) => entry.figures.zone),
       primaryZoneModel,
       heatSinks,
       verdict,
     },
     zones: coverage.map((entry) =>
-      zoneDisplay(entry.model, entry.mask, crop.geometry, entry.figures.zone.volumeMl),
+      zoneDisplay(entry.model, entry.mask, zoneCrop.geometry, entry.figures.zone.volumeMl),
     ),
     marginSamples: coverage.flatMap((entry) => entry.figures.marginSamples),
     timingsMs,
-    crop: { box: crop.box, geometry: crop.geometry },
+    crops: { path: cropView(pathCrop), zone: cropView(zoneCrop) },
     caution: clinicalCaution,
   };
 }
@@ -338,28 +336,46 @@ function calibrationsOf(applicators: readonly AssessmentApplicator[]): number[] 
   });
 }
 
-interface PlanCrop {
-  crop: CropContext;
-  labels: Uint8Array | Uint16Array;
-  /** Tumour labels that may be treated: nearest each tip, or meeting a zone's reach. */
-  candidateTumours: number[];
+interface PlannedCrops {
+  path: PreparedCrop;
+  zone: PreparedCrop;
+  /** Tumour labels nearest each tip, and those a zone may reach. */
   nearestTumours: number[];
-  /** The physics model's grid within the crop (crop voxel indices), when it runs. */
+  candidateTumours: number[];
+  /** The physics model's grid within the zone crop (its voxel indices), when it runs. */
   bioheatBox: VoxelBox | null;
 }
 
-function planCrop(
+/**
+ * The path crop: every path padded by the crop margin. The zone crop: the zones padded by the
+ * heat-sink distance and the widest vessel radius read, the tumours they may treat padded by
+ * two voxels (for their surface), and the physics model's grid when it runs.
+ */
+function planCrops(
   input: AssessmentInput,
   inventory: LabelInventory,
   ellipsoids: readonly EllipsoidZone[],
   withBioheat: boolean,
   options: AssessPlanOptions,
-): PlanCrop {
+): PlannedCrops {
   const { geometry, safetyProfile } = input;
-  const marginMm = input.options.cropMarginMm;
-  const zoneMarginMm = Math.max(
-    marginMm,
-    safetyProfile.heatSinkDistanceMm + VESSEL_RADIUS_ALLOWANCE_MM,
+  const onGrid = input.applicators.filter(
+    (applicator) => segmentOnGrid(geometry, applicator.entry, applicator.target) !== null,
+  );
+  if (onGrid.length === 0) {
+    throw new EngineRefusal(
+      'plan-outside-series',
+      'applicators',
+      'Every applicator path lies wholly outside the series grid: there is nothing to assess ' +
+        'the plan against.',
+    );
+  }
+  const pathBox = cropBoxAround(
+    geometry,
+    onGrid.map((applicator) => ({
+      extent: extentOfLpsPoints(geometry, [applicator.entry, applicator.target]),
+      marginMm: input.options.cropMarginMm,
+    })),
   );
   const zoneExtents = ellipsoids.map((zone) => ellipsoidVoxelExtent(zone, geometry));
   const heatingExtents = withBioheat
@@ -378,57 +394,53 @@ function planCrop(
         .filter((label): label is number => label !== null),
     ),
   ];
-  const zoneReach = [
-    ...zoneExtents.map((extent) => reach(extent, marginMm)),
-    ...heatingExtents.map((extent) => reach(extent, BIOHEAT_GRID_MARGIN_MM)),
-  ];
   const candidateTumours = [
-    ...new Set([...nearestTumours, ...tumourLabelsMeeting(inventory, zoneReach)]),
+    ...new Set([
+      ...nearestTumours,
+      ...tumourLabelsMeeting(inventory, [
+        ...zoneExtents,
+        ...heatingExtents.map((extent) => reach(extent, BIOHEAT_GRID_MARGIN_MM)),
+      ]),
+    ]),
   ];
-  const tumourMarginMm = Math.max(marginMm, 2 * Math.max(...geometry.spacingMm));
-  const regions: CropRegion[] = [
-    ...input.applicators.map((applicator) => ({
-      extent: extentOfLpsPoints(geometry, [applicator.entry, applicator.target]),
-      marginMm,
-    })),
+  const zoneMarginMm =
+    safetyProfile.heatSinkDistanceMm +
+    Math.max(VESSEL_ALLOWANCE_MM, safetyProfile.heatSinkDiameterMm);
+  const tumourMarginMm = 2 * Math.max(...geometry.spacingMm);
+  const zoneBox = cropBoxAround(geometry, [
     ...zoneExtents.map((extent) => ({ extent, marginMm: zoneMarginMm })),
     ...heatingExtents.map((extent) => ({ extent, marginMm: BIOHEAT_GRID_MARGIN_MM })),
     ...candidateTumours.map((label) => ({
       extent: extentOfLabel(statisticsOf(inventory, label)),
       marginMm: tumourMarginMm,
     })),
-  ];
-  const box = cropBoxAround(geometry, regions);
-  if (box === null) {
+  ]);
+  if (pathBox === null || zoneBox === null) {
     throw new EngineRefusal(
       'plan-outside-series',
       'applicators',
-      'The plan lies wholly outside the series grid: there is nothing to assess it against.',
+      'The ablation zones lie wholly outside the series grid: there is nothing to assess them ' +
+        'against.',
     );
   }
-  const cropGeometry = boxGeometry(geometry, box);
-  const labels = cropLabels(input.labelMap, geometry, box);
-  const crop: CropContext = {
-    seriesKey: input.seriesKey ?? null,
-    cache: options.cache,
-    geometry: cropGeometry,
-    box,
-    kindCodes: kindCodesOf(labels, inventory.kindCodeOfLabel),
-    inventory,
-  };
+  const cache = runCache(input.seriesKey === undefined ? undefined : options.cache);
+  const seriesKey = input.seriesKey ?? 'this-run';
+  const prepare = (box: VoxelBox) =>
+    prepareCrop(input.labelMap, geometry, box, inventory, cache, seriesKey);
+  const zone = prepare(zoneBox);
   let bioheatBox: VoxelBox | null = null;
   if (withBioheat) {
-    const inCrop = heatingExtents.map((extent) => ({
-      min: extent.min.map((value, axis) => value - box.start[axis]) as Vec3,
-      max: extent.max.map((value, axis) => value - box.start[axis]) as Vec3,
+    const inZoneCrop = heatingExtents.map((extent) => ({
+      min: extent.min.map((value, axis) => value - zoneBox.start[axis]) as Vec3,
+      max: extent.max.map((value, axis) => value - zoneBox.start[axis]) as Vec3,
     }));
     bioheatBox = cropBoxAround(
-      cropGeometry,
-      inCrop.map((extent) => ({ extent, marginMm: BIOHEAT_GRID_MARGIN_MM })),
+      zone.context.geometry,
+      inZoneCrop.map((extent) => ({ extent, marginMm: BIOHEAT_GRID_MARGIN_MM })),
       1,
     );
   }
-  return { crop, labels, candidateTumours, nearestTumours, bioheatBox };
+  return { path: prepare(pathBox), zone, nearestTumours, candidateTumours, bioheatBox };
 }
 
 /** Extent (series voxel indices) of an applicator's heating segment: tip to active length. */
@@ -442,6 +454,39 @@ function heatingSegmentExtent(
     applicator.profile.activeLengthMm,
   );
   return extentOfLpsPoints(geometry, [applicator.target, back]);
+}
+
+/** The physics zone on the zone crop, large vessels of the heat-sink kinds held at 37 °C. */
+async function runBioheat(
+  input: AssessmentInput,
+  cropGeometry: VolumeGeometry,
+  box: VoxelBox,
+  vessels: readonly { diametersMm: Float32Array }[],
+  options: AssessPlanOptions & { onFraction: (fraction: number) => void },
+): Promise<{ mask: Uint8Array; isCut: boolean }> {
+  const calibrations = calibrationsOf(input.applicators);
+  const model = options.bioheat ?? defaultBioheatZoneModel;
+  const result = await model({
+    geometry: boxGeometry(cropGeometry, box),
+    heatSinkMask: wideVesselMask(
+      cropGeometry,
+      box,
+      vessels,
+      input.safetyProfile.heatSinkDiameterMm,
+    ),
+    applicators: input.applicators.map((applicator, index) => ({
+      entryLps: applicator.entry,
+      tipLps: applicator.target,
+      activeLengthMm: applicator.profile.activeLengthMm,
+      powerW: applicator.powerW,
+      timeS: applicator.timeS,
+      calibration: calibrations[index],
+    })),
+    onProgress: options.onFraction,
+    shouldAbort: options.shouldAbort,
+    timeLimitMs: options.bioheatTimeLimitMs,
+  });
+  return damageOnCrop(result, cropGeometry);
 }
 
 /** Voxels of the box (crop indices) where a heat-sink vessel is at least `diameterMm` wide. */
@@ -467,52 +512,15 @@ function wideVesselMask(
   return mask;
 }
 
-interface TreatedTumour {
-  structureId: string;
-  labelValue: number;
-  extent: VoxelExtent;
-}
-
-/** The tumours nearest each tip, and the candidates any zone reaches, in structure order. */
-function treatedTumours(
-  input: AssessmentInput,
-  inventory: LabelInventory,
-  plan: PlanCrop,
-  zoneMasks: ReadonlyMap<ZoneModel, Uint8Array>,
-): TreatedTumour[] {
-  const touched = new Set(plan.nearestTumours);
-  for (const mask of zoneMasks.values()) {
-    for (let index = 0; index < mask.length; index++) {
-      if (mask[index] !== 0 && plan.candidateTumours.includes(plan.labels[index])) {
-        touched.add(plan.labels[index]);
-      }
-    }
-  }
-  const start = plan.crop.box.start;
-  return input.structures
-    .filter((structure) => structure.kind === 'tumour' && touched.has(structure.labelValue))
-    .map((structure) => {
-      const { minVoxel, maxVoxel } = statisticsOf(inventory, structure.labelValue);
-      return {
-        structureId: structure.id,
-        labelValue: structure.labelValue,
-        extent: {
-          min: minVoxel.map((value, axis) => value - start[axis]) as Vec3,
-          max: maxVoxel.map((value, axis) => value - start[axis]) as Vec3,
-        },
-      };
-    });
-}
-
 /**
  * Stand-in for an empty zone when measuring distances: the voxels of the applicator tips, the
  * limit of a zone shrunk onto them, so that margins stay finite (and negative).
  */
-function tipsMask(input: AssessmentInput, crop: CropContext): Uint8Array {
-  const mask = new Uint8Array(crop.kindCodes.length);
-  const [nx, ny, nz] = crop.geometry.dimensions;
+function tipsMask(input: AssessmentInput, cropGeometry: VolumeGeometry): Uint8Array {
+  const [nx, ny, nz] = cropGeometry.dimensions;
+  const mask = new Uint8Array(nx * ny * nz);
   for (const applicator of input.applicators) {
-    const [i, j, k] = lpsToVoxel(crop.geometry, applicator.target).map(Math.round);
+    const [i, j, k] = lpsToVoxel(cropGeometry, applicator.target).map(Math.round);
     mask[
       Math.min(nx - 1, Math.max(0, i)) +
         nx * (Math.min(ny - 1, Math.max(0, j)) + ny * Math.min(nz - 1, Math.max(0, k)))

@@ -5,11 +5,7 @@
  * heat-sink mask and the damage mask need no resampling; a model answering on another grid is
  * still read back onto the crop, by nearest voxel.
  */
-import {
-  simulateAblationZone,
-  type AblationZoneInput,
-  type AblationZoneResult,
-} from '../bioheat/simulate-zone';
+import { simulateAblationZone, type AblationZoneInput, type AblationZoneResult } from '../bioheat';
 import {
   lpsToVoxel,
   voxelCount,

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { halfVoxelDiagonalMm } from '../geometry/path-clearance';
-import { voxelCount, voxelToLps, type VolumeGeometry } from '../geometry/patient-geometry';
+import { voxelCount, type VolumeGeometry } from '../geometry/patient-geometry';
 import { addScaled, distance, normalize, type Vec3 } from '../geometry/vector';
 import { assessCoverage, type CoverageInput } from './coverage';
 import { rasteriseEllipsoids, tableZoneEllipsoid, type EllipsoidZone } from './ellipsoid-zone';

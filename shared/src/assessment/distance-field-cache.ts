@@ -64,3 +64,22 @@ export function cachedArray<T extends CachedArray>(
   cache.set(key, value);
   return value;
 }
+
+/**
+ * The cache one run uses: every array it derives is kept for the rest of the run (so that
+ * stages share them), and read from and written to `external` as well when given.
+ */
+export function runCache(external?: DistanceFieldCache): DistanceFieldCache {
+  const own = new Map<string, CachedArray>();
+  return {
+    get(key) {
+      const value = own.get(key) ?? external?.get(key);
+      if (value !== undefined) own.set(key, value);
+      return value;
+    },
+    set(key, value) {
+      own.set(key, value);
+      external?.set(key, value);
+    },
+  };
+}

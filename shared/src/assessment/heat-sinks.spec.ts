@@ -75,6 +75,31 @@ describe('vesselDiameters', () => {
       expect(values[Math.floor(values.length * 0.95)]).toBeLessThanOrEqual(2 * radiusMm + 2 * h);
     },
   );
+
+  it('keeps a thin branch its own calibre where it leaves a wide trunk', () => {
+    // A trunk of radius 4 mm along z and a branch of radius 1 mm leaving it along x: past the
+    // trunk's wall (x > 4 mm + a branch radius) the branch reads 2 mm, not the trunk's 8 mm.
+    const codes = tubes([
+      { code: VEIN, radiusMm: 4, through: [-20, 0, 0], axis: [0, 0, 1] },
+      { code: VEIN, radiusMm: 1, through: [0, 0.13, 0.4], axis: [1, 0, 0] },
+    ]);
+    const diameters = diametersOf(codes, VEIN);
+    const [nx, ny] = geometry.dimensions;
+    const [ox, oy, oz] = geometry.originLps;
+    const branch: number[] = [];
+    const trunk: number[] = [];
+    diameters.forEach((value, index) => {
+      if (Number.isNaN(value)) return;
+      const x = ox + (index % nx) * spacingMm[0];
+      const y = oy + (Math.floor(index / nx) % ny) * spacingMm[1];
+      const z = oz + Math.floor(index / (nx * ny)) * spacingMm[2];
+      if (x > -20 + 4 + 2 && Math.hypot(y - 0.13, z - 0.4) <= 1) branch.push(value);
+      if (Math.hypot(x + 20, y) <= 3) trunk.push(value);
+    });
+    expect(branch.length).toBeGreaterThan(20);
+    expect(Math.max(...branch)).toBeLessThanOrEqual(2 + 2 * h);
+    expect(Math.min(...trunk)).toBeGreaterThanOrEqual(8 - 2 * h);
+  });
 });
 
 describe('findHeatSinks', () => {
@@ -130,9 +155,7 @@ describe('findHeatSinks', () => {
   });
 
   it('gives a vessel running through the zone a distance of 0', () => {
-    const through = tubes([
-      { code: VEIN, radiusMm: 2.5, through: [5, 0, 0], axis: [0, 0, 1] },
-    ]);
+    const through = tubes([{ code: VEIN, radiusMm: 2.5, through: [5, 0, 0], axis: [0, 0, 1] }]);
     const found = findHeatSinks({
       cropGeometry: geometry,
       kindCodes: through,

@@ -1,11 +1,15 @@
 /**
- * The crop of the series grid an assessment works on: a box of voxels around the applicator
- * paths, their zones and the tumours they treat, padded by margins in millimetres. Its bounds
- * are snapped outwards to multiples of `CROP_SNAP_VOXELS` so that a plan moved by a few
- * millimetres usually keeps the same crop, and its distance fields stay in the cache.
+ * The crops of the series grid an assessment works on, boxes of voxels padded by margins in
+ * millimetres: the path crop around the applicator paths, on which the clearance fields are
+ * computed, and the zone crop around the zones, the tumours they treat and the vessels beside
+ * them. Bounds are snapped outwards to multiples of `CROP_SNAP_VOXELS` so that a plan moved by
+ * a few millimetres usually keeps its crops, and their distance fields stay in the cache.
  */
+import { boxGeometry, type VoxelBox } from '../geometry/voxel-box';
 import type { VolumeGeometry } from '../geometry/patient-geometry';
-import type { VoxelBox } from '../geometry/voxel-box';
+import type { DistanceFieldCache } from './distance-field-cache';
+import type { CropContext } from './kind-fields';
+import type { LabelInventory } from './label-inventory';
 import type { VoxelExtent } from './voxel-extent';
 
 /** Crop bounds are multiples of this many voxels along each axis (clamped to the grid). */
@@ -80,4 +84,34 @@ export function kindCodesOf(
   const codes = new Uint8Array(labels.length);
   for (let index = 0; index < labels.length; index++) codes[index] = kindCodeOfLabel[labels[index]];
   return codes;
+}
+
+/** A crop ready for work: its context (grid, kind codes, cache) and its label values. */
+export interface PreparedCrop {
+  context: CropContext;
+  /** Label values of the crop, i fastest. */
+  labels: Uint8Array | Uint16Array;
+}
+
+/** Cuts the box out of the series' label map and sets up its context. */
+export function prepareCrop(
+  labelMap: Uint8Array | Uint16Array,
+  geometry: VolumeGeometry,
+  box: VoxelBox,
+  inventory: LabelInventory,
+  cache: DistanceFieldCache,
+  seriesKey: string,
+): PreparedCrop {
+  const labels = cropLabels(labelMap, geometry, box);
+  return {
+    context: {
+      seriesKey,
+      cache,
+      geometry: boxGeometry(geometry, box),
+      box,
+      kindCodes: kindCodesOf(labels, inventory.kindCodeOfLabel),
+      inventory,
+    },
+    labels,
+  };
 }

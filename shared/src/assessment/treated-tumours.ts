@@ -6,7 +6,9 @@
  */
 import { lpsToVoxel, type VolumeGeometry } from '../geometry/patient-geometry';
 import type { Vec3 } from '../geometry/vector';
-import type { LabelInventory, LabelStatistics } from './label-inventory';
+import type { VoxelBox } from '../geometry/voxel-box';
+import type { AssessmentStructure } from './assessment-input';
+import { statisticsOf, type LabelInventory, type LabelStatistics } from './label-inventory';
 import type { VoxelExtent } from './voxel-extent';
 
 /** The extent of a label's voxels (continuous indices: the cells around its extreme centres). */
@@ -72,4 +74,49 @@ export function tumourLabelsMeeting(
       ),
     );
   });
+}
+
+/** A tumour the plan is judged on, with its voxels' bounding box on a crop. */
+export interface TreatedTumour {
+  structureId: string;
+  labelValue: number;
+  /** Bounding box of its voxels in crop voxel indices (inclusive, whole numbers). */
+  extent: VoxelExtent;
+}
+
+/**
+ * The tumours nearest each tip, and those of the candidates that some zone reaches (a zone
+ * voxel of theirs on the crop), in the order of the structures.
+ */
+export function treatedTumours(
+  structures: readonly AssessmentStructure[],
+  inventory: LabelInventory,
+  nearest: readonly number[],
+  candidates: readonly number[],
+  zoneMasks: Iterable<Uint8Array>,
+  crop: { labels: Uint8Array | Uint16Array; box: VoxelBox },
+): TreatedTumour[] {
+  const treated = new Set(nearest);
+  const isCandidate = new Uint8Array(65_536);
+  for (const label of candidates) isCandidate[label] = 1;
+  for (const mask of zoneMasks) {
+    for (let index = 0; index < mask.length; index++) {
+      if (mask[index] !== 0 && isCandidate[crop.labels[index]] !== 0)
+        treated.add(crop.labels[index]);
+    }
+  }
+  const start = crop.box.start;
+  return structures
+    .filter((structure) => structure.kind === 'tumour' && treated.has(structure.labelValue))
+    .map((structure) => {
+      const { minVoxel, maxVoxel } = statisticsOf(inventory, structure.labelValue);
+      return {
+        structureId: structure.id,
+        labelValue: structure.labelValue,
+        extent: {
+          min: minVoxel.map((value, axis) => value - start[axis]) as Vec3,
+          max: maxVoxel.map((value, axis) => value - start[axis]) as Vec3,
+        },
+      };
+    });
 }

@@ -20,8 +20,8 @@ import type { HeatingPhase } from './pennes-solver';
 
 /**
  * Radius σ of the Gaussian around the active segment, millimetres. Our modelling choice:
- * wide enough that a crop grid of 1.5–2 mm resolves it (a Gaussian sampled at h ≤ 1.6σ sums to
- * its integral within 1e-4, by Poisson summation), narrow against zones 20–50 mm across.
+ * wide enough that a crop grid of 1.5–2.5 mm resolves it (the grid then holds η·P within 5e-4;
+ * see applicator-heating.spec.ts), narrow against zones 20–50 mm across.
  */
 export const SOURCE_RADIUS_MM = 2.5;
 

@@ -87,7 +87,9 @@ export function resolveMedium(medium: Readonly<BioheatMedium>): ResolvedMedium {
     );
   }
   if (spacingMm.length !== 3 || !spacingMm.every((h) => h > 0 && Number.isFinite(h))) {
-    throw new RangeError(`grid.spacingMm must be 3 positive numbers, got [${spacingMm.join(', ')}]`);
+    throw new RangeError(
+      `grid.spacingMm must be 3 positive numbers, got [${spacingMm.join(', ')}]`,
+    );
   }
   const [nx, ny, nz] = dimensions;
   const voxelCount = nx * ny * nz;

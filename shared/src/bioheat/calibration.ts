@@ -106,7 +106,12 @@ export function calibrateApplicatorProfile(
 
   const evaluations: Evaluation[] = [];
   const evaluate = (logParameter: number): Evaluation => {
-    const sizes = homogeneousZoneSizes(profile.activeLengthMm, rows, Math.exp(logParameter), options);
+    const sizes = homogeneousZoneSizes(
+      profile.activeLengthMm,
+      rows,
+      Math.exp(logParameter),
+      options,
+    );
     const residuals = sizes.flatMap((size, index) => [
       size.lengthMm - table[index].zoneLengthMm,
       size.widthMm - table[index].zoneWidthMm,

@@ -73,7 +73,14 @@ export function homogeneousZoneSizes(
   }
   rows.forEach((row, index) =>
     checkZoneApplicator(
-      { entryLps: ENTRY, tipLps: TIP, activeLengthMm, powerW: row.powerW, timeS: row.timeS, calibration: parameter },
+      {
+        entryLps: ENTRY,
+        tipLps: TIP,
+        activeLengthMm,
+        powerW: row.powerW,
+        timeS: row.timeS,
+        calibration: parameter,
+      },
       `rows[${index}]`,
     ),
   );
@@ -81,7 +88,10 @@ export function homogeneousZoneSizes(
   const powers = [...new Set(rows.map((row) => row.powerW))];
   for (const powerW of powers) {
     const members = rows.flatMap((row, index) => (row.powerW === powerW ? [index] : []));
-    let extent = expectedExtent(activeLengthMm, members.map((index) => rows[index]));
+    let extent = expectedExtent(
+      activeLengthMm,
+      members.map((index) => rows[index]),
+    );
     for (let growth = 0; ; growth++) {
       const found = runPowerGroup(
         activeLengthMm,

@@ -8,11 +8,7 @@
  * the unpadded grid. Clamped voxels are multiplied out (`free` = 0) and stay at θ = 0.
  */
 import type { ResolvedMedium } from './bioheat-grid';
-import {
-  DamageRateTable,
-  RATE_TABLE_BELOW_K,
-  RATE_TABLE_STEPS_PER_K,
-} from './damage-rate-table';
+import { DamageRateTable, RATE_TABLE_BELOW_K, RATE_TABLE_STEPS_PER_K } from './damage-rate-table';
 import { thermalDiffusivityM2PerS } from './tissue-properties';
 
 /** Beyond this Ω (survival e^−1e6) the tissue is dead; capping it keeps the fields finite. */
@@ -29,6 +25,10 @@ function survivalOf(omega: number): number {
   return omega > 40 ? 0 : Math.exp(-omega);
 }
 
+/**
+ * The solver's state and its step: fields allocated once, `setPhase` before each phase, `step`
+ * as often as the phase needs. Times in seconds, rises in kelvin, damage as in `pennes-solver`.
+ */
 export class PennesKernel {
   /** Padded rise, now and next (swapped after every step), kelvin. */
   private rise: Float64Array;
@@ -169,7 +169,8 @@ export class PennesKernel {
 
   /** The current rise above the arterial temperature on the unpadded grid, kelvin. */
   riseK(out: Float64Array = new Float64Array(this.medium.voxelCount)): Float64Array {
-    for (let index = 0; index < out.length; index++) out[index] = this.rise[this.paddedIndex(index)];
+    for (let index = 0; index < out.length; index++)
+      out[index] = this.rise[this.paddedIndex(index)];
     return out;
   }
 

@@ -63,7 +63,10 @@ export interface PennesTransientProblem extends BioheatMedium {
   onProgress?: (fraction: number) => void;
   /** Checked before every step; answering true stops the run with a `BioheatAbortedError`. */
   shouldAbort?: () => boolean;
-  /** Wall-clock limit of the run, milliseconds; past it the run stops (`BioheatAbortedError`). */
+  /**
+   * Wall-clock limit of the run, milliseconds: once reached, the run stops with a
+   * `BioheatAbortedError` (0 stops it before the first step).
+   */
   timeLimitMs?: number;
   /**
    * Called at the end of every phase with the fields so far (views of the solver's own
@@ -127,7 +130,9 @@ export class BioheatAbortedError extends Error {
  * Throws a RangeError for malformed input (naming the field) and a `BioheatAbortedError` when
  * `shouldAbort` answers true or `timeLimitMs` passes.
  */
-export function solvePennesTransient(problem: Readonly<PennesTransientProblem>): PennesTransientResult {
+export function solvePennesTransient(
+  problem: Readonly<PennesTransientProblem>,
+): PennesTransientResult {
   const medium = resolveMedium(problem);
   const { voxelCount } = medium;
   const phases = checkPhases(problem.phases, voxelCount);
@@ -162,7 +167,7 @@ export function solvePennesTransient(problem: Readonly<PennesTransientProblem>):
       if (problem.shouldAbort?.() === true) {
         throw new BioheatAbortedError('aborted', stepsDone / totalSteps);
       }
-      if (Date.now() - startedAtMs > timeLimitMs) {
+      if (Date.now() - startedAtMs >= timeLimitMs) {
         throw new BioheatAbortedError('time-limit', stepsDone / totalSteps);
       }
       kernel.step();

@@ -56,7 +56,11 @@ export function solvePennesSteadyState(problem: Readonly<PennesSteadyProblem>): 
   const sourceNorm = Math.sqrt(dotProduct(residual, residual));
   const arterialC = medium.tissue.arterialTemperatureC;
   if (sourceNorm === 0) {
-    return { temperatureC: new Float64Array(voxelCount).fill(arterialC), iterations: 0, relativeResidual: 0 };
+    return {
+      temperatureC: new Float64Array(voxelCount).fill(arterialC),
+      iterations: 0,
+      relativeResidual: 0,
+    };
   }
   const preconditioned = new Float64Array(voxelCount);
   const direction = new Float64Array(voxelCount);
@@ -179,6 +183,7 @@ class SteadyOperator {
   /** out = D⁻¹·r, D the diagonal of A (Jacobi preconditioner). */
   precondition(residual: Float64Array, out: Float64Array): void {
     const { diagonal } = this;
-    for (let index = 0; index < residual.length; index++) out[index] = residual[index] / diagonal[index];
+    for (let index = 0; index < residual.length; index++)
+      out[index] = residual[index] / diagonal[index];
   }
 }

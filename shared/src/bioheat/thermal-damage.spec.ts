@@ -24,9 +24,12 @@ describe(`Arrhenius damage, REFERENCES.md worked values [C] (${HENRIQUES_MORITZ}
     { temperatureC: 55, seconds: 14.2, decimals: 1 },
     { temperatureC: 60, seconds: 3.45, decimals: 2 },
     { temperatureC: 70, seconds: 0.23, decimals: 2 },
-  ])('reaches Ω = 1 after $seconds s at $temperatureC °C', ({ temperatureC, seconds, decimals }) => {
-    expectRoundsTo(timeToArrheniusDamageS(temperatureC), seconds, decimals);
-  });
+  ])(
+    'reaches Ω = 1 after $seconds s at $temperatureC °C',
+    ({ temperatureC, seconds, decimals }) => {
+      expectRoundsTo(timeToArrheniusDamageS(temperatureC), seconds, decimals);
+    },
+  );
 
   it('gives Ω = 17.4 for 60 s at 60 °C', () => {
     expectRoundsTo(arrheniusDamageIncrement(60, 60), 17.4, 1);

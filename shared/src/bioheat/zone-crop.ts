@@ -4,7 +4,11 @@
  */
 import type { GridDimensions, VolumeGeometry } from '../geometry/patient-geometry';
 import { addScaled, dot, normalize, subtract, type Vec3 } from '../geometry/vector';
-import { checkOrthonormalGrid, checkZoneApplicator, type ZoneApplicator } from './applicator-heating';
+import {
+  checkOrthonormalGrid,
+  checkZoneApplicator,
+  type ZoneApplicator,
+} from './applicator-heating';
 
 /**
  * Room around the heating segments for the zone, millimetres: zone tables rarely exceed 50 mm
@@ -24,7 +28,8 @@ export function zoneCropGeometry(
   spacingMm: Vec3,
   marginMm = DEFAULT_CROP_MARGIN_MM,
 ): VolumeGeometry {
-  if (applicators.length === 0) throw new RangeError('applicators must hold at least one applicator');
+  if (applicators.length === 0)
+    throw new RangeError('applicators must hold at least one applicator');
   if (!spacingMm.every((h) => h > 0 && Number.isFinite(h))) {
     throw new RangeError('spacingMm must be 3 positive numbers');
   }
@@ -51,8 +56,7 @@ export function zoneCropGeometry(
   ) as GridDimensions;
   // Centre the grid on the box: the rounding up spreads evenly on both sides.
   const originInGrid = [0, 1, 2].map(
-    (axis) =>
-      (low[axis] + high[axis]) / 2 - ((dimensions[axis] - 1) * spacingMm[axis]) / 2,
+    (axis) => (low[axis] + high[axis]) / 2 - ((dimensions[axis] - 1) * spacingMm[axis]) / 2,
   );
   let originLps: Vec3 = [0, 0, 0];
   for (let axis = 0; axis < 3; axis++) {

@@ -26,7 +26,7 @@ export interface ShaftZoneSize {
   lengthMm: number;
   /** Largest extent across the shaft (the widest caliper perpendicular to it). */
   widthMm: number;
-  /** Middle of the extent along the shaft, measured from the tip towards the entry; null without a zone. */
+  /** Middle of the extent along the shaft, from the tip towards the entry; null without a zone. */
   tipOffsetMm: number | null;
   /** Whether the zone reaches a wall of the grid (the sizes are then lower bounds). */
   touchesGridWall: boolean;

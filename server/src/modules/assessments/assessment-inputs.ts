@@ -16,7 +16,10 @@ import type { SafetyProfile } from '../plans/safety-profile.entity';
 import type { AssessmentTaskInput } from './assessment-task-protocol';
 
 export interface GatheredInputs {
-  task: Omit<AssessmentTaskInput, 'labelMap'> & { labelMapKey: string; labelMapType: 'uint8' | 'uint16' };
+  task: Omit<AssessmentTaskInput, 'labelMap'> & {
+    labelMapKey: string;
+    labelMapType: 'uint8' | 'uint16';
+  };
   hash: string;
 }
 

@@ -6,7 +6,13 @@
 import { MessageChannel } from 'node:worker_threads';
 import { availableParallelism } from 'node:os';
 import Piscina from 'piscina';
-import type { AssessmentTaskInput, AssessmentTaskOutput, TaskProgress } from './assessment-task-protocol';
+import { EngineRefusal, type EngineRefusalProblem } from '@emberline/shared';
+import type {
+  AssessmentTaskInput,
+  AssessmentTaskOutput,
+  AssessmentTaskRefusal,
+  TaskProgress,
+} from './assessment-task-protocol';
 
 const isRunningFromSources = import.meta.url.endsWith('.ts');
 
@@ -49,7 +55,10 @@ export class AssessmentPool {
     return this.settings.threads;
   }
 
-  /** Runs one assessment; `onProgress` hears each stage as it starts and ends. */
+  /**
+   * Runs one assessment; `onProgress` hears each stage as it starts and ends. A refusal of the
+   * engine is thrown here again as the `EngineRefusal` it was in the thread.
+   */
   async run(
     input: AssessmentTaskInput,
     transfer: ArrayBuffer[],
@@ -58,13 +67,18 @@ export class AssessmentPool {
     const channel = new MessageChannel();
     channel.port1.on('message', (message: TaskProgress) => onProgress(message));
     try {
-      return (await this.pool.run(
+      const output = (await this.pool.run(
         { input, port: channel.port2 },
         {
           transferList: [channel.port2, ...transfer],
           signal: AbortSignal.timeout(this.settings.timeoutMs),
         },
-      )) as AssessmentTaskOutput;
+      )) as AssessmentTaskOutput | AssessmentTaskRefusal;
+      if ('refusal' in output) {
+        const { problem, field, message } = output.refusal;
+        throw new EngineRefusal(problem as EngineRefusalProblem, field, message);
+      }
+      return output;
     } catch (error) {
       if (error instanceof Error && error.name === 'AbortError') {
         throw new Error(

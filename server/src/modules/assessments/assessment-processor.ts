@@ -75,7 +75,7 @@ export function assessmentProcessor(dependencies: ProcessorDependencies) {
       if (output.display) await dependencies.displays.write(assessment.id, output.display);
       await finish(orm, assessment.id, 'done', { result: output.result });
     } catch (error) {
-      const isRefusal = error instanceof EngineRefusal || isRefusalLike(error);
+      const isRefusal = error instanceof EngineRefusal;
       const isLastAttempt = job.retryCount >= dependencies.retryLimit;
       if (isRefusal || isLastAttempt) {
         const message = isRefusal
@@ -90,11 +90,6 @@ export function assessmentProcessor(dependencies: ProcessorDependencies) {
       throw error;
     }
   };
-}
-
-/** A refusal from inside the pool arrives as a plain Error carrying the refusal's name. */
-function isRefusalLike(error: unknown): boolean {
-  return error instanceof Error && error.name === 'EngineRefusal';
 }
 
 async function saveProgress(
@@ -131,7 +126,11 @@ async function finish(
     assessment.result = outcome.result ?? null;
     assessment.error = outcome.error ?? null;
     const plan = assessment.plan.getEntity();
-    if (plan.status === 'draft' || plan.status === 'submitted' || plan.status === 'assessment-failed') {
+    if (
+      plan.status === 'draft' ||
+      plan.status === 'submitted' ||
+      plan.status === 'assessment-failed'
+    ) {
       plan.status = status === 'done' ? 'assessed' : 'assessment-failed';
     }
     await tx.flush();
@@ -147,4 +146,3 @@ async function requeue(orm: MikroORM, id: string): Promise<void> {
   await em.flush();
   await notifyProgress(em, toProgressEvent(assessment, 'Retrying'));
 }
-

@@ -9,7 +9,10 @@ import type { AssessmentProgressEvent } from '@emberline/shared';
 
 export const assessmentProgressChannel = 'emberline_assessment_progress';
 
-export async function notifyProgress(em: EntityManager, event: AssessmentProgressEvent): Promise<void> {
+export async function notifyProgress(
+  em: EntityManager,
+  event: AssessmentProgressEvent,
+): Promise<void> {
   await em
     .getConnection()
     .execute('select pg_notify(?, ?)', [assessmentProgressChannel, JSON.stringify(event)]);

@@ -39,6 +39,15 @@ export interface TaskProgress {
   stage: string;
 }
 
+/**
+ * A refusal of the engine, returned rather than thrown: an Error crossing a worker-thread
+ * boundary keeps only standard names (structured clone), so a thrown `EngineRefusal` would
+ * arrive as a plain Error.
+ */
+export interface AssessmentTaskRefusal {
+  refusal: { problem: string; field: string; message: string };
+}
+
 export interface AssessmentTaskOutput {
   result: AssessmentResult;
   timingsMs: Record<string, number>;

@@ -5,13 +5,19 @@
  */
 import type { MessagePort } from 'node:worker_threads';
 import {
+  EngineRefusal,
   assessPlan,
   calibrateApplicatorProfile,
   decodeLabelMapFile,
   encodeAssessmentDisplay,
   DEFAULT_CROP_MARGIN_MM,
 } from '@emberline/shared';
-import type { AssessmentTaskInput, AssessmentTaskOutput, TaskProgress } from './assessment-task-protocol';
+import type {
+  AssessmentTaskInput,
+  AssessmentTaskOutput,
+  AssessmentTaskRefusal,
+  TaskProgress,
+} from './assessment-task-protocol';
 
 const calibrations = new Map<string, number>();
 
@@ -28,7 +34,21 @@ function calibrationOf(profile: AssessmentTaskInput['applicators'][number]['prof
   return parameter;
 }
 
-export default async function runAssessmentTask({
+export default async function runAssessmentTask(task: {
+  input: AssessmentTaskInput;
+  port: MessagePort;
+}): Promise<AssessmentTaskOutput | AssessmentTaskRefusal> {
+  try {
+    return await assess(task);
+  } catch (error) {
+    if (error instanceof EngineRefusal) {
+      return { refusal: { problem: error.problem, field: error.field, message: error.message } };
+    }
+    throw error;
+  }
+}
+
+async function assess({
   input,
   port,
 }: {
@@ -75,7 +95,11 @@ export default async function runAssessmentTask({
     },
   );
   const display = encodeAssessmentDisplay({
-    zones: run.zones.map((zone) => ({ model: zone.model, geometry: zone.geometry, mask: zone.mask })),
+    zones: run.zones.map((zone) => ({
+      model: zone.model,
+      geometry: zone.geometry,
+      mask: zone.mask,
+    })),
     margins: run.marginSamples.map((sample) => ({
       structureId: sample.structureId,
       model: sample.model,
@@ -86,6 +110,9 @@ export default async function runAssessmentTask({
   return {
     result: run.result,
     timingsMs: run.timingsMs,
-    display: display.buffer.slice(display.byteOffset, display.byteOffset + display.byteLength) as ArrayBuffer,
+    display: display.buffer.slice(
+      display.byteOffset,
+      display.byteOffset + display.byteLength,
+    ) as ArrayBuffer,
   };
 }

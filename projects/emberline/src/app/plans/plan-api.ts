@@ -18,7 +18,9 @@ export class PlanApi {
   }
 
   /** The profiles a plan may use (retired ones are left out by the server). */
-  profiles(isWanted: () => boolean = () => true): HttpResourceRef<ApplicatorProfileView[] | undefined> {
+  profiles(
+    isWanted: () => boolean = () => true,
+  ): HttpResourceRef<ApplicatorProfileView[] | undefined> {
     return httpResource<ApplicatorProfileView[]>(() =>
       isWanted() ? '/api/applicator-profiles' : undefined,
     );

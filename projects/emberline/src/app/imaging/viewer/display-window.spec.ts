@@ -5,7 +5,15 @@ import { draggedWindow, greyLevel, presetOf, windowBounds, windowPresets } from 
  * from memory): air −1000, aerated lung about −850, fat about −100, water 0, liver parenchyma
  * 40–60 unenhanced and up to about 110 portal-venous, cortical bone 700 and above.
  */
-const tissueHu = { air: -1000, lung: -850, fat: -100, water: 0, liver: 60, enhancedLiver: 110, cortex: 900 };
+const tissueHu = {
+  air: -1000,
+  lung: -850,
+  fat: -100,
+  water: 0,
+  liver: 60,
+  enhancedLiver: 110,
+  cortex: 900,
+};
 
 function preset(id: string) {
   const found = windowPresets.find((candidate) => candidate.id === id);
@@ -47,7 +55,9 @@ describe('display windows', () => {
     expect(greyLevel(tissueHu.lung, preset('lung'))).toBeGreaterThan(0);
     expect(greyLevel(tissueHu.lung, preset('lung'))).toBeLessThan(0.5);
     expect(greyLevel(tissueHu.cortex, preset('bone'))).toBeLessThan(1);
-    expect(greyLevel(tissueHu.fat, preset('bone'))).toBeLessThan(greyLevel(tissueHu.cortex, preset('bone')));
+    expect(greyLevel(tissueHu.fat, preset('bone'))).toBeLessThan(
+      greyLevel(tissueHu.cortex, preset('bone')),
+    );
   });
 
   it('recognises a preset by its values', () => {

@@ -1,6 +1,12 @@
 import { voxelToLps, type VolumeGeometry } from '@emberline/shared';
 import { directionLetters, sliceAxesOf } from './slice-axes';
-import { screenToLps, slicePlanePoint, sliceIndexAt, stepSlices, fittedViewport } from './slice-viewport';
+import {
+  screenToLps,
+  slicePlanePoint,
+  sliceIndexAt,
+  stepSlices,
+  fittedViewport,
+} from './slice-viewport';
 
 /** REFERENCES.md worked example [C]: IPP (−175, −200, 50), IOP (1,0,0, 0,1,0), spacing [0.7, 0.8]. */
 const axialGrid: VolumeGeometry = {
@@ -70,7 +76,10 @@ describe('slice view axes', () => {
     expect(axes.axial.obliquityDeg).toBeCloseTo(12, 9);
     expect(axes.sagittal.obliquityDeg).toBeCloseTo(0, 9);
     const { rightLps, upLps, normalLps } = axes.axial;
-    expect(rightLps[0] * upLps[0] + rightLps[1] * upLps[1] + rightLps[2] * upLps[2]).toBeCloseTo(0, 12);
+    expect(rightLps[0] * upLps[0] + rightLps[1] * upLps[1] + rightLps[2] * upLps[2]).toBeCloseTo(
+      0,
+      12,
+    );
     expect(normalLps[2]).toBeGreaterThan(0);
   });
 
@@ -101,7 +110,12 @@ describe('slice viewport', () => {
     const axes = sliceAxesOf(axialGrid).axial;
     const plane = slicePlanePoint(axialGrid, 2, 10);
     expect(plane[2]).toBeCloseTo(75, 12);
-    const viewport = { widthPx: 100, heightPx: 100, centreLps: [0, 0, -400] as [number, number, number], mmPerPixel: 1 };
+    const viewport = {
+      widthPx: 100,
+      heightPx: 100,
+      centreLps: [0, 0, -400] as [number, number, number],
+      mmPerPixel: 1,
+    };
     expect(screenToLps(axes, viewport, plane, 50, 50)[2]).toBeCloseTo(75, 12);
     expect(sliceIndexAt(axialGrid, 2, [0, 0, 76.2])).toBe(10);
     expect(sliceIndexAt(axialGrid, 2, [0, 0, 1e6])).toBe(39);

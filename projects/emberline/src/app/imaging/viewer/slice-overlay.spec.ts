@@ -14,7 +14,12 @@ const grid: VolumeGeometry = {
   ],
 };
 const axes = sliceAxesOf(grid);
-const viewport: SliceViewport = { widthPx: 200, heightPx: 200, centreLps: [0, 0, 20], mmPerPixel: 0.5 };
+const viewport: SliceViewport = {
+  widthPx: 200,
+  heightPx: 200,
+  centreLps: [0, 0, 20],
+  mmPerPixel: 0.5,
+};
 
 describe('slice overlay', () => {
   it('draws the coronal plane through the cursor as a horizontal line of the axial view', () => {

@@ -48,7 +48,11 @@ export function imageDataOf(
   image.setSpacing(geometry.spacingMm);
   image.setOrigin(geometry.originLps);
   // vtk.js reads the direction column by column: the LPS directions of i, then j, then k.
-  image.setDirection([...geometry.direction[0], ...geometry.direction[1], ...geometry.direction[2]]);
+  image.setDirection([
+    ...geometry.direction[0],
+    ...geometry.direction[1],
+    ...geometry.direction[2],
+  ]);
   const scalars = vtkDataArray.newInstance({ values, numberOfComponents: 1, name: 'values' });
   image.getPointData().setScalars(scalars);
   return { image, scalars };
@@ -98,7 +102,11 @@ export class SliceScene {
     this.renderer.getActiveCamera().setParallelProjection(true);
   }
 
-  private labelLayer(geometry: VolumeGeometry, labelMap: ViewerLabelMap, axis: VoxelAxis): LabelLayer {
+  private labelLayer(
+    geometry: VolumeGeometry,
+    labelMap: ViewerLabelMap,
+    axis: VoxelAxis,
+  ): LabelLayer {
     const { image, scalars } = imageDataOf(geometry, labelMap.labels);
     const mapper = vtkImageMapper.newInstance();
     mapper.setInputData(image);
@@ -187,7 +195,14 @@ export class SliceScene {
     this.isDisposed = true;
     const layer = this.labels;
     if (layer) {
-      for (const object of [layer.slice, layer.mapper, layer.colours, layer.opacities, layer.image, layer.scalars]) {
+      for (const object of [
+        layer.slice,
+        layer.mapper,
+        layer.colours,
+        layer.opacities,
+        layer.image,
+        layer.scalars,
+      ]) {
         object.delete();
       }
     }

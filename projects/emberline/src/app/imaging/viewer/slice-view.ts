@@ -91,7 +91,10 @@ export class SliceView {
     const volume = this.session.volume();
     if (!axes || !volume) return null;
     const geometry = volume.geometry;
-    const step = vector3.scale(geometry.direction[axes.voxelAxis], geometry.spacingMm[axes.voxelAxis]);
+    const step = vector3.scale(
+      geometry.direction[axes.voxelAxis],
+      geometry.spacingMm[axes.voxelAxis],
+    );
     return {
       pointLps: slicePlanePoint(geometry, axes.voxelAxis, this.sliceIndex()),
       halfThicknessMm: Math.abs(vector3.dot(step, axes.normalLps)) / 2,
@@ -260,8 +263,16 @@ export class SliceView {
     const overlay = this.overlay();
     if (overlay && this.session.canDrag()) {
       const handles = overlay.paths.flatMap(({ shape, drawn }) => [
-        { ...drawn.target, handle: { applicator: shape.applicator, end: 'target' as const }, lps: shape.targetLps },
-        { ...drawn.entry, handle: { applicator: shape.applicator, end: 'entry' as const }, lps: shape.entryLps },
+        {
+          ...drawn.target,
+          handle: { applicator: shape.applicator, end: 'target' as const },
+          lps: shape.targetLps,
+        },
+        {
+          ...drawn.entry,
+          handle: { applicator: shape.applicator, end: 'entry' as const },
+          lps: shape.entryLps,
+        },
       ]);
       const hit = nearestWithin(handles, x, y, handleReachPx);
       if (hit) {
@@ -356,7 +367,10 @@ export class SliceView {
     if (move) {
       this.session.setCursor(vector3.addScaled(cursor, move, stepMm));
     } else if (event.key === 'PageUp' || event.key === 'PageDown') {
-      this.session.stepSlices(this.view(), (event.key === 'PageUp' ? 1 : -1) * (event.shiftKey ? 5 : 1));
+      this.session.stepSlices(
+        this.view(),
+        (event.key === 'PageUp' ? 1 : -1) * (event.shiftKey ? 5 : 1),
+      );
     } else if (event.key === '+' || event.key === '=') {
       this.zoom(1.25);
     } else if (event.key === '-') {

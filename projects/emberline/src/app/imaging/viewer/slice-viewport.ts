@@ -64,7 +64,11 @@ export function screenToLps(
   y: number,
 ): Vec3 {
   const onScreen = vector3.addScaled(
-    vector3.addScaled(viewport.centreLps, axes.rightLps, (x - viewport.widthPx / 2) * viewport.mmPerPixel),
+    vector3.addScaled(
+      viewport.centreLps,
+      axes.rightLps,
+      (x - viewport.widthPx / 2) * viewport.mmPerPixel,
+    ),
     axes.upLps,
     (viewport.heightPx / 2 - y) * viewport.mmPerPixel,
   );

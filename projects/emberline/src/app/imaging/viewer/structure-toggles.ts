@@ -15,7 +15,10 @@ import { ViewerSession } from './viewer-session';
       <ul class="toggles" aria-labelledby="structure-toggles-title">
         @for (row of rows(); track row.labelValue) {
           <li>
-            <mat-checkbox [checked]="row.isVisible" (change)="toggle(row.labelValue, $event.checked)">
+            <mat-checkbox
+              [checked]="row.isVisible"
+              (change)="toggle(row.labelValue, $event.checked)"
+            >
               <span class="swatch" aria-hidden="true" [style.background-color]="row.colour"></span>
               {{ row.name }} <span class="em-muted">· {{ row.kindLabel }}</span>
             </mat-checkbox>

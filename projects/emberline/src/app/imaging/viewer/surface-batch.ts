@@ -34,7 +34,10 @@ export function runSurfaceBatch(
         reply({ type: 'empty', labelValue }, []);
       }
     } catch (error) {
-      reply({ type: 'failed', message: error instanceof Error ? error.message : String(error) }, []);
+      reply(
+        { type: 'failed', message: error instanceof Error ? error.message : String(error) },
+        [],
+      );
       return;
     }
     setTimeout(next, 0);

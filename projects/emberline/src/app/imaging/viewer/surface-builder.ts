@@ -36,7 +36,11 @@ export class SurfaceBuilder {
       return;
     }
     setTimeout(() =>
-      runSurfaceBatch(request, (reply) => !this.isDisposed && this.onReply(reply), () => this.isDisposed),
+      runSurfaceBatch(
+        request,
+        (reply) => !this.isDisposed && this.onReply(reply),
+        () => this.isDisposed,
+      ),
     );
   }
 

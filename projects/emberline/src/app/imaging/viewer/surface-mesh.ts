@@ -80,8 +80,8 @@ function smoothedMask(
     box.start[1] - margin * step[1],
     box.start[2] - margin * step[2],
   ];
-  const size: [number, number, number] = [0, 1, 2].map((axis) =>
-    Math.ceil(box.size[axis] / step[axis]) + 2 * margin,
+  const size: [number, number, number] = [0, 1, 2].map(
+    (axis) => Math.ceil(box.size[axis] / step[axis]) + 2 * margin,
   ) as [number, number, number];
   const [sx, sy, sz] = size;
   const values = new Float32Array(sx * sy * sz);

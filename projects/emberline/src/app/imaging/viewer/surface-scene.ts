@@ -52,9 +52,16 @@ export class SurfaceScene {
   private readonly openGlWindow = vtkOpenGLRenderWindow.newInstance();
   private readonly interactor = vtkRenderWindowInteractor.newInstance();
   private readonly style = vtkInteractorStyleTrackballCamera.newInstance();
-  private readonly surfaces = new Map<number, { data: vtkPolyData; mapper: vtkMapper; actor: vtkActor }>();
+  private readonly surfaces = new Map<
+    number,
+    { data: vtkPolyData; mapper: vtkMapper; actor: vtkActor }
+  >();
   private readonly paths: PathActors[] = [];
-  private readonly cursor = vtkSphereSource.newInstance({ radius: 1.5, thetaResolution: 16, phiResolution: 12 });
+  private readonly cursor = vtkSphereSource.newInstance({
+    radius: 1.5,
+    thetaResolution: 16,
+    phiResolution: 12,
+  });
   private readonly cursorMapper = vtkMapper.newInstance();
   private readonly cursorActor = vtkActor.newInstance();
   private hasCamera = false;
@@ -83,9 +90,11 @@ export class SurfaceScene {
     const data = vtkPolyData.newInstance();
     data.getPoints().setData(mesh.pointsLps, 3);
     data.getPolys().setData(mesh.polys);
-    data.getPointData().setNormals(
-      vtkDataArray.newInstance({ name: 'Normals', values: mesh.normals, numberOfComponents: 3 }),
-    );
+    data
+      .getPointData()
+      .setNormals(
+        vtkDataArray.newInstance({ name: 'Normals', values: mesh.normals, numberOfComponents: 3 }),
+      );
     const mapper = vtkMapper.newInstance();
     mapper.setInputData(data);
     const actor = vtkActor.newInstance();

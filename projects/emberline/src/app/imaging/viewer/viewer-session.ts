@@ -118,7 +118,9 @@ export class ViewerSession {
   });
   /** Length, angle and clearances of the selected applicator's path, when placed. */
   readonly figures = signal<PathFigures | null>(null);
-  readonly fieldKinds = computed(() => labelValuesByKind(this.structures()).map((entry) => entry.kind));
+  readonly fieldKinds = computed(() =>
+    labelValuesByKind(this.structures()).map((entry) => entry.kind),
+  );
   readonly readyKinds = signal<ReadonlySet<StructureKind>>(new Set());
   readonly fieldsTotalMs = signal<number | null>(null);
   readonly clearanceProblem = signal('');
@@ -193,7 +195,12 @@ export class ViewerSession {
       return;
     }
     const draft = this.draft();
-    if (mode === 'draft' && draft && this.isDraftEditable() && drafting.draftStep(draft) !== 'adjust') {
+    if (
+      mode === 'draft' &&
+      draft &&
+      this.isDraftEditable() &&
+      drafting.draftStep(draft) !== 'adjust'
+    ) {
       this.draft.set(drafting.placePoint(draft, pointLps));
     }
     this.cursorLps.set(pointLps);
@@ -293,7 +300,9 @@ export class ViewerSession {
         return;
       }
       if (this.clearance) {
-        this.clearance.measure([{ entryLps: applicator.entryLps, targetLps: applicator.targetLps }]);
+        this.clearance.measure([
+          { entryLps: applicator.entryLps, targetLps: applicator.targetLps },
+        ]);
       } else {
         // No label map: length and angle still hold.
         this.figures.set(pathFigures([], applicator.entryLps, applicator.targetLps));

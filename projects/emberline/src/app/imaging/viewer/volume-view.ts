@@ -19,7 +19,10 @@ import { SurfaceScene } from './surface-scene';
 import { ViewerSession } from './viewer-session';
 
 /** The 3D view shows the tumour first and the enclosing organs last. */
-const surfaceOrder: readonly StructureKind[] = ['tumour', ...clearanceKindOrder.filter((kind) => kind !== 'tumour')];
+const surfaceOrder: readonly StructureKind[] = [
+  'tumour',
+  ...clearanceKindOrder.filter((kind) => kind !== 'tumour'),
+];
 
 export const surfacesReadyMark = 'emberline:viewer-surfaces-ready';
 
@@ -76,7 +79,8 @@ export class VolumeView {
     effect(() => this.showCursor());
     // Surfaces are built once the slices are on screen, so that they never delay them.
     effect(() => {
-      if (this.session.hasFirstFrame() && this.isSceneReady()) untracked(() => this.buildSurfaces());
+      if (this.session.hasFirstFrame() && this.isSceneReady())
+        untracked(() => this.buildSurfaces());
     });
   }
 

@@ -4,7 +4,8 @@
  * context is released at once.
  */
 export function hasWebGl2(): boolean {
-  if (typeof document === 'undefined' || typeof WebGL2RenderingContext === 'undefined') return false;
+  if (typeof document === 'undefined' || typeof WebGL2RenderingContext === 'undefined')
+    return false;
   try {
     const context = document.createElement('canvas').getContext('webgl2');
     if (!context) return false;

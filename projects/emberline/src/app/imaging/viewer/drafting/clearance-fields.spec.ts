@@ -89,10 +89,15 @@ describe('live clearance figures', () => {
       kinds: labelValuesByKind(structures),
       paddingMm: 30,
     });
-    const path = { entryLps: [2, 13, 10] as [number, number, number], targetLps: [22, 13, 10] as [number, number, number] };
+    const path = {
+      entryLps: [2, 13, 10] as [number, number, number],
+      targetLps: [22, 13, 10] as [number, number, number],
+    };
     expect(computation.figures([path])[0].clearances).toEqual([]);
     expect(computation.computeNext()?.kind).toBe('portal-vein');
-    expect(computation.figures([path])[0].clearances.map((entry) => entry.kind)).toEqual(['portal-vein']);
+    expect(computation.figures([path])[0].clearances.map((entry) => entry.kind)).toEqual([
+      'portal-vein',
+    ]);
     expect(computation.computeNext()?.kind).toBe('tumour');
     expect(computation.isDone).toBe(true);
     expect(computation.computeNext()).toBeNull();

@@ -104,7 +104,10 @@ function paddedBox(box: VoxelBox, geometry: VolumeGeometry, paddingMm: number): 
   for (let axis = 0; axis < 3; axis++) {
     const pad = Math.ceil(paddingMm / geometry.spacingMm[axis]);
     const first = Math.max(0, box.start[axis] - pad);
-    const last = Math.min(geometry.dimensions[axis] - 1, box.start[axis] + box.size[axis] - 1 + pad);
+    const last = Math.min(
+      geometry.dimensions[axis] - 1,
+      box.start[axis] + box.size[axis] - 1 + pad,
+    );
     start[axis] = first;
     size[axis] = last - first + 1;
   }
@@ -217,7 +220,8 @@ export function pathFigures(
 ): PathFigures {
   const lengthMm = vector3.distance(entryLps, targetLps);
   const rise = Math.abs(targetLps[2] - entryLps[2]);
-  const angleFromAxialDeg = lengthMm > 0 ? (Math.asin(Math.min(1, rise / lengthMm)) * 180) / Math.PI : 0;
+  const angleFromAxialDeg =
+    lengthMm > 0 ? (Math.asin(Math.min(1, rise / lengthMm)) * 180) / Math.PI : 0;
   return {
     lengthMm,
     angleFromAxialDeg,

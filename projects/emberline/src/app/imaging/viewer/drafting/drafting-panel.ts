@@ -69,7 +69,7 @@ export class DraftingPanel {
   /** The saved plan on screen, if any (its name, notes and status). */
   readonly plan = input<PlanView | null>(null);
   readonly saved = output<PlanView>();
-  readonly closed = output<void>();
+  readonly closed = output();
 
   protected readonly draft = this.session.draft;
   protected readonly isEditable = this.session.isDraftEditable;
@@ -177,7 +177,11 @@ export class DraftingPanel {
     const { powerW, timeS } = this.settings.controls;
     powerW.setValidators(
       limits
-        ? [Validators.required, Validators.min(limits.powerW.min), Validators.max(limits.powerW.max)]
+        ? [
+            Validators.required,
+            Validators.min(limits.powerW.min),
+            Validators.max(limits.powerW.max),
+          ]
         : Validators.required,
     );
     timeS.setValidators(
@@ -198,7 +202,9 @@ export class DraftingPanel {
       // A new profile brings its own zone table: start from its first row.
       const profile = this.profiles().find((candidate) => candidate.id === value.profileId);
       if (profile) {
-        this.session.updateDraft((state) => drafting.setSettings(state, drafting.settingsForProfile(profile)));
+        this.session.updateDraft((state) =>
+          drafting.setSettings(state, drafting.settingsForProfile(profile)),
+        );
         return;
       }
     }
@@ -284,8 +290,11 @@ export function readableFieldProblem(text: string): string {
     entry: 'entry',
     target: 'target',
   };
-  return text.replace(/^applicators\.(\d+)(?:\.(\w+))?[.\d]*:/, (_, index: string, field?: string) => {
-    const who = `Applicator ${Number(index) + 1}`;
-    return field ? `${who}, ${names[field] ?? field}:` : `${who}:`;
-  });
+  return text.replace(
+    /^applicators\.(\d+)(?:\.(\w+))?[.\d]*:/,
+    (_, index: string, field?: string) => {
+      const who = `Applicator ${Number(index) + 1}`;
+      return field ? `${who}, ${names[field] ?? field}:` : `${who}:`;
+    },
+  );
 }

@@ -1,4 +1,8 @@
-import { createPlanSchema, maximumApplicatorsPerPlan, type ApplicatorProfileView } from '@emberline/shared';
+import {
+  createPlanSchema,
+  maximumApplicatorsPerPlan,
+  type ApplicatorProfileView,
+} from '@emberline/shared';
 import {
   addApplicator,
   beginDrag,
@@ -82,7 +86,10 @@ describe('drafting a needle plan', () => {
   });
 
   it('takes power and time within the zone table range only', () => {
-    expect(profileLimits(profile)).toEqual({ powerW: { min: 60, max: 100 }, timeS: { min: 300, max: 600 } });
+    expect(profileLimits(profile)).toEqual({
+      powerW: { min: 60, max: 100 },
+      timeS: { min: 300, max: 600 },
+    });
     let state = placePoint(placePoint(newDraft(settings), [0, 0, 0]), [50, 0, 0]);
     expect(draftProblems(state, [profile])).toEqual([]);
     state = setSettings(state, { powerW: 120, timeS: null });
@@ -115,7 +122,14 @@ describe('drafting a needle plan', () => {
     const state = draftOfPlan({
       id: 'plan-1',
       applicators: [
-        { entry: [1, 2, 3], target: [4, 5, 6], profileId: profile.id, profileName: profile.name, powerW: 80, timeS: 400 },
+        {
+          entry: [1, 2, 3],
+          target: [4, 5, 6],
+          profileId: profile.id,
+          profileName: profile.name,
+          powerW: 80,
+          timeS: 400,
+        },
       ],
     });
     expect(state.planId).toBe('plan-1');

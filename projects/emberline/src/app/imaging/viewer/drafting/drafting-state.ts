@@ -117,7 +117,8 @@ export function beginDrag(state: DraftingState, handle: DraftHandle): DraftingSt
 /** Moves the held handle to a point; nothing when no handle is held. */
 export function dragTo(state: DraftingState, pointLps: Readonly<Vec3>): DraftingState {
   if (!state.drag) return state;
-  const change = state.drag.end === 'target' ? { targetLps: [...pointLps] } : { entryLps: [...pointLps] };
+  const change =
+    state.drag.end === 'target' ? { targetLps: [...pointLps] } : { entryLps: [...pointLps] };
   return replaceSelected(state, change as Partial<DraftApplicator>);
 }
 
@@ -202,8 +203,12 @@ export function draftProblems(
     const name = `Applicator ${index + 1}`;
     if (!applicator.targetLps) problems.push(`${name}: place the target.`);
     else if (!applicator.entryLps) problems.push(`${name}: place the entry point.`);
-    else if (vector3.distance(applicator.entryLps, applicator.targetLps) < minimumApplicatorPathMm) {
-      problems.push(`${name}: the entry must lie at least ${minimumApplicatorPathMm} mm from the target.`);
+    else if (
+      vector3.distance(applicator.entryLps, applicator.targetLps) < minimumApplicatorPathMm
+    ) {
+      problems.push(
+        `${name}: the entry must lie at least ${minimumApplicatorPathMm} mm from the target.`,
+      );
     }
     const profile = profiles.find((candidate) => candidate.id === applicator.profileId);
     if (!profile) {

@@ -70,7 +70,10 @@ export class LiveClearance {
           return;
         }
       } catch (error) {
-        this.received({ type: 'failed', message: error instanceof Error ? error.message : String(error) });
+        this.received({
+          type: 'failed',
+          message: error instanceof Error ? error.message : String(error),
+        });
         return;
       }
       setTimeout(step, 0);

@@ -127,7 +127,9 @@ export class PathFiguresPanel {
 
   /** Nearest first; kinds still computing and those out of reach at the end. */
   protected readonly rows = computed(() => {
-    const clearances = new Map((this.figures()?.clearances ?? []).map((entry) => [entry.kind, entry]));
+    const clearances = new Map(
+      (this.figures()?.clearances ?? []).map((entry) => [entry.kind, entry]),
+    );
     const rows = this.fieldKinds().map((kind) => {
       const entry = clearances.get(kind);
       let text = 'computing…';

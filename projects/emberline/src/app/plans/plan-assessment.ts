@@ -1,0 +1,92 @@
+import { DatePipe } from '@angular/common';
+import {
+  ChangeDetectionStrategy,
+  Component,
+  computed,
+  effect,
+  inject,
+  input,
+  output,
+  signal,
+  untracked,
+} from '@angular/core';
+import { MatButton } from '@angular/material/button';
+import { MatIcon } from '@angular/material/icon';
+import type { AssessmentView, PlanView } from '@emberline/shared';
+import { problemMessage } from '../core/problem';
+import { AssessmentProgress } from './assessment-progress';
+import { PlanAssessments, isFinished } from './plan-assessments';
+import { VerdictBadge } from './verdict-badge';
+
+/**
+ * One plan's assessment in its card of the Plans section: the newest assessment's state (its
+ * verdict once done, its live progress while it runs) and, for the presenting physician of the
+ * case, "Request assessment". Everyone else sees the results only (DESIGN.md §2).
+ */
+@Component({
+  selector: 'em-plan-assessment',
+  imports: [DatePipe, MatButton, MatIcon, AssessmentProgress, VerdictBadge],
+  templateUrl: './plan-assessment.html',
+  styleUrl: './plan-assessment.scss',
+  changeDetection: ChangeDetectionStrategy.OnPush,
+})
+export class PlanAssessment {
+  private readonly assessments = inject(PlanAssessments);
+
+  readonly plan = input.required<PlanView>();
+  /** Whether the signed-in user presents the case (the server refuses anyone else). */
+  readonly canRequest = input(false);
+  /** An assessment of this plan finished (the plan's state changed on the server too). */
+  readonly settled = output<AssessmentView>();
+
+  protected readonly state = computed(() => this.assessments.stateOf(this.plan().id));
+  protected readonly latest = computed(() => this.state().latest);
+  protected readonly isRunning = computed(() => {
+    const latest = this.latest();
+    return latest !== null && !isFinished(latest);
+  });
+  /** The board's choice is final: a selected or set-aside plan is not assessed again. */
+  protected readonly isClosed = computed(() =>
+    ['selected', 'set-aside'].includes(this.plan().status),
+  );
+  protected readonly isRequesting = signal(false);
+  protected readonly requestError = signal('');
+  protected readonly requestNote = signal('');
+
+  constructor() {
+    effect(() => {
+      const id = this.plan().id;
+      untracked(() => this.assessments.load([id]));
+    });
+  }
+
+  protected request(): void {
+    const before = this.latest();
+    this.isRequesting.set(true);
+    this.requestError.set('');
+    this.requestNote.set('');
+    this.assessments.request(this.plan().id).subscribe({
+      next: (view) => {
+        this.isRequesting.set(false);
+        if (view.status === 'done' && view.id === before?.id) {
+          this.requestNote.set(
+            'The plan has not changed since its last assessment: that result stands.',
+          );
+        }
+      },
+      error: (error: unknown) => {
+        this.isRequesting.set(false);
+        this.requestError.set(`The assessment was not requested. ${problemMessage(error)}`);
+      },
+    });
+  }
+
+  protected keep(view: AssessmentView): void {
+    this.assessments.replace(view);
+    this.settled.emit(view);
+  }
+
+  protected retry(): void {
+    this.assessments.load([this.plan().id]);
+  }
+}

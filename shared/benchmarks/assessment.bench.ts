@@ -20,9 +20,8 @@ import {
   type AssessmentStage,
   type AssessPlanOutput,
 } from '../src/assessment';
-import { kindCode } from '../src/assessment/label-inventory';
+import { kindCode, takeLabelInventory } from '../src/assessment/label-inventory';
 import { pathProfile } from '../src/assessment/path-profile';
-import { takeLabelInventory } from '../src/assessment/label-inventory';
 import { euclideanDistanceTransform } from '../src/geometry/distance-transform';
 import type { GridDimensions, VolumeGeometry } from '../src/geometry/patient-geometry';
 import { addScaled, normalize, type Vec3 } from '../src/geometry/vector';
@@ -99,7 +98,7 @@ const zoneTable = [
 function lateralApproach(): { entry: Vec3; target: Vec3 } {
   const tumour = phantom.tumours[0];
   const inventory = takeLabelInventory(labelMap, geometry.dimensions, structures);
-  const avoided = new Set(['bone', 'lung', 'heart'].map((kind) => kindCode(kind as 'bone')));
+  const avoided = new Set((['bone', 'lung', 'heart'] as const).map(kindCode));
   const skin = kindCode('skin');
   for (const tilt of [0, 0.1, -0.1, 0.2, -0.2, 0.3, -0.3]) {
     for (const back of [0, 0.2, -0.2, 0.4]) {
@@ -304,8 +303,12 @@ function timeMs(runs: number, work: () => Float32Array): { ms: number; result: F
   return { ms: times[Math.floor(times.length / 2)], result };
 }
 
-const perSecond = (voxels: number, ms: number) =>
-  `${(((voxels / ms) * 1000) / 1e6).toFixed(1)} Mvoxel/s`;
+const perSecond = (voxels: number, ms: number) => {
+  const rate = (voxels / ms) * 1000;
+  return rate >= 1e6
+    ? `${(rate / 1e6).toFixed(1)} Mvoxel/s`
+    : `${(rate / 1e3).toFixed(1)} kvoxel/s`;
+};
 const veinLabel =
   phantom.structures.find((structure) => structure.kind === 'hepatic-vein')?.labelValue ?? 0;
 const veinMask = Uint8Array.from(labelMap, (value) => (value === veinLabel ? 1 : 0));

@@ -40,7 +40,9 @@ import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
 import { setEnvironment } from './imaging-fixtures';
 
 const fileStoreDir = mkdtempSync(join(tmpdir(), 'emberline-assessment-queue-test-'));
-const jobExpirySeconds = 8;
+// Longer than one job takes here (a few seconds, more on a busy machine), or pg-boss would
+// expire and retry a job that is still running.
+const jobExpirySeconds = 30;
 const testEnvironment: Record<string, string> = {
   FILE_STORE_DIR: fileStoreDir,
   DEIDENTIFICATION_SECRET: 'assessment-queue-test-secret-3f9a6d21c7e5',

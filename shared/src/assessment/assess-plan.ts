@@ -13,8 +13,7 @@ import type { AssessmentResult, ZoneModel } from '../api/assessments';
 import { clinicalCaution } from '../api/caution';
 import { halfVoxelDiagonalMm } from '../geometry/path-clearance';
 import { lpsToVoxel, type VolumeGeometry } from '../geometry/patient-geometry';
-import { addScaled, normalize, subtract, type Vec3 } from '../geometry/vector';
-import { boxGeometry, type VoxelBox } from '../geometry/voxel-box';
+import type { VoxelBox } from '../geometry/voxel-box';
 import {
   checkAssessmentInput,
   type AssessmentApplicator,
@@ -27,16 +26,10 @@ import {
   type AssessmentProgress,
   type AssessmentStage,
 } from './assessment-stages';
-import {
-  BIOHEAT_GRID_MARGIN_MM,
-  damageOnCrop,
-  defaultBioheatZoneModel,
-  type BioheatZoneModel,
-} from './bioheat-zone';
+import { runBioheatZone, type BioheatZoneModel } from './bioheat-zone';
 import { assessCoverage, type TumourMarginSamples } from './coverage';
-import { runCache, type DistanceFieldCache } from './distance-field-cache';
+import type { DistanceFieldCache } from './distance-field-cache';
 import {
-  ellipsoidVoxelExtent,
   isEllipsoidInsideGrid,
   rasteriseEllipsoids,
   tableZoneEllipsoid,
@@ -51,31 +44,19 @@ import {
   voxelsPerKindCode,
   type CropContext,
 } from './kind-fields';
-import { kindCode, statisticsOf, takeLabelInventory, type LabelInventory } from './label-inventory';
-import { cropBoxAround, prepareCrop, type PreparedCrop } from './plan-crop';
-import { segmentOnGrid } from './segment-distance';
+import { kindCode, takeLabelInventory } from './label-inventory';
+import { planCrops } from './plan-crops';
 import { assessTrajectory, type TrajectoryFigures } from './trajectory-safety';
-import {
-  extentOfLabel,
-  nearestTumourLabel,
-  treatedTumours,
-  tumourLabelsMeeting,
-} from './treated-tumours';
+import { treatedTumours } from './treated-tumours';
 import { vesselDiameters } from './vessel-calibre';
 import { judgePlan } from './verdict';
-import { extentOfLpsPoints, type VoxelExtent } from './voxel-extent';
+import type { VoxelExtent } from './voxel-extent';
+import { zoneDisplay, type ZoneDisplay } from './zone-display';
 import { maskExtent, zoneSignedField } from './zone-field';
 import { interpolateZoneTable } from './zone-table';
 
 /** Version of the engine, stored with every result. */
 export const ENGINE_VERSION = '1.0.0';
-
-/**
- * How far the zone crop reaches beyond the heat-sink distance, mm: at least this, and at least
- * the heat-sink diameter, so that a vessel beside the zone is seen across twice the width that
- * makes it a heat sink and its calibre is read at the threshold, however the profile sets it.
- */
-export const VESSEL_ALLOWANCE_MM = 10;
 
 export interface AssessPlanOptions {
   /** Hears each stage start and end, and the bioheat model's own progress. */
@@ -88,16 +69,6 @@ export interface AssessPlanOptions {
   shouldAbort?: () => boolean;
   /** Keeps distance fields between runs of the same series (`input.seriesKey`). */
   cache?: DistanceFieldCache;
-}
-
-/** A zone for drawing: its mask on its own tight box of the series grid. */
-export interface ZoneDisplay {
-  model: ZoneModel;
-  /** The box's grid: series spacing and axes, LPS, millimetres. */
-  geometry: VolumeGeometry;
-  /** 1 inside the zone (i fastest on `geometry`). */
-  mask: Uint8Array;
-  volumeMl: number;
 }
 
 export interface AssessPlanOutput {
@@ -160,7 +131,9 @@ export async function assessPlan(
     return takeLabelInventory(labelMap, geometry.dimensions, input.structures);
   });
   const ellipsoids = stage('zone-table', () => input.applicators.map(tableZoneOf));
-  const plan = stage('crop', () => planCrops(input, inventory, ellipsoids, withBioheat, options));
+  const plan = stage('crop', () =>
+    planCrops(input, inventory, ellipsoids, withBioheat, options.cache),
+  );
   const pathCrop = plan.path.context;
   const zoneCrop = plan.zone.context;
   const pathVoxelsPerKindCode = voxelsPerKindCode(pathCrop.kindCodes);
@@ -221,10 +194,19 @@ export async function assessPlan(
         'bioheat-zone',
         shareBefore + shares['bioheat-zone'] * Math.min(1, Math.max(0, fraction)),
       );
-    const damage = await runBioheat(input, zoneCrop.geometry, plan.bioheatBox, vessels, {
-      ...options,
-      onFraction,
-    });
+    const damage = await runBioheatZone(
+      input,
+      zoneCrop.geometry,
+      plan.bioheatBox,
+      vessels,
+      calibrationsOf(input.applicators),
+      {
+        model: options.bioheat,
+        onProgress: onFraction,
+        shouldAbort: options.shouldAbort,
+        timeLimitMs: options.bioheatTimeLimitMs,
+      },
+    );
     zoneMasks.set('bioheat', damage.mask);
     if (damage.isCut) cutZoneModels.push('bioheat');
     timingsMs['bioheat-zone'] = monotonicMs() - startedAt;
@@ -336,182 +318,6 @@ function calibrationsOf(applicators: readonly AssessmentApplicator[]): number[] 
   });
 }
 
-interface PlannedCrops {
-  path: PreparedCrop;
-  zone: PreparedCrop;
-  /** Tumour labels nearest each tip, and those a zone may reach. */
-  nearestTumours: number[];
-  candidateTumours: number[];
-  /** The physics model's grid within the zone crop (its voxel indices), when it runs. */
-  bioheatBox: VoxelBox | null;
-}
-
-/**
- * The path crop: every path padded by the crop margin. The zone crop: the zones padded by the
- * heat-sink distance and the widest vessel radius read, the tumours they may treat padded by
- * two voxels (for their surface), and the physics model's grid when it runs.
- */
-function planCrops(
-  input: AssessmentInput,
-  inventory: LabelInventory,
-  ellipsoids: readonly EllipsoidZone[],
-  withBioheat: boolean,
-  options: AssessPlanOptions,
-): PlannedCrops {
-  const { geometry, safetyProfile } = input;
-  const onGrid = input.applicators.filter(
-    (applicator) => segmentOnGrid(geometry, applicator.entry, applicator.target) !== null,
-  );
-  if (onGrid.length === 0) {
-    throw new EngineRefusal(
-      'plan-outside-series',
-      'applicators',
-      'Every applicator path lies wholly outside the series grid: there is nothing to assess ' +
-        'the plan against.',
-    );
-  }
-  const pathBox = cropBoxAround(
-    geometry,
-    onGrid.map((applicator) => ({
-      extent: extentOfLpsPoints(geometry, [applicator.entry, applicator.target]),
-      marginMm: input.options.cropMarginMm,
-    })),
-  );
-  const zoneExtents = ellipsoids.map((zone) => ellipsoidVoxelExtent(zone, geometry));
-  const heatingExtents = withBioheat
-    ? input.applicators.map((applicator) => heatingSegmentExtent(geometry, applicator))
-    : [];
-  const reach = (extent: VoxelExtent, reachMm: number): VoxelExtent => ({
-    min: extent.min.map((value, axis) => value - reachMm / geometry.spacingMm[axis]) as Vec3,
-    max: extent.max.map((value, axis) => value + reachMm / geometry.spacingMm[axis]) as Vec3,
-  });
-  const nearestTumours = [
-    ...new Set(
-      input.applicators
-        .map((applicator) =>
-          nearestTumourLabel(input.labelMap, geometry, inventory, applicator.target),
-        )
-        .filter((label): label is number => label !== null),
-    ),
-  ];
-  const candidateTumours = [
-    ...new Set([
-      ...nearestTumours,
-      ...tumourLabelsMeeting(inventory, [
-        ...zoneExtents,
-        ...heatingExtents.map((extent) => reach(extent, BIOHEAT_GRID_MARGIN_MM)),
-      ]),
-    ]),
-  ];
-  const zoneMarginMm =
-    safetyProfile.heatSinkDistanceMm +
-    Math.max(VESSEL_ALLOWANCE_MM, safetyProfile.heatSinkDiameterMm);
-  const tumourMarginMm = 2 * Math.max(...geometry.spacingMm);
-  const zoneBox = cropBoxAround(geometry, [
-    ...zoneExtents.map((extent) => ({ extent, marginMm: zoneMarginMm })),
-    ...heatingExtents.map((extent) => ({ extent, marginMm: BIOHEAT_GRID_MARGIN_MM })),
-    ...candidateTumours.map((label) => ({
-      extent: extentOfLabel(statisticsOf(inventory, label)),
-      marginMm: tumourMarginMm,
-    })),
-  ]);
-  if (pathBox === null || zoneBox === null) {
-    throw new EngineRefusal(
-      'plan-outside-series',
-      'applicators',
-      'The ablation zones lie wholly outside the series grid: there is nothing to assess them ' +
-        'against.',
-    );
-  }
-  const cache = runCache(input.seriesKey === undefined ? undefined : options.cache);
-  const seriesKey = input.seriesKey ?? 'this-run';
-  const prepare = (box: VoxelBox) =>
-    prepareCrop(input.labelMap, geometry, box, inventory, cache, seriesKey);
-  const zone = prepare(zoneBox);
-  let bioheatBox: VoxelBox | null = null;
-  if (withBioheat) {
-    const inZoneCrop = heatingExtents.map((extent) => ({
-      min: extent.min.map((value, axis) => value - zoneBox.start[axis]) as Vec3,
-      max: extent.max.map((value, axis) => value - zoneBox.start[axis]) as Vec3,
-    }));
-    bioheatBox = cropBoxAround(
-      zone.context.geometry,
-      inZoneCrop.map((extent) => ({ extent, marginMm: BIOHEAT_GRID_MARGIN_MM })),
-      1,
-    );
-  }
-  return { path: prepare(pathBox), zone, nearestTumours, candidateTumours, bioheatBox };
-}
-
-/** Extent (series voxel indices) of an applicator's heating segment: tip to active length. */
-function heatingSegmentExtent(
-  geometry: VolumeGeometry,
-  applicator: AssessmentApplicator,
-): VoxelExtent {
-  const back = addScaled(
-    applicator.target,
-    normalize(subtract(applicator.entry, applicator.target)),
-    applicator.profile.activeLengthMm,
-  );
-  return extentOfLpsPoints(geometry, [applicator.target, back]);
-}
-
-/** The physics zone on the zone crop, large vessels of the heat-sink kinds held at 37 °C. */
-async function runBioheat(
-  input: AssessmentInput,
-  cropGeometry: VolumeGeometry,
-  box: VoxelBox,
-  vessels: readonly { diametersMm: Float32Array }[],
-  options: AssessPlanOptions & { onFraction: (fraction: number) => void },
-): Promise<{ mask: Uint8Array; isCut: boolean }> {
-  const calibrations = calibrationsOf(input.applicators);
-  const model = options.bioheat ?? defaultBioheatZoneModel;
-  const result = await model({
-    geometry: boxGeometry(cropGeometry, box),
-    heatSinkMask: wideVesselMask(
-      cropGeometry,
-      box,
-      vessels,
-      input.safetyProfile.heatSinkDiameterMm,
-    ),
-    applicators: input.applicators.map((applicator, index) => ({
-      entryLps: applicator.entry,
-      tipLps: applicator.target,
-      activeLengthMm: applicator.profile.activeLengthMm,
-      powerW: applicator.powerW,
-      timeS: applicator.timeS,
-      calibration: calibrations[index],
-    })),
-    onProgress: options.onFraction,
-    shouldAbort: options.shouldAbort,
-    timeLimitMs: options.bioheatTimeLimitMs,
-  });
-  return damageOnCrop(result, cropGeometry);
-}
-
-/** Voxels of the box (crop indices) where a heat-sink vessel is at least `diameterMm` wide. */
-function wideVesselMask(
-  cropGeometry: VolumeGeometry,
-  box: VoxelBox,
-  vessels: readonly { diametersMm: Float32Array }[],
-  diameterMm: number,
-): Uint8Array {
-  const [nx, ny] = cropGeometry.dimensions;
-  const [bx, by, bz] = box.size;
-  const mask = new Uint8Array(bx * by * bz);
-  for (let z = 0; z < bz; z++) {
-    for (let y = 0; y < by; y++) {
-      for (let x = 0; x < bx; x++) {
-        const crop = box.start[0] + x + nx * (box.start[1] + y + ny * (box.start[2] + z));
-        if (vessels.some((vessel) => vessel.diametersMm[crop] >= diameterMm)) {
-          mask[x + bx * (y + by * z)] = 1;
-        }
-      }
-    }
-  }
-  return mask;
-}
-
 /**
  * Stand-in for an empty zone when measuring distances: the voxels of the applicator tips, the
  * limit of a zone shrunk onto them, so that margins stay finite (and negative).
@@ -527,35 +333,4 @@ function tipsMask(input: AssessmentInput, cropGeometry: VolumeGeometry): Uint8Ar
     ] = 1;
   }
   return mask;
-}
-
-function zoneDisplay(
-  model: ZoneModel,
-  mask: Uint8Array,
-  cropGeometry: VolumeGeometry,
-  volumeMl: number,
-): ZoneDisplay {
-  const extent = maskExtent(mask, cropGeometry.dimensions);
-  if (extent === null) {
-    return {
-      model,
-      geometry: boxGeometry(cropGeometry, { start: [0, 0, 0], size: [1, 1, 1] }),
-      mask: new Uint8Array(1),
-      volumeMl,
-    };
-  }
-  const box: VoxelBox = {
-    start: extent.min.map((value) => value) as [number, number, number],
-    size: extent.min.map((value, axis) => extent.max[axis] - value + 1) as [number, number, number],
-  };
-  const [nx, ny] = cropGeometry.dimensions;
-  const [bx, by, bz] = box.size;
-  const tight = new Uint8Array(bx * by * bz);
-  for (let z = 0; z < bz; z++) {
-    for (let y = 0; y < by; y++) {
-      const from = box.start[0] + nx * (box.start[1] + y + ny * (box.start[2] + z));
-      tight.set(mask.subarray(from, from + bx), bx * (y + by * z));
-    }
-  }
-  return { model, geometry: boxGeometry(cropGeometry, box), mask: tight, volumeMl };
 }

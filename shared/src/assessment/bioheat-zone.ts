@@ -13,6 +13,8 @@ import {
   type VolumeGeometry,
 } from '../geometry/patient-geometry';
 import { subtract, type Vec3 } from '../geometry/vector';
+import { boxGeometry, type VoxelBox } from '../geometry/voxel-box';
+import type { AssessmentInput } from './assessment-input';
 
 /** The physics model's signature: `simulateAblationZone`, or a stand-in (e.g. in a worker). */
 export type BioheatZoneModel = (
@@ -80,4 +82,72 @@ export function damageOnCrop(
     }
   }
   return { mask, isCut };
+}
+
+/** How one run of the physics model is made. */
+export interface BioheatRunOptions {
+  model?: BioheatZoneModel;
+  onProgress?: (fraction: number) => void;
+  shouldAbort?: () => boolean;
+  timeLimitMs?: number;
+}
+
+/**
+ * The physics zone on the crop (`box` in its voxel indices is the model's grid), vessels of the
+ * heat-sink kinds at least the heat-sink diameter wide held at blood temperature, read back
+ * onto the crop.
+ */
+export async function runBioheatZone(
+  input: AssessmentInput,
+  cropGeometry: VolumeGeometry,
+  box: VoxelBox,
+  vessels: readonly { diametersMm: Float32Array }[],
+  calibrations: readonly number[],
+  options: BioheatRunOptions,
+): Promise<{ mask: Uint8Array; isCut: boolean }> {
+  const model = options.model ?? defaultBioheatZoneModel;
+  const result = await model({
+    geometry: boxGeometry(cropGeometry, box),
+    heatSinkMask: wideVesselMask(
+      cropGeometry,
+      box,
+      vessels,
+      input.safetyProfile.heatSinkDiameterMm,
+    ),
+    applicators: input.applicators.map((applicator, index) => ({
+      entryLps: applicator.entry,
+      tipLps: applicator.target,
+      activeLengthMm: applicator.profile.activeLengthMm,
+      powerW: applicator.powerW,
+      timeS: applicator.timeS,
+      calibration: calibrations[index],
+    })),
+    onProgress: options.onProgress,
+    shouldAbort: options.shouldAbort,
+    timeLimitMs: options.timeLimitMs,
+  });
+  return damageOnCrop(result, cropGeometry);
+}
+
+/** Voxels of the box (crop indices) where a heat-sink vessel is at least `diameterMm` wide. */
+function wideVesselMask(
+  cropGeometry: VolumeGeometry,
+  box: VoxelBox,
+  vessels: readonly { diametersMm: Float32Array }[],
+  diameterMm: number,
+): Uint8Array {
+  const [nx, ny] = cropGeometry.dimensions;
+  const [bx, by, bz] = box.size;
+  const mask = new Uint8Array(bx * by * bz);
+  for (let z = 0; z < bz; z++) {
+    for (let y = 0; y < by; y++) {
+      for (let x = 0; x < bx; x++) {
+        const crop = box.start[0] + x + nx * (box.start[1] + y + ny * (box.start[2] + z));
+        if (vessels.some((vessel) => vessel.diametersMm[crop] >= diameterMm)) {
+          mask[x + bx * (y + by * z)] = 1;
+        }
+      }
+    }
+  }
+  return mask;
 }

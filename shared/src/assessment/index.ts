@@ -14,4 +14,5 @@ export * from './vessel-calibre';
 export * from './heat-sinks';
 export * from './verdict';
 export * from './bioheat-zone';
+export * from './zone-display';
 export * from './assess-plan';

@@ -292,7 +292,8 @@ describe('RealtimeSession', () => {
   });
 
   it('closes the socket on sign-out, and opens a new one for the next user', () => {
-    const subscription = session.watchAssessment(firstId).subscribe();
+    const received: WatchAcknowledgement[] = [];
+    const subscription = session.watchAssessment(firstId).subscribe((update) => received.push(update));
     const first = socket();
     first.serverAccepts();
 
@@ -310,6 +311,7 @@ describe('RealtimeSession', () => {
     expect(socket().watches.map((watch) => watch.payload.assessmentId)).toEqual([firstId]);
     // Events of the closed socket reach nobody.
     first.broadcast(progress(firstId, 'done', 1));
+    expect(received).toEqual([]);
     subscription.unsubscribe();
   });
 

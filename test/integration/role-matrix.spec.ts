@@ -352,6 +352,22 @@ const routes: Route[] = [
     expected: row(401, 404, 200, 200, 200, 404, 404),
   },
   {
+    // The matrix's series has no structures: the presenter is told to import them first.
+    name: 'POST /api/plans/:north-ready-draft/assessments',
+    call: (c, x) => c.post(`/api/plans/${x.draftPlanId}/assessments`),
+    expected: row(401, 404, 409, 403, 403, 404, 404),
+  },
+  {
+    name: 'GET /api/plans/:north-ready-draft/assessments',
+    call: (c, x) => c.get(`/api/plans/${x.draftPlanId}/assessments`),
+    expected: row(401, 404, 200, 200, 200, 404, 404),
+  },
+  {
+    name: 'GET /api/assessments/:unknown',
+    call: (c) => c.get('/api/assessments/6f1c2a9e-3b7d-4e58-9a61-0c2d4b8e7f13'),
+    expected: row(401, 404, 404, 404, 404, 404, 404),
+  },
+  {
     name: 'PATCH /api/plans/:north-ready-draft',
     call: (c, x) => c.patch(`/api/plans/${x.draftPlanId}`, { name: 'Renamed in the matrix' }),
     expected: row(401, 404, 200, 403, 403, 404, 404),

@@ -6,7 +6,7 @@
 import { createHash } from 'node:crypto';
 import type { EntityManager } from '@mikro-orm/postgresql';
 import type { SafetyProfileBody } from '@emberline/shared';
-import { NotFoundError } from '../../common/errors';
+import { ConflictError, NotFoundError } from '../../common/errors';
 import type { FileStore } from '../imaging/file-store';
 import { LabelMap } from '../structures/label-map.entity';
 import { Structure } from '../structures/structure.entity';
@@ -55,7 +55,9 @@ export async function gatherInputs(
   const series = plan.series.getEntity();
   const labelMap = await em.findOne(LabelMap, { series: series.id });
   if (!labelMap) {
-    throw new NotFoundError('The structures of the plan’s series (import a label map first)');
+    throw new ConflictError(
+      'The plan’s series has no structures yet: import its label map before an assessment.',
+    );
   }
   const structures = await em.find(
     Structure,

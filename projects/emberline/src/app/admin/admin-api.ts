@@ -1,4 +1,4 @@
-import { HttpClient, httpResource, type HttpResourceRef } from '@angular/common/http';
+import { HttpClient, HttpContext, httpResource, type HttpResourceRef } from '@angular/common/http';
 import { Injectable, inject } from '@angular/core';
 import type {
   AdminUserView,
@@ -16,6 +16,7 @@ import type {
   UpdateApplicatorProfile,
 } from '@emberline/shared';
 import type { Observable } from 'rxjs';
+import { SHOWS_OWN_ERRORS } from '../core/http-context-tokens';
 
 export interface AuditQuery {
   page: number;
@@ -95,7 +96,9 @@ export class AdminApi {
   }
 
   createApplicatorProfile(body: CreateApplicatorProfile): Observable<ApplicatorProfileView> {
-    return this.http.post<ApplicatorProfileView>('/api/admin/applicator-profiles', body);
+    return this.http.post<ApplicatorProfileView>('/api/admin/applicator-profiles', body, {
+      context: shownBeside(),
+    });
   }
 
   updateApplicatorProfile(
@@ -105,6 +108,7 @@ export class AdminApi {
     return this.http.patch<ApplicatorProfileView>(
       `/api/admin/applicator-profiles/${encodeURIComponent(profileId)}`,
       body,
+      { context: shownBeside() },
     );
   }
 
@@ -113,7 +117,9 @@ export class AdminApi {
   }
 
   createSafetyProfile(body: SafetyProfileBody): Observable<SafetyProfileView> {
-    return this.http.post<SafetyProfileView>('/api/admin/safety-profiles', body);
+    return this.http.post<SafetyProfileView>('/api/admin/safety-profiles', body, {
+      context: shownBeside(),
+    });
   }
 
   /** Replaces every threshold; `isDefault: true` makes it the default. */
@@ -121,6 +127,7 @@ export class AdminApi {
     return this.http.put<SafetyProfileView>(
       `/api/admin/safety-profiles/${encodeURIComponent(profileId)}`,
       body,
+      { context: shownBeside() },
     );
   }
 
@@ -134,4 +141,9 @@ export class AdminApi {
       return { url: '/api/admin/audit', params };
     });
   }
+}
+
+/** The profile screens show a refusal beside the form or row it came from: no snack bar. */
+function shownBeside(): HttpContext {
+  return new HttpContext().set(SHOWS_OWN_ERRORS, true);
 }

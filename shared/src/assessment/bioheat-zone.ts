@@ -1,11 +1,18 @@
 /**
  * The one place the assessment calls the physics zone model (shared/src/bioheat): the Pennes
  * bioheat equation with Arrhenius damage on a sub-box of the assessment's crop, large vessels
- * held at blood temperature. The grid is the series' own (same spacing and axes), so the
- * heat-sink mask and the damage mask need no resampling; a model answering on another grid is
- * still read back onto the crop, by nearest voxel.
+ * held at blood temperature. The model runs on a grid of the series' axes at the calibration
+ * spacing (`CALIBRATION_SPACING_MM`, 2 mm isotropic): the coupling efficiency was fitted on that
+ * grid, and at a series' own thin spacing the explicit solve costs ~40× more (the stable step
+ * shrinks with the spacing squared). The heat-sink mask goes onto it and the damage mask comes
+ * back onto the crop by nearest voxel centre.
  */
-import { simulateAblationZone, type AblationZoneInput, type AblationZoneResult } from '../bioheat';
+import {
+  CALIBRATION_SPACING_MM,
+  simulateAblationZone,
+  type AblationZoneInput,
+  type AblationZoneResult,
+} from '../bioheat';
 import {
   lpsToVoxel,
   voxelCount,
@@ -44,31 +51,9 @@ export function damageOnCrop(
     throw new RangeError('the bioheat damage mask does not match its grid');
   }
   const [mx, my, mz] = model.dimensions;
-  const [cx, cy, cz] = cropGeometry.dimensions;
-  // The crop-to-model map is affine: its origin and one column per crop axis.
-  const origin = lpsToVoxel(model, voxelToLps(cropGeometry, [0, 0, 0]));
-  const columns = (
-    [
-      [1, 0, 0],
-      [0, 1, 0],
-      [0, 0, 1],
-    ] as Vec3[]
-  ).map((unit) => subtract(lpsToVoxel(model, voxelToLps(cropGeometry, unit)), origin));
-  const mask = new Uint8Array(cx * cy * cz);
-  let index = 0;
-  for (let k = 0; k < cz; k++) {
-    for (let j = 0; j < cy; j++) {
-      for (let i = 0; i < cx; i++, index++) {
-        const x = Math.round(origin[0] + columns[0][0] * i + columns[1][0] * j + columns[2][0] * k);
-        const y = Math.round(origin[1] + columns[0][1] * i + columns[1][1] * j + columns[2][1] * k);
-        const z = Math.round(origin[2] + columns[0][2] * i + columns[1][2] * j + columns[2][2] * k);
-        if (x < 0 || y < 0 || z < 0 || x >= mx || y >= my || z >= mz) continue;
-        mask[index] = result.damageMask[x + mx * (y + my * z)] !== 0 ? 1 : 0;
-      }
-    }
-  }
+  const mask = sampleNearest(result.damageMask, model, cropGeometry);
   let isCut = false;
-  index = 0;
+  let index = 0;
   for (let z = 0; z < mz && !isCut; z++) {
     for (let y = 0; y < my && !isCut; y++) {
       for (let x = 0; x < mx; x++, index++) {
@@ -82,6 +67,42 @@ export function damageOnCrop(
     }
   }
   return { mask, isCut };
+}
+
+/**
+ * A mask on `target`: at each voxel centre the value (0 or 1) of the nearest voxel of the
+ * mask on `source`, 0 outside `source`. Both grids LPS, millimetres, any spacing and axes.
+ */
+export function sampleNearest(
+  sourceMask: Uint8Array,
+  source: VolumeGeometry,
+  target: VolumeGeometry,
+): Uint8Array {
+  const [mx, my, mz] = source.dimensions;
+  const [cx, cy, cz] = target.dimensions;
+  // The crop-to-model map is affine: its origin and one column per crop axis.
+  const origin = lpsToVoxel(source, voxelToLps(target, [0, 0, 0]));
+  const columns = (
+    [
+      [1, 0, 0],
+      [0, 1, 0],
+      [0, 0, 1],
+    ] as Vec3[]
+  ).map((unit) => subtract(lpsToVoxel(source, voxelToLps(target, unit)), origin));
+  const mask = new Uint8Array(cx * cy * cz);
+  let index = 0;
+  for (let k = 0; k < cz; k++) {
+    for (let j = 0; j < cy; j++) {
+      for (let i = 0; i < cx; i++, index++) {
+        const x = Math.round(origin[0] + columns[0][0] * i + columns[1][0] * j + columns[2][0] * k);
+        const y = Math.round(origin[1] + columns[0][1] * i + columns[1][1] * j + columns[2][1] * k);
+        const z = Math.round(origin[2] + columns[0][2] * i + columns[1][2] * j + columns[2][2] * k);
+        if (x < 0 || y < 0 || z < 0 || x >= mx || y >= my || z >= mz) continue;
+        mask[index] = sourceMask[x + mx * (y + my * z)] !== 0 ? 1 : 0;
+      }
+    }
+  }
+  return mask;
 }
 
 /** How one run of the physics model is made. */
@@ -106,13 +127,14 @@ export async function runBioheatZone(
   options: BioheatRunOptions,
 ): Promise<{ mask: Uint8Array; isCut: boolean }> {
   const model = options.model ?? defaultBioheatZoneModel;
+  const boxGrid = boxGeometry(cropGeometry, box);
+  const modelGrid = calibrationGridOver(boxGrid);
   const result = await model({
-    geometry: boxGeometry(cropGeometry, box),
-    heatSinkMask: wideVesselMask(
-      cropGeometry,
-      box,
-      vessels,
-      input.safetyProfile.heatSinkDiameterMm,
+    geometry: modelGrid,
+    heatSinkMask: sampleNearest(
+      wideVesselMask(cropGeometry, box, vessels, input.safetyProfile.heatSinkDiameterMm),
+      boxGrid,
+      modelGrid,
     ),
     applicators: input.applicators.map((applicator, index) => ({
       entryLps: applicator.entry,
@@ -127,6 +149,23 @@ export async function runBioheatZone(
     timeLimitMs: options.timeLimitMs,
   });
   return damageOnCrop(result, cropGeometry);
+}
+
+/**
+ * A grid of the same axes and extent as `grid` (it covers at least the same box), at the
+ * calibration spacing in every direction.
+ */
+export function calibrationGridOver(grid: VolumeGeometry): VolumeGeometry {
+  const spacing = CALIBRATION_SPACING_MM;
+  const dimensions = grid.dimensions.map((extent, axis) =>
+    Math.max(1, Math.ceil(((extent - 1) * grid.spacingMm[axis]) / spacing) + 1),
+  ) as VolumeGeometry['dimensions'];
+  return {
+    dimensions,
+    spacingMm: [spacing, spacing, spacing],
+    originLps: grid.originLps,
+    direction: grid.direction,
+  };
 }
 
 /** Voxels of the box (crop indices) where a heat-sink vessel is at least `diameterMm` wide. */

@@ -16,7 +16,7 @@ import type { SafetyProfile } from '../plans/safety-profile.entity';
 import type { AssessmentTaskInput } from './assessment-task-protocol';
 
 export interface GatheredInputs {
-  task: Omit<AssessmentTaskInput, 'labelMap'> & {
+  task: Omit<AssessmentTaskInput, 'labelMap' | 'seriesKey'> & {
     labelMapKey: string;
     labelMapType: 'uint8' | 'uint16';
   };
@@ -129,9 +129,9 @@ export async function loadTaskInput(
   // A buffer of its own (Node may pool small reads), so that it can be transferred.
   const buffer = new ArrayBuffer(bytes.byteLength);
   new Uint8Array(buffer).set(bytes);
-  const { labelMapKey: _key, labelMapType, ...rest } = gathered;
+  const { labelMapKey, labelMapType, ...rest } = gathered;
   return {
-    input: { ...rest, labelMap: { dataType: labelMapType, buffer } },
+    input: { ...rest, seriesKey: labelMapKey, labelMap: { dataType: labelMapType, buffer } },
     transfer: [buffer],
   };
 }

@@ -29,6 +29,8 @@ export interface AssessmentTaskInput {
   structures: { id: string; labelValue: number; kind: StructureKind | null }[];
   applicators: TaskApplicator[];
   safetyProfile: SafetyProfileBody;
+  /** Names the series' label map as stored, so a thread may keep its distance fields. */
+  seriesKey: string;
   /** Whether to run the bioheat model beside the table model. */
   isBioheatRequested: boolean;
 }

@@ -10,7 +10,8 @@ import {
   calibrateApplicatorProfile,
   decodeLabelMapFile,
   encodeAssessmentDisplay,
-  DEFAULT_CROP_MARGIN_MM,
+  DEFAULT_ASSESSMENT_CROP_MARGIN_MM,
+  createDistanceFieldCache,
 } from '@emberline/shared';
 import type {
   AssessmentTaskInput,
@@ -20,6 +21,8 @@ import type {
 } from './assessment-task-protocol';
 
 const calibrations = new Map<string, number>();
+/** Distance fields of the series this thread assessed lately (an LRU of crops). */
+const distanceFields = createDistanceFieldCache();
 
 function calibrationOf(profile: AssessmentTaskInput['applicators'][number]['profile']): number {
   const key = JSON.stringify([profile.activeLengthMm, profile.zoneTable]);
@@ -81,12 +84,14 @@ async function assess({
       structures: input.structures,
       applicators,
       safetyProfile: input.safetyProfile,
+      seriesKey: input.seriesKey,
       options: {
         zoneModels: input.isBioheatRequested ? ['table', 'bioheat'] : ['table'],
-        cropMarginMm: DEFAULT_CROP_MARGIN_MM,
+        cropMarginMm: DEFAULT_ASSESSMENT_CROP_MARGIN_MM,
       },
     },
     {
+      cache: distanceFields,
       onProgress: (progress) =>
         report({
           fraction: calibrationShare + (1 - calibrationShare) * progress.fraction,

@@ -2,11 +2,18 @@ import { openDatabase } from '../db';
 import { seedDemo } from '../../seeders/demo-seed';
 import { seedDemoImaging } from '../../seeders/demo-imaging';
 import { seedDemoPlans, seedDemoProfiles } from '../../seeders/demo-plans';
+import { queueDemoAssessments } from '../../seeders/demo-assessments';
+import { databaseUrl } from '../database-url';
+import {
+  AssessmentQueue,
+  assessmentQueueSettingsFromEnvironment,
+} from '../modules/assessments/assessment-queue';
 
 /**
  * Seeds the invented demo hospital into an empty database, its applicator and safety profiles,
  * then the invented CT and its structures into the demo case that has none, and the demo
- * needle plans on it; each step is a no-op once done.
+ * needle plans on it, and queues their assessments (worked by the server when it starts); each
+ * step is a no-op once done.
  */
 const orm = await openDatabase();
 try {
@@ -24,6 +31,18 @@ try {
   process.stderr.write(
     arePlansSeeded ? 'demo needle plans seeded\n' : 'demo needle plans present already\n',
   );
+  if (arePlansSeeded) {
+    const queue = await AssessmentQueue.start(
+      assessmentQueueSettingsFromEnvironment(databaseUrl()),
+      (error) => process.stderr.write(`assessment queue: ${error.message}\n`),
+    );
+    try {
+      const count = await queueDemoAssessments(orm.em.fork(), queue);
+      process.stderr.write(`${count} demo plan assessments queued\n`);
+    } finally {
+      await queue.stop();
+    }
+  }
 } finally {
   await orm.close();
 }

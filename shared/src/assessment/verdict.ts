@@ -238,8 +238,8 @@ function coverageReasons(zone: ZoneAssessment, profile: SafetyProfileBody): Verd
         threshold: 100,
         severity: 'refusal',
         message:
-          `${name} is ${percent(tumour.coveredPercent)} covered by the ${zone.model} zone ` +
-          `(${tumour.volumeMl.toFixed(2)} mL); part of it lies outside.`,
+          `${name} is ${uncoveredPercent(tumour.coveredPercent)} covered by the ${zone.model} ` +
+          `zone (${tumour.volumeMl.toFixed(2)} mL); part of it lies outside.`,
       });
     }
     const severity: VerdictSeverity | null =
@@ -286,4 +286,13 @@ function degrees(value: number): string {
 
 function percent(value: number): string {
   return `${value.toFixed(1)} %`;
+}
+
+/** A coverage short of 100 % never reads "100.0 %": as many decimals as it takes, up to 3. */
+function uncoveredPercent(value: number): string {
+  for (let digits = 1; digits <= 3; digits++) {
+    const text = value.toFixed(digits);
+    if (Number(text) < 100) return `${text} %`;
+  }
+  return '> 99.999 %';
 }

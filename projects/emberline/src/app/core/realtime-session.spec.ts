@@ -1,10 +1,6 @@
 import { provideZonelessChangeDetection, signal } from '@angular/core';
 import { TestBed } from '@angular/core/testing';
-import type {
-  AssessmentProgressEvent,
-  CurrentUser,
-  WatchAcknowledgement,
-} from '@emberline/shared';
+import type { AssessmentProgressEvent, CurrentUser, WatchAcknowledgement } from '@emberline/shared';
 import { AuthSession } from './auth-session';
 import {
   REALTIME_SOCKET_FACTORY,
@@ -170,7 +166,9 @@ describe('RealtimeSession', () => {
 
   it('watches the room once connected and hands over the state the acknowledgement carries', async () => {
     const received: WatchAcknowledgement[] = [];
-    const subscription = session.watchAssessment(firstId).subscribe((update) => received.push(update));
+    const subscription = session
+      .watchAssessment(firstId)
+      .subscribe((update) => received.push(update));
     expect(socket().watches).toHaveLength(0);
 
     socket().serverAccepts();
@@ -189,7 +187,9 @@ describe('RealtimeSession', () => {
 
   it('passes a refused watch on as a refusal, with its status and detail', async () => {
     const received: WatchAcknowledgement[] = [];
-    const subscription = session.watchAssessment(firstId).subscribe((update) => received.push(update));
+    const subscription = session
+      .watchAssessment(firstId)
+      .subscribe((update) => received.push(update));
     socket().serverAccepts();
     socket().watches[0].answer({ ok: false, status: 404, detail: 'The assessment was not found.' });
     await settle();
@@ -235,7 +235,10 @@ describe('RealtimeSession', () => {
       session.watchAssessment(secondId).subscribe(),
     ];
     socket().serverAccepts();
-    expect(socket().watches.map((watch) => watch.payload.assessmentId)).toEqual([firstId, secondId]);
+    expect(socket().watches.map((watch) => watch.payload.assessmentId)).toEqual([
+      firstId,
+      secondId,
+    ]);
 
     socket().networkDrops();
     // The manager keeps retrying (active): connecting, not given up.
@@ -293,7 +296,9 @@ describe('RealtimeSession', () => {
 
   it('closes the socket on sign-out, and opens a new one for the next user', () => {
     const received: WatchAcknowledgement[] = [];
-    const subscription = session.watchAssessment(firstId).subscribe((update) => received.push(update));
+    const subscription = session
+      .watchAssessment(firstId)
+      .subscribe((update) => received.push(update));
     const first = socket();
     first.serverAccepts();
 

@@ -72,6 +72,9 @@ export class AssessmentProgress {
 
   private readonly live = signal<AssessmentProgressEvent | null>(null);
   protected readonly isPolling = signal(false);
+  /** Why the socket does not follow this assessment (the polling does instead). */
+  protected readonly watchProblem = signal('');
+  /** Why the state could not be read over HTTP; cleared by the next good read. */
   protected readonly problem = signal('');
   protected readonly statusLabels = assessmentStatusLabels;
 
@@ -109,15 +112,19 @@ export class AssessmentProgress {
       .subscribe((view) => this.settled.emit(view));
   }
 
-  private follow(id: string, connection$: Observable<RealtimeConnection>): Observable<AssessmentView> {
+  private follow(
+    id: string,
+    connection$: Observable<RealtimeConnection>,
+  ): Observable<AssessmentView> {
     this.live.set(null);
     this.problem.set('');
+    this.watchProblem.set('');
     const isRefused$ = new BehaviorSubject(false);
     const stopPolling$ = new Subject<void>();
     const live$ = this.realtime.watchAssessment(id).pipe(
       tap((acknowledgement) => {
         if (acknowledgement.ok) return;
-        this.problem.set(`Live progress is not available: ${acknowledgement.detail}`);
+        this.watchProblem.set(`Live progress is not available: ${acknowledgement.detail}`);
         isRefused$.next(true);
       }),
       filter((acknowledgement) => acknowledgement.ok),
@@ -130,7 +137,11 @@ export class AssessmentProgress {
         this.isPolling.set(shouldPoll);
         if (!shouldPoll) return EMPTY;
         return timer(0, assessmentPollIntervalMs).pipe(
-          exhaustMap(() => this.api.get(id).pipe(catchError((error: unknown) => this.pollFailed(error, stopPolling$)))),
+          exhaustMap(() =>
+            this.api
+              .get(id)
+              .pipe(catchError((error: unknown) => this.pollFailed(error, stopPolling$))),
+          ),
           takeUntil(stopPolling$),
         );
       }),
@@ -192,7 +203,10 @@ function toEvent(update: Update): AssessmentProgressEvent {
  * The later of two states of one assessment: events may cross (a poll answer and a socket
  * event), and the bar must never run backwards. A stage is kept until a new one is named.
  */
-function later(known: AssessmentProgressEvent, incoming: AssessmentProgressEvent): AssessmentProgressEvent {
+function later(
+  known: AssessmentProgressEvent,
+  incoming: AssessmentProgressEvent,
+): AssessmentProgressEvent {
   const knownRank = statusRank[known.status];
   const incomingRank = statusRank[incoming.status];
   if (incomingRank < knownRank) return known;

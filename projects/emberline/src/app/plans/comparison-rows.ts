@@ -182,7 +182,10 @@ function applicatorGroup(
       1,
       applicators.map((applicator) =>
         applicator
-          ? { value: applicator.angulationDeg, text: formatFigure(applicator.angulationDeg, 1, '°') }
+          ? {
+              value: applicator.angulationDeg,
+              text: formatFigure(applicator.angulationDeg, 1, '°'),
+            }
           : missing,
       ),
     ),
@@ -271,7 +274,9 @@ function zoneGroup(
   for (const structureId of tumourIds) {
     const name = tumourLabel(structureId);
     const tumours = zones.map((zone) =>
-      zone ? (zone.tumours.find((tumour) => tumour.structureId === structureId) ?? null) : undefined,
+      zone
+        ? (zone.tumours.find((tumour) => tumour.structureId === structureId) ?? null)
+        : undefined,
     );
     const cellsOf = (
       pick: (tumour: NonNullable<(typeof tumours)[number]>) => number,
@@ -345,7 +350,9 @@ function ranked(
     label,
     direction,
     cells: inputs.map((input, index) =>
-      'type' in input ? input : { ...figure(input.value, input.text, input.note), isBest: best.has(index) },
+      'type' in input
+        ? input
+        : { ...figure(input.value, input.text, input.note), isBest: best.has(index) },
     ),
   };
 }
@@ -376,8 +383,7 @@ function tumourLabeller(
       result.zones.flatMap((zone) => zone.tumours.map((tumour) => tumour.structureId)),
     ),
   );
-  return (structureId) =>
-    names.get(structureId) ?? `Tumour ${order.indexOf(structureId) + 1}`;
+  return (structureId) => names.get(structureId) ?? `Tumour ${order.indexOf(structureId) + 1}`;
 }
 
 function unique<T>(values: readonly T[]): T[] {

@@ -38,9 +38,7 @@ export class PlanAssessments {
     const known = this.states();
     for (const planId of planIds) {
       const state = known.get(planId);
-      const isWanted = state
-        ? !state.isLoading && (options.refresh || state.error !== '')
-        : true;
+      const isWanted = state ? !state.isLoading && (options.refresh || state.error !== '') : true;
       if (isWanted) this.read(planId);
     }
   }
@@ -88,7 +86,8 @@ export class PlanAssessments {
  */
 export function newest(current: AssessmentView | null, incoming: AssessmentView): AssessmentView {
   if (!current) return incoming;
-  if (current.id !== incoming.id) return incoming.createdAt >= current.createdAt ? incoming : current;
+  if (current.id !== incoming.id)
+    return incoming.createdAt >= current.createdAt ? incoming : current;
   if (isFinished(current) && !isFinished(incoming)) return current;
   return incoming.updatedAt >= current.updatedAt ? incoming : current;
 }

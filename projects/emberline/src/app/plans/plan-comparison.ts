@@ -76,9 +76,7 @@ export class PlanComparison {
         ]),
       ),
   );
-  protected readonly groups = computed(() =>
-    comparisonGroups(this.columns(), this.tumourNames()),
-  );
+  protected readonly groups = computed(() => comparisonGroups(this.columns(), this.tumourNames()));
 
   constructor() {
     let isFirstRead = true;

@@ -10,6 +10,8 @@ import { CaseFileState } from '../cases/case-file-state';
 import { ConfirmDialog, type ConfirmDialogData } from '../core/confirm-dialog';
 import { problemMessage } from '../core/problem';
 import { PlanApi } from './plan-api';
+import { PlanAssessment } from './plan-assessment';
+import { PlanComparison } from './plan-comparison';
 
 /**
  * Plans of the case file (DESIGN.md §3): the needle plans drafted in the viewer, each with its
@@ -17,7 +19,16 @@ import { PlanApi } from './plan-api';
  */
 @Component({
   selector: 'em-plans-section',
-  imports: [DatePipe, DecimalPipe, RouterLink, MatButton, MatIcon, MatProgressBar],
+  imports: [
+    DatePipe,
+    DecimalPipe,
+    RouterLink,
+    MatButton,
+    MatIcon,
+    MatProgressBar,
+    PlanAssessment,
+    PlanComparison,
+  ],
   templateUrl: './plans-section.html',
   styleUrl: './plans-section.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,

@@ -17,7 +17,8 @@ const levelIcons: Record<VerdictLevel, string> = {
   imports: [MatIcon],
   changeDetection: ChangeDetectionStrategy.OnPush,
   host: { '[class]': '"level-" + level()' },
-  template: `<mat-icon aria-hidden="true">{{ icon() }}</mat-icon><span>{{ label() }}</span>`,
+  template: `<mat-icon aria-hidden="true">{{ icon() }}</mat-icon
+    ><span>{{ label() }}</span>`,
   styles: `
     :host {
       display: inline-flex;

@@ -1,8 +1,4 @@
-import {
-  structureKindLabels,
-  type VerdictReason,
-  type VerdictSeverity,
-} from '@emberline/shared';
+import { structureKindLabels, type VerdictReason, type VerdictSeverity } from '@emberline/shared';
 
 /** A figure in words: fixed decimals, a true minus sign, the unit after a space (none for °). */
 export function formatFigure(value: number, decimals: number, unit: string): string {
@@ -98,7 +94,9 @@ export function reasonLine(reason: VerdictReason): ReasonLine {
     hasFigures: true,
   };
   const figure = (value: number) =>
-    facts.hasFigures && Number.isFinite(value) ? formatFigure(value, facts.decimals, facts.unit) : '';
+    facts.hasFigures && Number.isFinite(value)
+      ? formatFigure(value, facts.decimals, facts.unit)
+      : '';
   return {
     severity: reason.severity,
     severityLabel: severityLabels[reason.severity],

@@ -1,0 +1,135 @@
+import { provideHttpClient } from '@angular/common/http';
+import { HttpTestingController, provideHttpClientTesting } from '@angular/common/http/testing';
+import { provideZonelessChangeDetection, signal } from '@angular/core';
+import { TestBed, type ComponentFixture } from '@angular/core/testing';
+import type { AssessmentView, PlanView, WatchAcknowledgement } from '@emberline/shared';
+import { Subject } from 'rxjs';
+import { textOf } from '../../testing/dom';
+import { RealtimeSession, type RealtimeConnection } from '../core/realtime-session';
+import { PlanAssessment } from './plan-assessment';
+
+const planId = '9a8b7c6d-5e4f-4a3b-9c2d-1e0f9a8b7c6d';
+const listUrl = `/api/plans/${planId}/assessments`;
+
+const plan: PlanView = {
+  id: planId,
+  caseId: 'case-1',
+  seriesId: 'series-1',
+  name: 'Lateral approach',
+  status: 'submitted',
+  applicators: [],
+  notes: null,
+  author: { id: 'user-1', displayName: 'Dr Invented' },
+  createdAt: '2026-11-20T09:00:00.000Z',
+  updatedAt: '2026-11-20T09:00:00.000Z',
+};
+
+function assessment(overrides: Partial<AssessmentView>): AssessmentView {
+  return {
+    id: 'as-1',
+    planId,
+    status: 'queued',
+    progress: 0,
+    createdAt: '2026-11-20T10:00:00.000Z',
+    updatedAt: '2026-11-20T10:00:00.000Z',
+    ...overrides,
+  };
+}
+
+const doneView = assessment({
+  status: 'done',
+  progress: 1,
+  result: {
+    engineVersion: 'test',
+    applicators: [],
+    zones: [],
+    primaryZoneModel: 'table',
+    heatSinks: [],
+    verdict: { level: 'acceptable', reasons: [] },
+  },
+});
+
+describe('PlanAssessment', () => {
+  let fixture: ComponentFixture<PlanAssessment>;
+  let http: HttpTestingController;
+
+  function requestButton(): HTMLButtonElement | undefined {
+    return Array.from((fixture.nativeElement as HTMLElement).querySelectorAll('button')).find(
+      (button) => button.textContent?.includes('Request assessment'),
+    );
+  }
+
+  async function open(canRequest: boolean, list: AssessmentView[]): Promise<void> {
+    fixture.componentRef.setInput('plan', plan);
+    fixture.componentRef.setInput('canRequest', canRequest);
+    TestBed.tick();
+    http.expectOne(listUrl).flush(list);
+    await fixture.whenStable();
+  }
+
+  beforeEach(async () => {
+    await TestBed.configureTestingModule({
+      imports: [PlanAssessment],
+      providers: [
+        provideZonelessChangeDetection(),
+        provideHttpClient(),
+        provideHttpClientTesting(),
+        {
+          provide: RealtimeSession,
+          useValue: {
+            connection: signal<RealtimeConnection>('connecting'),
+            watchAssessment: () => new Subject<WatchAcknowledgement>(),
+          },
+        },
+      ],
+    }).compileComponents();
+    http = TestBed.inject(HttpTestingController);
+    fixture = TestBed.createComponent(PlanAssessment);
+  });
+
+  afterEach(() => http.verify());
+
+  it('offers no request to someone who does not present the case, and shows the verdict', async () => {
+    await open(false, [doneView]);
+    expect(requestButton()).toBeUndefined();
+    expect(textOf(fixture)).toContain('Acceptable');
+  });
+
+  it('lets the presenting physician request an assessment and then shows it queued', async () => {
+    await open(true, []);
+    expect(textOf(fixture)).toContain('Not assessed yet.');
+    requestButton()?.click();
+    const request = http.expectOne(listUrl);
+    expect(request.request.method).toBe('POST');
+    request.flush(assessment({}), { status: 202, statusText: 'Accepted' });
+    await fixture.whenStable();
+    expect(textOf(fixture)).toContain('Queued');
+    expect(requestButton()?.disabled).toBe(true);
+  });
+
+  it('says so when the plan is unchanged and the server answers the existing result', async () => {
+    await open(true, [doneView]);
+    requestButton()?.click();
+    http.expectOne(listUrl).flush(doneView, { status: 202, statusText: 'Accepted' });
+    await fixture.whenStable();
+    expect(textOf(fixture)).toContain('The plan has not changed since its last assessment');
+  });
+
+  it('tells the refusal beside the button', async () => {
+    await open(true, []);
+    requestButton()?.click();
+    http.expectOne(listUrl).flush(
+      {
+        type: 'about:blank',
+        title: 'Conflict',
+        status: 409,
+        detail: 'No default safety profile is set; an administrator must choose one first.',
+      },
+      { status: 409, statusText: 'Conflict' },
+    );
+    await fixture.whenStable();
+    expect(textOf(fixture)).toContain(
+      'The assessment was not requested. No default safety profile is set',
+    );
+  });
+});

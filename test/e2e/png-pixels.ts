@@ -55,7 +55,11 @@ export function decodePng(bytes: Uint8Array): DecodedPng {
       else if (filter === 3) predictor = (left + up) >> 1;
       else if (filter === 4) {
         const estimate = left + up - upLeft;
-        const distances = [Math.abs(estimate - left), Math.abs(estimate - up), Math.abs(estimate - upLeft)];
+        const distances = [
+          Math.abs(estimate - left),
+          Math.abs(estimate - up),
+          Math.abs(estimate - upLeft),
+        ];
         predictor =
           distances[0] <= distances[1] && distances[0] <= distances[2]
             ? left
@@ -70,7 +74,12 @@ export function decodePng(bytes: Uint8Array): DecodedPng {
 }
 
 /** The mean colour of the pixels within `radius` of (x, y), as [r, g, b]. */
-export function meanColour(image: DecodedPng, x: number, y: number, radius = 2): [number, number, number] {
+export function meanColour(
+  image: DecodedPng,
+  x: number,
+  y: number,
+  radius = 2,
+): [number, number, number] {
   const sum = [0, 0, 0];
   let count = 0;
   for (let row = Math.round(y) - radius; row <= Math.round(y) + radius; row++) {

@@ -25,7 +25,8 @@ const axialView = () => page.locator('[data-view="axial"]');
 async function expectNoSeriousViolations(where: string): Promise<void> {
   const violations = await seriousAccessibilityViolations(page);
   const summary = violations.map(
-    (v) => `${v.id} (${v.impact}): ${v.help} at ${v.nodes.map((n) => n.target.join(' ')).join(', ')}`,
+    (v) =>
+      `${v.id} (${v.impact}): ${v.help} at ${v.nodes.map((n) => n.target.join(' ')).join(', ')}`,
   );
   expect(summary, `axe-core on ${where}`).toEqual([]);
 }
@@ -51,13 +52,27 @@ async function crosshairOnAxial(): Promise<{ x: number; y: number }> {
   const lines = await axialView()
     .locator('line.crosshair')
     .evaluateAll((elements) =>
-      elements.map((line) => ['x1', 'y1', 'x2', 'y2'].map((name) => Number(line.getAttribute(name)))),
+      elements.map((line) =>
+        ['x1', 'y1', 'x2', 'y2'].map((name) => Number(line.getAttribute(name))),
+      ),
     );
   const vertical = lines.find(([x1, , x2]) => Math.abs(x1 - x2) < 0.5);
   const horizontal = lines.find(([, y1, , y2]) => Math.abs(y1 - y2) < 0.5);
   const box = await axialView().boundingBox();
   if (!vertical || !horizontal || !box) throw new Error('no crosshair on the axial view');
   return { x: box.x + vertical[0], y: box.y + horizontal[1] };
+}
+
+/** The text once it has stopped changing (figures arrive from the worker a moment later). */
+async function settledText(locator: Locator): Promise<string> {
+  let previous = await locator.innerText();
+  for (let attempt = 0; attempt < 40; attempt++) {
+    await page.waitForTimeout(250);
+    const current = await locator.innerText();
+    if (current === previous) return current;
+    previous = current;
+  }
+  throw new Error('the text never settled');
 }
 
 async function figureMm(locator: Locator): Promise<number> {
@@ -99,7 +114,7 @@ describe('a presenting physician drafts a needle plan in the viewer', () => {
     await page.getByText('NLB-2026-019').first().click();
     await page.waitForURL(/\/cases\/[0-9a-f-]{36}/);
     caseUrl = /^.*\/cases\/[0-9a-f-]{36}/.exec(page.url())?.[0] ?? '';
-    await page.getByRole('link', { name: 'Imaging' }).click();
+    await page.getByRole('tab', { name: 'Imaging' }).click();
     await page.getByRole('heading', { name: 'Image series' }).waitFor();
   });
 
@@ -109,7 +124,9 @@ describe('a presenting physician drafts a needle plan in the viewer', () => {
     expect(files).toHaveLength(64);
     await page.locator('#series-files').setInputFiles(files);
     await page.getByRole('button', { name: 'Upload series' }).click();
-    await page.getByRole('link', { name: /Open the viewer for series/ }).waitFor({ timeout: 60_000 });
+    await page
+      .getByRole('link', { name: /Open the viewer for series/ })
+      .waitFor({ timeout: 60_000 });
   });
 
   it('imports its label map with the kinds of labels.json', { timeout: 180_000 }, async () => {
@@ -134,7 +151,9 @@ describe('a presenting physician drafts a needle plan in the viewer', () => {
     await page.getByRole('link', { name: /Open the viewer for series/ }).click();
     await page.waitForURL(/\/imaging\/[0-9a-f-]{36}\/viewer/);
     await page.locator('[data-first-frame="rendered"]').waitFor({ timeout: 60_000 });
-    await expect(page.locator('canvas[aria-label="Axial slice of the series"]').count()).resolves.toBe(1);
+    await expect(
+      page.locator('canvas[aria-label="Axial slice of the series"]').count(),
+    ).resolves.toBe(1);
     await expectNoSeriousViolations('the viewer');
   });
 
@@ -150,16 +169,15 @@ describe('a presenting physician drafts a needle plan in the viewer', () => {
     await press('ArrowLeft', 2);
     await press('Shift+ArrowUp', 1);
     await press('ArrowUp', 6);
-    const lps = await crosshairLps();
-    expect(lps[0]).toBeCloseTo(-31.6, 5);
-    expect(lps[1]).toBeCloseTo(-15.6, 5);
-    expect(lps[2]).toBeCloseTo(22.5, 5);
+    // The page redraws on its next frame: wait for the read-out to settle.
+    await expect.poll(crosshairLps, { timeout: 10_000 }).toEqual([-31.6, -15.6, 22.5]);
     targetPixel = await crosshairOnAxial();
     // The entry 34 mm to the patient's right and 14 mm anterior of it, same slice.
     await press('Shift+ArrowLeft', 3);
     await press('ArrowLeft', 4);
     await press('Shift+ArrowUp', 1);
     await press('ArrowUp', 4);
+    await expect.poll(crosshairLps, { timeout: 10_000 }).toEqual([-65.6, -29.6, 22.5]);
     entryPixel = await crosshairOnAxial();
   });
 
@@ -220,19 +238,21 @@ describe('a presenting physician drafts a needle plan in the viewer', () => {
   });
 
   it('moves the entry by dragging its handle', async () => {
-    const before = await page.locator('[data-figure="length"]').innerText();
+    const before = await settledText(page.locator('[data-figure="length"]'));
     await page.mouse.move(entryPixel.x, entryPixel.y);
     await page.mouse.down();
     await page.mouse.move(entryPixel.x + 10, entryPixel.y + 4, { steps: 5 });
     await page.mouse.move(entryPixel.x + 20, entryPixel.y + 8, { steps: 5 });
     await page.mouse.up();
-    draggedLength = await page.locator('[data-figure="length"]').innerText();
+    draggedLength = await settledText(page.locator('[data-figure="length"]'));
     expect(draggedLength).not.toBe(before);
     expect(await figureMm(page.locator('[data-figure="length"]'))).toBeLessThan(Math.hypot(34, 14));
   });
 
   it('saves the plan, with a screenshot of the viewer', async () => {
-    await page.getByLabel('Plan name', { exact: true }).fill('E2E lateral approach to segment VIII');
+    await page
+      .getByLabel('Plan name', { exact: true })
+      .fill('E2E lateral approach to segment VIII');
     await page.getByRole('button', { name: 'Save plan' }).click();
     await page.getByText(/^Saved at/).waitFor({ timeout: 20_000 });
     await page.waitForURL(/[?&]plan=[0-9a-f-]{36}/);
@@ -248,7 +268,9 @@ describe('a presenting physician drafts a needle plan in the viewer', () => {
     for (let index = 0; index < volume.width * volume.height; index++) {
       const at = index * volume.channels;
       const distance =
-        Math.abs(volume.data[at] - 13) + Math.abs(volume.data[at + 1] - 18) + Math.abs(volume.data[at + 2] - 23);
+        Math.abs(volume.data[at] - 13) +
+        Math.abs(volume.data[at + 1] - 18) +
+        Math.abs(volume.data[at + 2] - 23);
       if (distance > 30) coloured++;
     }
     expect(coloured / (volume.width * volume.height)).toBeGreaterThan(0.05);
@@ -258,10 +280,12 @@ describe('a presenting physician drafts a needle plan in the viewer', () => {
     await page.reload();
     await page.locator('[data-first-frame="rendered"]').waitFor({ timeout: 60_000 });
     await page.getByRole('heading', { name: 'E2E lateral approach to segment VIII' }).waitFor();
-    await expect.poll(async () => page.locator('[data-figure="length"]').innerText()).toBe(draggedLength);
+    await expect
+      .poll(async () => page.locator('[data-figure="length"]').innerText())
+      .toBe(draggedLength);
     await page.goto(`${caseUrl}/plans`);
     const plan = page.locator('section.plan', { hasText: 'E2E lateral approach to segment VIII' });
-    await plan.getByText('Draft').waitFor();
+    await plan.getByText('Draft', { exact: true }).waitFor();
     await expectNoSeriousViolations('the Plans section');
   });
 });

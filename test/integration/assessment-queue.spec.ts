@@ -68,8 +68,11 @@ async function nudgeSafetyProfile(): Promise<void> {
   const current = (await admin.get('/api/admin/safety-profiles')).body as SafetyProfileView[];
   const profile = current.find((entry) => entry.isDefault);
   if (!profile) throw new Error('no default safety profile');
-  const { id, createdAt: _created, updatedAt: _updated, ...body } = profile;
-  const response = await admin.put(`/api/admin/safety-profiles/${id}`, {
+  const body: Partial<SafetyProfileView> = { ...profile };
+  delete body.id;
+  delete body.createdAt;
+  delete body.updatedAt;
+  const response = await admin.put(`/api/admin/safety-profiles/${profile.id}`, {
     ...body,
     maximumAngulationDeg: profile.maximumAngulationDeg + 1,
   });

@@ -31,7 +31,10 @@ export type EmberlineSocket = Socket<
 >;
 
 /** Registers a feature's events on each new socket. */
-export type SocketFeature = (socket: EmberlineSocket, currentUser: () => Promise<SignedInUser | null>) => void;
+export type SocketFeature = (
+  socket: EmberlineSocket,
+  currentUser: () => Promise<SignedInUser | null>,
+) => void;
 
 export function createRealtimeServer(
   httpServer: HttpServer,

@@ -18,8 +18,7 @@ export interface AssessmentProgressEvent {
 }
 
 export type WatchAcknowledgement =
-  | { ok: true; event: AssessmentProgressEvent }
-  | { ok: false; status: number; detail: string };
+  { ok: true; event: AssessmentProgressEvent } | { ok: false; status: number; detail: string };
 
 export interface ServerToClientEvents {
   'assessment:progressed': (event: AssessmentProgressEvent) => void;

@@ -113,17 +113,15 @@ describe('PlansSection', () => {
   it('keeps the plan and tells the server refusal when a deletion fails', async () => {
     await open([plan({})]);
     buttonNamed(fixture, 'delete Delete draft').click();
-    http
-      .expectOne('/api/plans/plan-1')
-      .flush(
-        {
-          type: 'about:blank',
-          title: 'Conflict',
-          status: 409,
-          detail: 'Only a draft can be deleted.',
-        },
-        { status: 409, statusText: 'Conflict' },
-      );
+    http.expectOne('/api/plans/plan-1').flush(
+      {
+        type: 'about:blank',
+        title: 'Conflict',
+        status: 409,
+        detail: 'Only a draft can be deleted.',
+      },
+      { status: 409, statusText: 'Conflict' },
+    );
     await fixture.whenStable();
     expect(textOf(fixture)).toContain('was not deleted. Only a draft can be deleted.');
     expect(textOf(fixture)).toContain('Segment VIII, lateral');

@@ -179,6 +179,27 @@ describe('assessing the demo plans of the sample case', () => {
     }
   });
 
+  it('reports the heating model calibration of each profile, a residual per zone table row', () => {
+    for (const plan of plans) {
+      const { profile } = rowOf(plan);
+      const calibration = assessed
+        .get(plan.id)
+        ?.result?.calibrations?.find((entry) => entry.profileId === profile.id);
+      expect(calibration?.parameter).toBeGreaterThan(0);
+      expect(calibration?.rows.map((row) => `${row.powerW}/${row.timeS}`).sort()).toEqual(
+        profile.zoneTable.map((row) => `${row.powerW}/${row.timeS}`).sort(),
+      );
+      // One free parameter cannot fit every row; the rms is the mean of the squared row
+      // residuals, recomputed here from the rows.
+      const squares = (calibration?.rows ?? []).flatMap((row) => [
+        row.residualLengthMm ** 2,
+        row.residualWidthMm ** 2,
+      ]);
+      const rms = Math.sqrt(squares.reduce((sum, value) => sum + value, 0) / squares.length);
+      expect(calibration?.rmsResidualMm).toBeCloseTo(rms, 6);
+    }
+  });
+
   it('measures path length and angulation as the plan geometry gives them', () => {
     // Path length |target − entry|; angulation asin(|Δz| / length) from the axial plane (LPS z
     // is the body axis, DICOM PS3.3 C.7.6.2.1.1).

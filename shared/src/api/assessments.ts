@@ -97,8 +97,28 @@ export interface Verdict {
   reasons: VerdictReason[];
 }
 
+/**
+ * How the bioheat model was calibrated for one applicator profile: the coupling efficiency η
+ * fitted so that, in homogeneous liver, the physics zone matches the profile's zone table, and
+ * the residual of each table row (model − table, mm).
+ */
+export interface ProfileCalibration {
+  profileId: string;
+  parameter: number;
+  rmsResidualMm: number;
+  isAtRangeLimit: boolean;
+  rows: {
+    powerW: number;
+    timeS: number;
+    residualLengthMm: number;
+    residualWidthMm: number;
+  }[];
+}
+
 export interface AssessmentResult {
   engineVersion: string;
+  /** Present when the bioheat model ran: one entry per applicator profile of the plan. */
+  calibrations?: ProfileCalibration[];
   applicators: ApplicatorSafety[];
   zones: ZoneAssessment[];
   /** The zone model the coverage figures of the verdict use. */

@@ -5,6 +5,8 @@
  */
 import type { MessagePort } from 'node:worker_threads';
 import {
+  type ApplicatorCalibration,
+  type ProfileCalibration,
   EngineRefusal,
   assessPlan,
   calibrateApplicatorProfile,
@@ -20,21 +22,41 @@ import type {
   TaskProgress,
 } from './assessment-task-protocol';
 
-const calibrations = new Map<string, number>();
+const calibrations = new Map<string, ApplicatorCalibration>();
 /** Distance fields of the series this thread assessed lately (an LRU of crops). */
 const distanceFields = createDistanceFieldCache();
 
-function calibrationOf(profile: AssessmentTaskInput['applicators'][number]['profile']): number {
+function calibrationOf(
+  profile: AssessmentTaskInput['applicators'][number]['profile'],
+): ApplicatorCalibration {
   const key = JSON.stringify([profile.activeLengthMm, profile.zoneTable]);
-  let parameter = calibrations.get(key);
-  if (parameter === undefined) {
-    parameter = calibrateApplicatorProfile({
+  let calibration = calibrations.get(key);
+  if (calibration === undefined) {
+    calibration = calibrateApplicatorProfile({
       activeLengthMm: profile.activeLengthMm,
       zoneTable: profile.zoneTable,
-    }).parameter;
-    calibrations.set(key, parameter);
+    });
+    calibrations.set(key, calibration);
   }
-  return parameter;
+  return calibration;
+}
+
+function calibrationSummary(
+  profileId: string,
+  calibration: ApplicatorCalibration,
+): ProfileCalibration {
+  return {
+    profileId,
+    parameter: calibration.parameter,
+    rmsResidualMm: calibration.rmsResidualMm,
+    isAtRangeLimit: calibration.isAtRangeLimit,
+    rows: calibration.rows.map((row) => ({
+      powerW: row.powerW,
+      timeS: row.timeS,
+      residualLengthMm: row.residualLengthMm,
+      residualWidthMm: row.residualWidthMm,
+    })),
+  };
 }
 
 export default async function runAssessmentTask(task: {
@@ -62,8 +84,11 @@ async function assess({
   const { labels } = decodeLabelMapFile(input.labelMap.buffer);
   const calibrationShare = input.isBioheatRequested ? 0.15 : 0;
   report({ fraction: 0.01, stage: 'Reading the structures' });
+  const used = new Map<string, ProfileCalibration>();
   const applicators = input.applicators.map((applicator, index) => {
-    const calibration = input.isBioheatRequested ? calibrationOf(applicator.profile) : undefined;
+    const fitted = input.isBioheatRequested ? calibrationOf(applicator.profile) : undefined;
+    if (fitted) used.set(applicator.profile.id, calibrationSummary(applicator.profile.id, fitted));
+    const calibration = fitted?.parameter;
     report({
       fraction: (calibrationShare * (index + 1)) / input.applicators.length,
       stage: 'Calibrating the heating model',
@@ -113,7 +138,7 @@ async function assess({
     })),
   });
   return {
-    result: run.result,
+    result: used.size ? { ...run.result, calibrations: [...used.values()] } : run.result,
     timingsMs: run.timingsMs,
     display: display.buffer.slice(
       display.byteOffset,

@@ -142,6 +142,22 @@ function verdictGroup(results: readonly AssessmentResult[]): ComparisonGroup {
           items: [{ text: zoneModelLabels[result.primaryZoneModel], flag: '' }],
         })),
       },
+      {
+        key: 'calibration',
+        label: 'Physics model fitted to the zone table (rms residual per profile, mm)',
+        direction: null,
+        cells: results.map((result) => ({
+          type: 'list',
+          emptyText: 'Not computed',
+          items: (result.calibrations ?? []).map((calibration) => ({
+            text:
+              `${formatFigure(calibration.rmsResidualMm, 1, 'mm')} over ` +
+              `${calibration.rows.length} rows` +
+              (calibration.isAtRangeLimit ? ' (table beyond the model’s reach)' : ''),
+            flag: '',
+          })),
+        })),
+      },
     ],
   };
 }

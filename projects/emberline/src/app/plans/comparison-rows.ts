@@ -144,7 +144,7 @@ function verdictGroup(results: readonly AssessmentResult[]): ComparisonGroup {
       },
       {
         key: 'calibration',
-        label: 'Physics model fitted to the zone table (rms residual per profile, mm)',
+        label: 'Physics model fit to the zone table, rms residual per profile (mm)',
         direction: null,
         cells: results.map((result) => ({
           type: 'list',

@@ -11,6 +11,7 @@ import { ConfirmDialog, type ConfirmDialogData } from '../core/confirm-dialog';
 import { problemMessage } from '../core/problem';
 import { PlanApi } from './plan-api';
 import { PlanAssessment } from './plan-assessment';
+import { PlanAssessments } from './plan-assessments';
 import { PlanComparison } from './plan-comparison';
 
 /**
@@ -37,6 +38,7 @@ export class PlansSection {
   private readonly state = inject(CaseFileState);
   private readonly api = inject(PlanApi);
   private readonly dialog = inject(MatDialog);
+  private readonly assessments = inject(PlanAssessments);
 
   protected readonly caseId = this.state.caseId;
   protected readonly canEdit = computed(() => this.state.detail()?.permissions.canEdit ?? false);
@@ -55,6 +57,11 @@ export class PlansSection {
   /** Entry-to-target length of an applicator, millimetres. */
   protected lengthMm(applicator: PlanView['applicators'][number]): number {
     return vector3.distance(applicator.entry, applicator.target);
+  }
+
+  /** Whether the plan's newest assessment is done: the viewer then draws its zones. */
+  protected isAssessed(plan: PlanView): boolean {
+    return this.assessments.stateOf(plan.id).latest?.status === 'done';
   }
 
   protected canDelete(plan: PlanView): boolean {

@@ -14,6 +14,9 @@ import {
   viewChild,
 } from '@angular/core';
 import { vector3, type Vec3 } from '@emberline/shared';
+import { svgPathOfLoops, zoneContourOnPlane } from './assessment/zone-contour';
+import { ZoneOverlay } from './assessment/zone-overlay';
+import { zoneStyles } from './assessment/zone-styles';
 import { draggedWindow, type DisplayWindow } from './display-window';
 import { directionLetters, sliceViewNames, type SliceViewName } from './slice-axes';
 import { nearestWithin, pathOverlay, planeCutLine } from './slice-overlay';
@@ -48,8 +51,8 @@ type Gesture =
 
 /**
  * One slice view (axial, coronal or sagittal): the vtk.js picture of the slice under the
- * crosshair, and an SVG overlay of the crosshair, the applicator paths with their handles and
- * the distance measurement. Wheel or Page Up/Down move through slices, Ctrl+wheel or +/−
+ * crosshair, and an SVG overlay of the assessed zones' outlines, the crosshair, the applicator
+ * paths with their handles and the distance measurement. Wheel or Page Up/Down move through slices, Ctrl+wheel or +/−
  * zoom, Shift+drag or the middle button pan, right-drag sets the window, arrows move the
  * crosshair, Enter acts at it as a click would.
  */
@@ -64,6 +67,7 @@ export class SliceView {
   readonly view = input.required<SliceViewName>();
 
   private readonly session = inject(ViewerSession);
+  private readonly zones = inject(ZoneOverlay);
   private readonly host = viewChild.required<ElementRef<HTMLElement>>('host');
   private scene: SliceScene | null = null;
   private resizeObserver: ResizeObserver | null = null;
@@ -117,6 +121,17 @@ export class SliceView {
       'zoom, Enter acts at the crosshair as a click does.',
   );
 
+  /** The shown zones' outlines on this slice, LPS: recomputed when the slice changes. */
+  private readonly zoneLoops = computed(() => {
+    const axes = this.axes();
+    const plane = this.plane();
+    if (!axes || !plane) return [];
+    return this.zones.visibleZones().map((zone) => ({
+      model: zone.model,
+      loops: zoneContourOnPlane(zone, plane.pointLps, axes.normalLps),
+    }));
+  });
+
   protected readonly overlay = computed(() => {
     const axes = this.axes();
     const allAxes = this.session.axes();
@@ -132,12 +147,25 @@ export class SliceView {
       shape,
       drawn: pathOverlay(axes, viewport, plane, shape.entryLps, shape.targetLps),
     }));
+    const zones = this.zoneLoops()
+      .filter((zone) => zone.loops.length)
+      .map((zone) => ({
+        model: zone.model,
+        colour: zoneStyles[zone.model].colour,
+        dash: zoneStyles[zone.model].dash,
+        d: svgPathOfLoops(
+          zone.loops.map((loop) =>
+            loop.map((point) => lpsToScreen(axes, viewport, plane.pointLps, point)),
+          ),
+        ),
+      }));
     const measurement = this.session.measurement();
     const measured =
       measurement?.view === this.view()
         ? measurement.pointsLps.map((point) => lpsToScreen(axes, viewport, plane.pointLps, point))
         : [];
     return {
+      zones,
       crosshair,
       paths,
       measured,

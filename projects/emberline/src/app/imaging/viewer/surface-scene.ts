@@ -1,6 +1,8 @@
 /**
- * The vtk.js side of the 3D view: the structures' surfaces in patient LPS millimetres, the
- * applicator paths as tubes with a ball at each target, and the crosshair point. The camera
+ * The vtk.js side of the 3D view: the structures' surfaces in patient LPS millimetres (the
+ * tumours optionally coloured vertex by vertex by their local margin), the assessed ablation
+ * zones (a translucent skin, with a cage of outline rings for some models), the applicator paths as tubes with a
+ * ball at each target, and the crosshair point. The camera
  * turns with the mouse (trackball) or the keys the component forwards. Plain TypeScript: the
  * component owns one and calls `dispose()` when it goes.
  */
@@ -21,7 +23,7 @@ import vtkRenderWindow from '@kitware/vtk.js/Rendering/Core/RenderWindow';
 import vtkRenderWindowInteractor from '@kitware/vtk.js/Rendering/Core/RenderWindowInteractor';
 import vtkRenderer from '@kitware/vtk.js/Rendering/Core/Renderer';
 import vtkOpenGLRenderWindow from '@kitware/vtk.js/Rendering/OpenGL/RenderWindow';
-import type { StructureKind, Vec3 } from '@emberline/shared';
+import type { StructureKind, Vec3, ZoneModel } from '@emberline/shared';
 import { viewerBackground } from './slice-scene';
 import type { SurfaceMesh } from './surface-mesh';
 import { rgbOf, type LabelAppearance, type PathShape } from './viewer-data';
@@ -35,6 +37,18 @@ const enclosingShare: Partial<Record<StructureKind, number>> = { skin: 0.2, live
 const pathColour = rgbOf('#ff8a3d');
 const selectedPathColour = rgbOf('#ffd23f');
 const cursorColour = rgbOf('#ffffff');
+
+/** How one zone model's surface is drawn (from `assessment/zone-styles.ts`). */
+export interface ZoneSurfaceLook {
+  colour: string;
+  opacity: number;
+}
+
+interface SurfaceActors {
+  data: vtkPolyData;
+  mapper: vtkMapper;
+  actor: vtkActor;
+}
 
 interface PathActors {
   line: vtkLineSource;
@@ -52,10 +66,12 @@ export class SurfaceScene {
   private readonly openGlWindow = vtkOpenGLRenderWindow.newInstance();
   private readonly interactor = vtkRenderWindowInteractor.newInstance();
   private readonly style = vtkInteractorStyleTrackballCamera.newInstance();
-  private readonly surfaces = new Map<
-    number,
-    { data: vtkPolyData; mapper: vtkMapper; actor: vtkActor }
-  >();
+  private readonly surfaces = new Map<number, SurfaceActors>();
+  private readonly zones = new Map<ZoneModel, SurfaceActors>();
+  private readonly zoneRings = new Map<ZoneModel, SurfaceActors>();
+  /** Labels whose surface carries per-vertex colours (the margin colouring). */
+  private readonly colouredLabels = new Set<number>();
+  private appearance: LabelAppearance | null = null;
   private readonly paths: PathActors[] = [];
   private readonly cursor = vtkSphereSource.newInstance({
     radius: 1.5,
@@ -87,6 +103,12 @@ export class SurfaceScene {
   /** Adds (or replaces) the surface of one label. */
   addSurface(mesh: SurfaceMesh): void {
     this.removeSurface(mesh.labelValue);
+    const surface = this.surfaceActors(mesh);
+    this.surfaces.set(mesh.labelValue, surface);
+    if (!this.hasCamera) this.resetCamera();
+  }
+
+  private surfaceActors(mesh: SurfaceMesh): SurfaceActors {
     const data = vtkPolyData.newInstance();
     data.getPoints().setData(mesh.pointsLps, 3);
     data.getPolys().setData(mesh.polys);
@@ -102,27 +124,129 @@ export class SurfaceScene {
     actor.getProperty().setSpecular(0.2);
     actor.getProperty().setSpecularPower(20);
     this.renderer.addActor(actor);
-    this.surfaces.set(mesh.labelValue, { data, mapper, actor });
-    if (!this.hasCamera) this.resetCamera();
+    return { data, mapper, actor };
+  }
+
+  private disposeSurface(surface: SurfaceActors): void {
+    this.renderer.removeActor(surface.actor);
+    surface.actor.delete();
+    surface.mapper.delete();
+    surface.data.delete();
   }
 
   private removeSurface(labelValue: number): void {
     const existing = this.surfaces.get(labelValue);
     if (!existing) return;
-    this.renderer.removeActor(existing.actor);
-    existing.actor.delete();
-    existing.mapper.delete();
-    existing.data.delete();
+    this.disposeSurface(existing);
     this.surfaces.delete(labelValue);
+    this.colouredLabels.delete(labelValue);
   }
 
   setAppearance(appearance: LabelAppearance): void {
+    this.appearance = appearance;
     for (const [labelValue, { actor }] of this.surfaces) {
       const kind = appearance.kinds.get(labelValue) ?? null;
       const share = (kind && enclosingShare[kind]) ?? 1;
+      // A surface coloured by margin shows whole: its colours carry the reading.
+      const isColoured = this.colouredLabels.has(labelValue);
       actor.getProperty().setColor(...rgbOf(appearance.colours.get(labelValue) ?? '#ffffff'));
-      actor.getProperty().setOpacity(Math.max(0.02, appearance.opacity * share));
-      actor.setVisibility(appearance.visible.has(labelValue) && appearance.opacity > 0);
+      actor.getProperty().setOpacity(isColoured ? 1 : Math.max(0.02, appearance.opacity * share));
+      actor.setVisibility(
+        appearance.visible.has(labelValue) && (isColoured || appearance.opacity > 0),
+      );
+    }
+  }
+
+  /** Whether a label's surface is there (the margin colouring waits for it). */
+  hasSurface(labelValue: number): boolean {
+    return this.surfaces.has(labelValue);
+  }
+
+  /**
+   * Colours a label's surface vertex by vertex (r, g, b 0…255 per vertex), or gives it back
+   * its kind's colour (null). Answers false when the label has no surface (yet).
+   */
+  setVertexColours(labelValue: number, colours: Uint8Array | null): boolean {
+    const surface = this.surfaces.get(labelValue);
+    if (!surface) return false;
+    const points = surface.data.getPoints().getNumberOfPoints();
+    if (colours && colours.length === points * 3) {
+      surface.data.getPointData().setScalars(
+        vtkDataArray.newInstance({
+          name: 'margin-colours',
+          values: colours,
+          numberOfComponents: 3,
+        }),
+      );
+      surface.mapper.setColorModeToDirectScalars();
+      surface.mapper.setScalarVisibility(true);
+      this.colouredLabels.add(labelValue);
+    } else {
+      surface.mapper.setScalarVisibility(false);
+      this.colouredLabels.delete(labelValue);
+    }
+    surface.data.modified();
+    if (this.appearance) this.setAppearance(this.appearance);
+    return true;
+  }
+
+  /** Adds (or replaces) an assessed zone's surface, drawn in its model's look. */
+  setZoneSurface(model: ZoneModel, mesh: SurfaceMesh, look: ZoneSurfaceLook): void {
+    const existing = this.zones.get(model);
+    if (existing) this.disposeSurface(existing);
+    const surface = this.surfaceActors(mesh);
+    const property = surface.actor.getProperty();
+    property.setColor(...rgbOf(look.colour));
+    property.setOpacity(look.opacity);
+    this.zones.set(model, surface);
+  }
+
+  /** Adds (or replaces) a zone's cage: closed outline loops, LPS millimetres, as lines. */
+  setZoneRings(model: ZoneModel, loopsLps: readonly (readonly Vec3[])[], colour: string): void {
+    const existing = this.zoneRings.get(model);
+    if (existing) this.disposeSurface(existing);
+    const pointCount = loopsLps.reduce((sum, loop) => sum + loop.length, 0);
+    const points = new Float32Array(pointCount * 3);
+    const lines = new Uint32Array(pointCount + 2 * loopsLps.length);
+    let point = 0;
+    let cell = 0;
+    for (const loop of loopsLps) {
+      // A closed polyline: n + 1 indices, the first repeated at the end.
+      lines[cell++] = loop.length + 1;
+      const first = point;
+      for (const vertex of loop) {
+        points.set(vertex, point * 3);
+        lines[cell++] = point++;
+      }
+      lines[cell++] = first;
+    }
+    const data = vtkPolyData.newInstance();
+    data.getPoints().setData(points, 3);
+    data.getLines().setData(lines);
+    const mapper = vtkMapper.newInstance();
+    mapper.setInputData(data);
+    const actor = vtkActor.newInstance();
+    actor.setMapper(mapper);
+    const property = actor.getProperty();
+    property.setColor(...rgbOf(colour));
+    property.setLighting(false);
+    property.setLineWidth(1.5);
+    this.renderer.addActor(actor);
+    this.zoneRings.set(model, { data, mapper, actor });
+  }
+
+  /** Removes every zone surface and cage (another plan is shown). */
+  clearZones(): void {
+    for (const surface of [...this.zones.values(), ...this.zoneRings.values()]) {
+      this.disposeSurface(surface);
+    }
+    this.zones.clear();
+    this.zoneRings.clear();
+  }
+
+  setZonesShown(shown: ReadonlySet<ZoneModel>): void {
+    for (const [model, { actor }] of [...this.zones, ...this.zoneRings]) {
+      actor.setVisibility(shown.has(model));
     }
   }
 
@@ -212,6 +336,7 @@ export class SurfaceScene {
     this.isDisposed = true;
     this.interactor.unbindEvents();
     for (const labelValue of [...this.surfaces.keys()]) this.removeSurface(labelValue);
+    this.clearZones();
     for (const actors of this.paths.splice(0)) this.disposePath(actors);
     this.cursorActor.delete();
     this.cursorMapper.delete();

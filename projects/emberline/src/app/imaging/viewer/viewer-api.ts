@@ -78,7 +78,7 @@ export class ViewerApi {
  * A binary request's error body arrives as bytes: parse it as the problem details (RFC 9457)
  * it is, so that the page can tell the server's sentence.
  */
-function readableProblem(error: unknown): Observable<never> {
+export function readableProblem(error: unknown): Observable<never> {
   if (error instanceof HttpErrorResponse && error.error instanceof ArrayBuffer) {
     let body: unknown = null;
     try {

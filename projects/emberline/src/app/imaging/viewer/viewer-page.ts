@@ -22,6 +22,8 @@ import { EMPTY, catchError, filter, forkJoin, switchMap, tap } from 'rxjs';
 import { CaseFileState } from '../../cases/case-file-state';
 import { problemMessage } from '../../core/problem';
 import { PlanApi } from '../../plans/plan-api';
+import { ZoneOverlay } from './assessment/zone-overlay';
+import { ZonePanel } from './assessment/zone-panel';
 import { DraftingPanel } from './drafting/drafting-panel';
 import { newDraft, settingsForProfile } from './drafting/drafting-state';
 import { SliceView } from './slice-view';
@@ -35,7 +37,8 @@ import { hasWebGl2, noWebGl2Message } from './webgl-support';
 /**
  * The case viewer of one series (DESIGN.md §6): axial, coronal and sagittal slices and the 3D
  * view, the structures over them, the display window, the distance measurement, and the
- * drafting of needle plans with live clearance. Route `/cases/:id/imaging/:seriesId/viewer`,
+ * drafting of needle plans with live clearance, and the assessed zones and margins of the plan
+ * shown. Route `/cases/:id/imaging/:seriesId/viewer`,
  * `?plan=<id>` opens a plan.
  */
 @Component({
@@ -49,8 +52,9 @@ import { hasWebGl2, noWebGl2Message } from './webgl-support';
     VolumeView,
     StructureToggles,
     DraftingPanel,
+    ZonePanel,
   ],
-  providers: [ViewerSession],
+  providers: [ViewerSession, ZoneOverlay],
   templateUrl: './viewer-page.html',
   styleUrl: './viewer-page.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
@@ -61,6 +65,7 @@ export class ViewerPage {
   private readonly planApi = inject(PlanApi);
   private readonly router = inject(Router);
   protected readonly session = inject(ViewerSession);
+  private readonly zones = inject(ZoneOverlay);
 
   /** Route parameter. */
   readonly seriesId = input.required<string>();
@@ -94,6 +99,11 @@ export class ViewerPage {
   constructor() {
     if (this.hasWebGl) this.loadSeries();
     effect(() => this.openRequestedPlan());
+    // The zones of the plan on screen are read once it shows (and again after a save).
+    effect(() => {
+      const plan = this.shownPlan();
+      untracked(() => this.zones.open(plan));
+    });
   }
 
   private loadSeries(): void {

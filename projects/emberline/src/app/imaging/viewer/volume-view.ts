@@ -11,9 +11,16 @@ import {
   untracked,
   viewChild,
 } from '@angular/core';
-import type { StructureKind } from '@emberline/shared';
+import type { AssessmentDisplay, DisplayZone, StructureKind } from '@emberline/shared';
+import { MarginLegend } from './assessment/margin-legend';
+import { marginColours } from './assessment/margin-colours';
+import { nearestSampleValues } from './assessment/nearest-sample';
+import { zoneRings } from './assessment/zone-contour';
+import { ZoneOverlay } from './assessment/zone-overlay';
+import { zoneStyles } from './assessment/zone-styles';
 import { clearanceKindOrder } from './drafting/clearance-fields';
 import { SurfaceBuilder } from './surface-builder';
+import type { SurfaceMesh } from './surface-mesh';
 import type { SurfaceReply } from './surface-protocol';
 import { SurfaceScene } from './surface-scene';
 import { ViewerSession } from './viewer-session';
@@ -27,13 +34,20 @@ const surfaceOrder: readonly StructureKind[] = [
 export const surfacesReadyMark = 'emberline:viewer-surfaces-ready';
 
 /**
- * The 3D view: surface models of the structures (built in a worker, one by one), the
+ * How far a surface vertex may lie from the nearest margin sample (a surface voxel centre) and
+ * still take its value, mm: the smoothed surface keeps within about a voxel of the voxels.
+ */
+const marginReachMm = 5;
+
+/**
+ * The 3D view: surface models of the structures (built in a worker, one by one), the assessed
+ * zones of the plan on screen with the tumours coloured by local margin and its legend, the
  * applicator paths and the crosshair point. Drag to turn, wheel to zoom; arrow keys turn,
  * plus and minus zoom, 0 resets.
  */
 @Component({
   selector: 'em-volume-view',
-  imports: [DecimalPipe],
+  imports: [DecimalPipe, MarginLegend],
   template: `
     <div class="caption">
       <span class="name">3D</span>
@@ -47,11 +61,13 @@ export const surfacesReadyMark = 'emberline:viewer-surfaces-ready';
       role="application"
       aria-label="3D view of the structures and the applicator paths. Arrow keys turn it, plus and minus zoom, 0 resets."
       (keydown)="keyDown($event)"
-    ></div>
+    >
+      <em-margin-legend />
+    </div>
     @if (triangleCount()) {
       <p class="note">
         {{ triangleCount() | number }} triangles · surfaces smoothed for display; figures come from
-        the label map
+        the label map{{ zoneStatus() ? ' · ' + zoneStatus() : '' }}
       </p>
     }
   `,
@@ -60,6 +76,7 @@ export const surfacesReadyMark = 'emberline:viewer-surfaces-ready';
 })
 export class VolumeView {
   private readonly session = inject(ViewerSession);
+  private readonly zones = inject(ZoneOverlay);
   private readonly host = viewChild.required<ElementRef<HTMLElement>>('host');
   private scene: SurfaceScene | null = null;
   private builder: SurfaceBuilder | null = null;
@@ -70,6 +87,15 @@ export class VolumeView {
   protected readonly status = signal('Waiting for the slices…');
   protected readonly triangleCount = signal(0);
   private surfaceCount = 0;
+  /** The structures' meshes by label value, for the margin colouring of the tumours. */
+  private readonly meshes = new Map<number, SurfaceMesh>();
+  private readonly meshCount = signal(0);
+  private zoneBuilder: SurfaceBuilder | null = null;
+  private builtDisplay: AssessmentDisplay | null = null;
+  /** Margins carried to the vertices, by label value and zone model. */
+  private readonly vertexMargins = new Map<string, Float32Array>();
+  private colouredLabels = new Set<number>();
+  protected readonly zoneStatus = signal('');
 
   constructor() {
     afterNextRender(() => this.start());
@@ -82,6 +108,13 @@ export class VolumeView {
       if (this.session.hasFirstFrame() && this.isSceneReady())
         untracked(() => this.buildSurfaces());
     });
+    effect(() => {
+      const display = this.zones.display();
+      if (this.session.hasFirstFrame() && this.isSceneReady())
+        untracked(() => this.buildZones(display));
+    });
+    effect(() => this.showZones());
+    effect(() => this.showMargins());
   }
 
   private start(): void {
@@ -105,6 +138,7 @@ export class VolumeView {
     cancelAnimationFrame(this.frameRequest);
     this.resizeObserver?.disconnect();
     this.builder?.dispose();
+    this.zoneBuilder?.dispose();
     this.scene?.dispose();
     this.scene = null;
   }
@@ -137,6 +171,8 @@ export class VolumeView {
   private received(reply: SurfaceReply, total: number): void {
     if (reply.type === 'surface') {
       this.scene?.addSurface(reply.mesh);
+      this.meshes.set(reply.mesh.labelValue, reply.mesh);
+      this.meshCount.update((count) => count + 1);
       this.scene?.setAppearance(this.session.appearance());
       this.surfaceCount++;
       this.triangleCount.update((count) => count + reply.mesh.triangleCount);
@@ -148,6 +184,106 @@ export class VolumeView {
     } else if (reply.type === 'failed') {
       this.status.set(`The surfaces could not be built: ${reply.message}`);
     }
+  }
+
+  /**
+   * Contours the zones of the display one after the other in one surface worker (each on its
+   * own tight box, placed by that box's grid), and draws the ring cages of the models that
+   * have one on the page (a few slices' marching squares); another display replaces them.
+   */
+  private buildZones(display: AssessmentDisplay | null): void {
+    if (display === this.builtDisplay) return;
+    this.builtDisplay = display;
+    this.zoneBuilder?.dispose();
+    this.zoneBuilder = null;
+    this.scene?.clearZones();
+    this.vertexMargins.clear();
+    this.requestRender();
+    const pending = (display?.zones ?? []).filter((zone) => zone.mask.includes(1));
+    for (const zone of pending) {
+      const stepMm = zoneStyles[zone.model].ringStepMm;
+      if (stepMm === null) continue;
+      // Axial and sagittal rings: seen from the front, a grid over the zone.
+      const rings = zoneRings(zone, stepMm, [
+        [0, 0, 1],
+        [1, 0, 0],
+      ]);
+      this.scene?.setZoneRings(zone.model, rings, zoneStyles[zone.model].colour);
+    }
+    this.scene?.setZonesShown(this.zones.shownZones());
+    if (!pending.length) {
+      this.zoneStatus.set('');
+      return;
+    }
+    let current: DisplayZone | undefined;
+    const builder = new SurfaceBuilder((reply) => {
+      if (reply.type === 'surface' && current) {
+        this.scene?.setZoneSurface(current.model, reply.mesh, zoneStyles[current.model]);
+        this.scene?.setZonesShown(this.zones.shownZones());
+        this.requestRender();
+      } else if (reply.type === 'surfaces-done') {
+        next();
+      } else if (reply.type === 'failed') {
+        this.zoneStatus.set(`the zone surfaces could not be built: ${reply.message}`);
+      }
+    });
+    const next = () => {
+      current = pending.shift();
+      if (!current) {
+        this.zoneStatus.set('');
+        builder.dispose();
+        if (this.zoneBuilder === builder) this.zoneBuilder = null;
+        return;
+      }
+      this.zoneStatus.set(`building the ${zoneStyles[current.model].label.toLowerCase()}…`);
+      builder.build({ labels: current.mask, geometry: current.geometry, labelValues: [1] });
+    };
+    this.zoneBuilder = builder;
+    next();
+  }
+
+  private showZones(): void {
+    const shown = this.zones.shownZones();
+    if (!this.isSceneReady()) return;
+    this.scene?.setZonesShown(shown);
+    this.requestRender();
+  }
+
+  /**
+   * Colours each tumour with margin samples by the nearest sample's margin, through the
+   * scale of the legend; gives the others back their kind's colour.
+   */
+  private showMargins(): void {
+    const margins = this.zones.shownMargins();
+    const scale = this.zones.scale();
+    const structures = this.session.structures();
+    this.meshCount();
+    if (!this.isSceneReady()) return;
+    untracked(() => {
+      const labelOf = new Map(structures.map((structure) => [structure.id, structure.labelValue]));
+      const coloured = new Set<number>();
+      for (const entry of margins) {
+        const labelValue = labelOf.get(entry.structureId);
+        const mesh = labelValue === undefined ? undefined : this.meshes.get(labelValue);
+        if (labelValue === undefined || !mesh || !scale) continue;
+        const key = `${labelValue}:${entry.model}`;
+        let values = this.vertexMargins.get(key);
+        if (!values) {
+          values = nearestSampleValues(mesh.pointsLps, entry.pointsLps, entry.marginMm, {
+            maxDistanceMm: marginReachMm,
+          });
+          this.vertexMargins.set(key, values);
+        }
+        if (this.scene?.setVertexColours(labelValue, marginColours(values, scale))) {
+          coloured.add(labelValue);
+        }
+      }
+      for (const labelValue of this.colouredLabels) {
+        if (!coloured.has(labelValue)) this.scene?.setVertexColours(labelValue, null);
+      }
+      this.colouredLabels = coloured;
+      this.requestRender();
+    });
   }
 
   private showAppearance(): void {

@@ -60,7 +60,7 @@ type Gesture =
   selector: 'em-slice-view',
   imports: [DecimalPipe],
   templateUrl: './slice-view.html',
-  styleUrl: './slice-view.scss',
+  styleUrls: ['./viewer-pane.scss', './slice-view.scss'],
   changeDetection: ChangeDetectionStrategy.OnPush,
 })
 export class SliceView {

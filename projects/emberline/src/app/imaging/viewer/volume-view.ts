@@ -71,7 +71,7 @@ const marginReachMm = 5;
       </p>
     }
   `,
-  styleUrl: './volume-view.scss',
+  styleUrls: ['./viewer-pane.scss', './volume-view.scss'],
   changeDetection: ChangeDetectionStrategy.OnPush,
 })
 export class VolumeView {

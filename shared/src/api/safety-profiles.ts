@@ -61,6 +61,16 @@ export const safetyProfileBodySchema = z.strictObject({
   /** Liver capsule crossings per applicator beyond which the verdict carries a caution. */
   maximumCapsuleCrossings: z.number().int().min(1).max(5),
   capsuleSource: thresholdSourceSchema,
+  /**
+   * Largest leave-one-out error (mm) of the heating model against an applicator profile's own
+   * zone table for which the physics zone may decide the verdict; beyond it the table zone
+   * decides and the physics zone is shown for information only.
+   */
+  physicsToleranceMm: z.number().min(0).max(20).default(2),
+  physicsToleranceSource: thresholdSourceSchema.default(
+    'Team choice: a model zone should predict a zone table row it was not fitted to within about ' +
+      'the 2 mm scan grid before it replaces the manufacturer table; review per device.',
+  ),
   isDefault: z.boolean().optional(),
 });
 export type SafetyProfileBody = z.infer<typeof safetyProfileBodySchema>;

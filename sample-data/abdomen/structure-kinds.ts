@@ -1,6 +1,6 @@
 /**
- * The kinds of structure a label may stand for: the identifiers of DESIGN.md §6, used in the
- * API and the code of the whole product.
+ * The kinds of structure a label may stand for: the identifiers used in the API and the code of
+ * the whole product (DEVELOPERS.md, "Structure kinds").
  */
 export const STRUCTURE_KINDS = [
   'tumour',

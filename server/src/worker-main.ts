@@ -1,6 +1,6 @@
 /**
  * `npm run worker`: a process that only works assessment jobs, against the same database (and
- * the same file store) as the servers — on this machine or another (DESIGN.md §10).
+ * the same file store) as the servers — on this machine or another (README.md, "Architecture").
  */
 import { databaseUrl } from './database-url';
 import { openDatabase } from './db';

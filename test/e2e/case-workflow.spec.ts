@@ -73,7 +73,8 @@ describe('a presenting physician prepares a case', () => {
   });
 
   it('enters a lab panel in SI units and sees MELD and Child-Pugh (Kim 2008 worked example → MELD 19, MELD-Na 20)', async () => {
-    // REFERENCES.md [C]: Cr 2.7 mg/dL (238.68 µmol/L), bilirubin 1.5 mg/dL (25.65 µmol/L), INR 1.1,
+    // Computed from the formulas [C] (UNOS/OPTN MELD; Kim WR et al., N Engl J Med 2008;359:1018):
+    // Cr 2.7 mg/dL (238.68 µmol/L), bilirubin 1.5 mg/dL (25.65 µmol/L), INR 1.1,
     // Na 135 → MELD 19, MELD-Na 20; Child-Pugh standard table with albumin 30 g/L and mild
     // ascites → 7 points, class B.
     await fill('Total bilirubin', '25.65');

@@ -4,7 +4,7 @@
  * computed here, independently of the engine — the analytic shapes of the manifest, the zone
  * table rows of the demo profiles, and textbook geometry (segment–segment distance, Ericson,
  * Real-Time Collision Detection §5.1.9; ellipsoid membership; margins of a concentric sphere in
- * a spheroid, REFERENCES.md "Volumes").
+ * a spheroid, elementary geometry).
  */
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -253,7 +253,7 @@ describe('assessing the demo plans of the sample case', () => {
   it('gives the minimal margin of a concentric sphere in a spheroid: min(a, b) − r', () => {
     // The demo tips are placed so that each table zone is centred on its tumour (sample-data
     // and server/seeders/demo-plans.ts); concentric sphere r in an ellipsoid with semi-axes
-    // a, b, b: margin = min(a, b) − r (REFERENCES.md "Volumes": r = 10 in R = 15 → 5 mm).
+    // a, b, b: margin = min(a, b) − r (elementary geometry [C]: r = 10 in R = 15 → 5 mm).
     for (const plan of plans) {
       const zone = tableZone(plan);
       const tumour = treatedTumour(plan);

@@ -22,7 +22,8 @@ const newCase = (boardId: string, caseCode = 'NLB-2026-101') => ({
   primaryDiagnosis: 'hcc',
 });
 
-// Worked example of REFERENCES.md [C] (Kim WR et al., N Engl J Med 2008;359:1018; UNOS/OPTN MELD):
+// Worked example computed from the formulas [C] (Kim WR et al., N Engl J Med 2008;359:1018;
+// UNOS/OPTN MELD policy):
 // Cr 2.7 mg/dL, bilirubin 1.5 mg/dL, INR 1.1, Na 135 → MELD 19, MELD-Na 20.
 const labsConventional = {
   // Newer than the demo's own panel (three days old), so it is the one the scores use.

@@ -111,7 +111,7 @@ function normalize(vector: Vec3): Vec3 {
 }
 
 describe(`patient coordinates (${GEOMETRY})`, () => {
-  it('places voxel (100, 50) of an axial slice at (−95, −165, 50): the worked example of REFERENCES.md', async () => {
+  it('places voxel (100, 50) of an axial slice at (−95, −165, 50), worked by hand', async () => {
     // IPP (−175, −200, 50), IOP (1,0,0, 0,1,0), Pixel Spacing [0.7, 0.8] [C].
     const view = await accepted(buildSeries(seriesSpec()));
     expectVecClose(view.originLps, [-175, -200, 50]);

@@ -229,7 +229,8 @@ describe(`upload and de-identification (${PROFILE})`, () => {
     expect(view.deidentification.patientIdentityRemoved).toBe(true);
   });
 
-  // REFERENCES.md "DICOM and NIfTI" [S] unless marked; Emberline takes the strictest choice.
+  // DICOM PS3.15 Annex E, Table E.1-1 (Basic Application Level Confidentiality Profile) [S]
+  // unless marked "from memory"; where the table offers a choice Emberline takes the strictest.
   it.each([
     { tag: '00100010', name: 'Patient Name', outcome: 'zero-length', source: 'Z' },
     { tag: '00100020', name: 'Patient ID', outcome: 'zero-length', source: 'Z, from memory' },

@@ -2,7 +2,7 @@
  * Needle plans through the API on the demo hospital, with the invented CT of sample-data/ on
  * NLB-2026-014 (seeded through the upload code): drafting, listing, changing, submitting and
  * deleting; the refusals, each naming its field (RFC 9457 problem details); visibility by board
- * exactly as for cases (DESIGN.md §2: 404 out of reach, 403 for a forbidden action on a
+ * exactly as for cases (DEVELOPERS.md, "Roles": 404 out of reach, 403 for a forbidden action on a
  * visible case); the audit trail; and the demo plans against the analytic invented anatomy.
  */
 import { mkdtempSync, rmSync } from 'node:fs';
@@ -547,7 +547,8 @@ describe('the demo plans', () => {
     expect(pastVein).toBeGreaterThan(0);
     expect(pastVein).toBeLessThan(3);
     // The right hepatic vein is 6 mm across: above the 3 mm heat-sink diameter of Lu DSK et al.,
-    // AJR 2002;178:47 (REFERENCES.md).
+    // "Effect of vessel size on creation of hepatic radiofrequency lesions in pigs", AJR
+    // 2002;178:47.
     const rightVein = HEPATIC_VEIN.branches.find((branch) => branch.name === 'right');
     expect((rightVein?.radiusMm ?? 0) * 2).toBeGreaterThan(3);
   });

@@ -19,9 +19,9 @@ import { insertSeriesRow, planBody, safetyBody } from './plan-fixtures';
 
 /**
  * Every role and an anonymous client against every route of the foundation, one expected status a
- * cell (DESIGN.md §2: access is per board; a case out of reach answers 404, a forbidden action on
- * a visible case 403; OWASP ASVS 5.0 §8 access control). Cells run in order within a role, on a
- * fresh copy of the demo; the deleting routes come last.
+ * cell (DEVELOPERS.md, "Roles": access is per board; a case out of reach answers 404, a forbidden
+ * action on a visible case 403; OWASP ASVS 5.0 §8 access control). Cells run in order within a
+ * role, on a fresh copy of the demo; the deleting routes come last.
  */
 const who = [
   'anonymous',

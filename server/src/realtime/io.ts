@@ -1,7 +1,8 @@
 /**
  * Socket.IO on the HTTP server. A socket is authenticated from the same session cookie as the
  * HTTP API (express-session runs on the handshake request) and refused without a signed-in,
- * active user; every event is then authorised on its own (STYLE.md, Realtime).
+ * active user; every event is then authorised on its own (DEVELOPERS.md, "A feature, end to
+ * end").
  */
 import type { Server as HttpServer } from 'node:http';
 import type { RequestHandler, Request } from 'express';

@@ -13,7 +13,7 @@ export const primaryDiagnosisLabels: Record<PrimaryDiagnosis, string> = {
 export const sexes = ['female', 'male', 'other', 'unknown'] as const;
 export type Sex = (typeof sexes)[number];
 
-/** Case states of DESIGN.md §4, in order. */
+/** Case states, in order (DEVELOPERS.md, "The product's shape"). */
 export const caseStatuses = [
   'draft',
   'ready-for-board',
@@ -33,7 +33,7 @@ export const caseStatusLabels: Record<CaseStatus, string> = {
   treated: 'Treated',
   'follow-up-due': 'Follow-up due',
 };
-/** States in which a nurse coordinator sees a case (DESIGN.md §2: "see decided cases"). */
+/** States in which a nurse coordinator sees a case: once the board has decided it. */
 export const coordinatorVisibleStatuses: readonly CaseStatus[] = [
   'decided',
   'booked',

@@ -62,7 +62,7 @@ export interface SeriesOrientation {
   sliceNormalLps: Vec3;
 }
 
-/** One stored series of a case (DESIGN.md §6), de-identified. */
+/** One stored series of a case, de-identified. */
 export interface ImageSeriesView {
   id: string;
   caseId: string;

@@ -1,11 +1,11 @@
 /**
- * Needle plans (DESIGN.md §4, §5): one or more applicators, each an entry and a target point in
- * patient LPS millimetres on one series of the case, with its profile, power and time.
+ * Needle plans: one or more applicators, each an entry and a target point in patient LPS
+ * millimetres on one series of the case, with its profile, power and time.
  */
 import { z } from 'zod';
 import type { Vec3 } from '../geometry/vector';
 
-/** Needle plan states of DESIGN.md §4. */
+/** Needle plan states, in order (DEVELOPERS.md, "The product's shape"). */
 export const planStatuses = [
   'draft',
   'submitted',

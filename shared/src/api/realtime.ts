@@ -1,7 +1,7 @@
 /**
- * Socket.IO event maps (STYLE.md: `domain:verb`, broadcasts `domain:past-tense`). The server
- * authenticates a socket from the same session cookie as the HTTP API and authorises every
- * event against the sender's role and boards.
+ * Socket.IO event maps (DEVELOPERS.md, "Naming": `domain:verb`, pushed events
+ * `domain:past-tense`). The server authenticates a socket from the same session cookie as the
+ * HTTP API and authorises every event against the sender's role and boards.
  */
 import type { AssessmentStatus } from './assessments';
 

@@ -1,4 +1,7 @@
-/** Roles of DESIGN.md §2. Sign-in decides what each may do; board membership decides what each may see. */
+/**
+ * Roles (DEVELOPERS.md, "The product's shape"). Sign-in decides what each may do; board
+ * membership decides what each may see.
+ */
 export const roles = [
   'presenting-physician',
   'board-member',
@@ -16,7 +19,7 @@ export const roleLabels: Record<Role, string> = {
   administrator: 'Administrator',
 };
 
-/** Specialties a board membership may carry (DESIGN.md §1). */
+/** Specialties a board membership may carry: the disciplines of a liver-tumour board. */
 export const specialties = [
   'hepatobiliary-surgery',
   'interventional-radiology',

@@ -1,6 +1,6 @@
 /**
- * Structures API: the labelled structures of an image series (DESIGN.md §6) and the wire format
- * of its stored label map.
+ * Structures API: the labelled structures of an image series and the wire format of its
+ * stored label map.
  *
  * A label map travels as one binary body, `application/octet-stream`, laid out as
  *   bytes 0–7     the ASCII magic `EMBERLBL`
@@ -13,7 +13,10 @@
 import { z } from 'zod';
 import { decodeStoredFilePreamble, encodeStoredFilePreamble } from './stored-file-preamble';
 
-/** The kinds a label may stand for: the identifiers of DESIGN.md §6. */
+/**
+ * The kinds a label may stand for, by the identifiers used in the API, the code and the files
+ * (DEVELOPERS.md, "Structure kinds").
+ */
 export const structureKinds = [
   'tumour',
   'liver',

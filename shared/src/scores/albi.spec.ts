@@ -4,7 +4,7 @@ import { albuminToGL, bilirubinToUmolL } from './units';
 
 const JOHNSON_2015 = 'Johnson PJ et al., J Clin Oncol 2015;33:550';
 
-describe(`worked examples, ${JOHNSON_2015}; REFERENCES.md [C]`, () => {
+describe(`worked examples computed from the formula of ${JOHNSON_2015} [C]`, () => {
   it.each([
     { bilirubinUmolL: 10, albuminGL: 40, score: -2.74, grade: 1 },
     { bilirubinUmolL: 20, albuminGL: 35, score: -2.116, grade: 2 },

@@ -5,8 +5,8 @@ import type { ChildPughClass } from './child-pugh';
  * Only ever a suggestion: the board and the treating team decide, and every suggestion
  * carries `BCLC_CAUTION`.
  *
- * From the cited source (REFERENCES.md): 0 very early is a single nodule ≤ 2 cm with preserved
- * liver function and ECOG 0; A early is a single nodule, or up to 3 nodules each ≤ 3 cm;
+ * From the cited source: 0 very early is a single nodule ≤ 2 cm with preserved liver function
+ * and ECOG 0; A early is a single nodule, or up to 3 nodules each ≤ 3 cm;
  * B intermediate is multinodular (three subgroups); C advanced is portal invasion or
  * extrahepatic spread, ECOG 1–2; D is end stage.
  *

@@ -13,7 +13,7 @@ const NORMAL: ChildPughInput = {
   encephalopathy: 'none',
 };
 
-describe(`worked examples, ${PUGH}; REFERENCES.md [C]`, () => {
+describe(`worked examples computed from the ${PUGH} [C]`, () => {
   it('scores all-normal values as 5 points, class A', () => {
     expect(childPughScore(NORMAL)).toEqual({ points: 5, class: 'A' });
   });

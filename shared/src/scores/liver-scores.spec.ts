@@ -25,9 +25,10 @@ const NORMAL: LiverScoreInput = {
 };
 
 /**
- * REFERENCES.md worked examples [C]: Cr 1.0, bili 1.5, INR 1.5, Na 135 → MELD 13, MELD-Na 15
- * (UNOS/OPTN MELD policy; Kim 2008); with albumin 3.0 and mild ascites Child-Pugh 7 B (Pugh
- * 1973 standard table); ALBI for 25.65 µmol/L and 30 g/L is −1.620, grade 2 (Johnson 2015 [C]).
+ * Worked examples computed from the formulas [C]: Cr 1.0, bili 1.5, INR 1.5, Na 135 → MELD 13,
+ * MELD-Na 15 (UNOS/OPTN MELD policy; Kim 2008); with albumin 3.0 and mild ascites Child-Pugh
+ * 7 B (Pugh 1973 standard table); ALBI for 25.65 µmol/L and 30 g/L is −1.620, grade 2
+ * (Johnson 2015 [C]).
  */
 const MODERATE: LiverScoreInput = {
   ...NORMAL,

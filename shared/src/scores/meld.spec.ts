@@ -8,7 +8,7 @@ function labs(creatinineMgDl: number, bilirubinMgDl: number, inr: number): MeldI
   return { creatinineMgDl, bilirubinMgDl, inr, dialysisTwiceInPastWeek: false };
 }
 
-describe(`worked examples, REFERENCES.md [C] from the formulas of ${UNOS} and ${KIM_2008}`, () => {
+describe(`worked examples computed from the formulas of ${UNOS} and ${KIM_2008} [C]`, () => {
   it.each([
     { creatinine: 2.7, bilirubin: 1.5, inr: 1.1, sodium: 135, meld: 19, meldNa: 20 },
     { creatinine: 1.0, bilirubin: 1.5, inr: 1.5, sodium: 135, meld: 13, meldNa: 15 },

@@ -1,9 +1,11 @@
 /**
- * MELD and MELD-Na as the UNOS/OPTN policy computed them from 2016 (REFERENCES.md,
- * "Liver-function scores"). OPTN has allocated with MELD 3.0 since 2023 (from memory); these
- * two scores remain the ones tumour boards quote and the ones the references check.
+ * MELD and MELD-Na as the UNOS/OPTN policy computed them from 2016 (MELD: UNOS/OPTN policy,
+ * after Kamath PS et al., Hepatology 2001, from memory; MELD-Na: Kim WR et al., N Engl J Med
+ * 2008;359:1018). OPTN has allocated with MELD 3.0 since 2023 (from memory); these two scores
+ * remain the ones tumour boards quote and the ones the published worked examples use.
  *
- * Order of operations, chosen so that the worked examples in REFERENCES.md all hold:
+ * Order of operations, chosen so that the worked examples of meld.spec.ts (computed by hand
+ * from those formulas) all hold:
  * 1. Creatinine, bilirubin and INR below 1 are raised to 1; creatinine above 4.0 mg/dL, or any
  *    creatinine after dialysis at least twice in the past week, becomes 4.0 mg/dL.
  * 2. MELD(i) = 0.957 ln(Cr) + 0.378 ln(bili) + 1.120 ln(INR) + 0.643, rounded to the tenth and

@@ -10,8 +10,8 @@ import {
   type Measured,
 } from './units';
 
-// Factors: bilirubin 17.1, creatinine 88.4 (REFERENCES.md, "Liver-function scores"; common
-// practice), albumin 10 (definition of the units).
+// Factors: bilirubin 17.1, creatinine 88.4 (common practice: the usual laboratory conversion
+// factors), albumin 10 (definition of the units).
 describe('bilirubin conversion, 1 mg/dL = 17.1 µmol/L (common practice)', () => {
   it.each([
     { value: 1, expectedUmolL: 17.1 },

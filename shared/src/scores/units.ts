@@ -1,7 +1,7 @@
 /**
  * Laboratory unit conversions for the liver-function scores.
  *
- * Factors (common practice; REFERENCES.md "Liver-function scores"):
+ * Factors (common practice, as used with the ALBI and MELD formulas):
  * - bilirubin: 1 mg/dL = 17.1 µmol/L (molar mass about 584.7 g/mol),
  * - creatinine: 1 mg/dL = 88.4 µmol/L (molar mass about 113.1 g/mol),
  * - albumin: 1 g/dL = 10 g/L (exact).

@@ -17,7 +17,10 @@ import { LabPanel } from './lab-panel.entity';
 import { Lesion } from './lesion.entity';
 import { CaseRepository } from './case.repository';
 
-/** A patient's case before the board; demographics kept minimal (DESIGN.md §3). */
+/**
+ * A patient's case before the board; demographics kept minimal (case code, year of birth, sex),
+ * never a name or a hospital number.
+ */
 @Entity({ tableName: 'clinical_case', repository: () => CaseRepository })
 export class ClinicalCase extends BaseEntity {
   [EntityRepositoryType]?: CaseRepository;

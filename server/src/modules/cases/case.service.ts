@@ -44,9 +44,10 @@ type CreateLesion = z.output<typeof createLesionSchema>;
 type CreateLabPanel = z.output<typeof createLabPanelSchema>;
 
 /**
- * Case rules (DESIGN.md §2): a case is seen only by members of its board; clinicians see every
- * state, a nurse coordinator only decided ones; the presenting physician edits own cases.
- * A case the user may not see answers 404, a forbidden action on a visible case 403.
+ * Case rules (DEVELOPERS.md, "The product's shape"): a case is seen only by members of its
+ * board; clinicians see every state, a nurse coordinator only decided ones; the presenting
+ * physician edits own cases. A case the user may not see answers 404, a forbidden action on a
+ * visible case 403.
  */
 export class CaseService {
   constructor(

@@ -13,7 +13,8 @@
  * Where the table offers a choice ("X/Z/D"), the rule takes the strictest one allowed.
  *
  * Where each rule comes from:
- *   'references'  listed in /work/shared/REFERENCES.md ("DICOM and NIfTI"), seen in the standard
+ *   'references'  seen in the standard's Table E.1-1 and checked by the tests that cite it
+ *                 (test/integration/imaging.spec.ts)
  *   'memory'      an entry of Table E.1-1 as remembered, to be checked against the current table
  *   'retained'    not an attribute the profile removes: geometry, pixel description and
  *                 acquisition technique a viewer or a plan needs, kept explicitly

@@ -20,8 +20,8 @@ export interface AppliedRescale {
 }
 
 /**
- * A de-identified image series of a case (DESIGN.md §5–§6): the grid in patient space (LPS,
- * millimetres; DICOM PS3.3 C.7.6.2.1.1), the stored volume (int16 in the file store under
+ * A de-identified image series of a case: the grid in patient space (LPS, millimetres;
+ * DICOM PS3.3 C.7.6.2.1.1), the stored volume (int16 in the file store under
  * `storageKey`) and the cleaned header of its first slice. UIDs are the case's replacements.
  */
 @Entity({ tableName: 'image_series' })

@@ -54,7 +54,7 @@ function littleEndianBytes(voxels: Int16Array): Uint8Array {
 }
 
 /**
- * Image series of a case (DESIGN.md §6). Seen by whoever sees the case (a case out of reach
+ * Image series of a case (README.md here). Seen by whoever sees the case (a case out of reach
  * answers 404); uploaded by the case's presenting physician only (403 for anyone else who sees
  * it). An upload is read in a worker, checked, de-identified in memory, and only then written:
  * the volume to the file store (atomically), then the series row and its audit event.

@@ -99,7 +99,7 @@ function storedVoxels(
 }
 
 /**
- * Structures of a series (DESIGN.md §5–§6), from a label map on the series' own grid. Seen by
+ * Structures of a series, from a label map on the series' own grid (README.md here). Seen by
  * whoever sees the series' case (404 otherwise); imported and renamed by the case's presenting
  * physician only (403 for anyone else who sees it). An import is checked whole before anything
  * is written; then the label map goes to the file store (atomically) and the rows and the

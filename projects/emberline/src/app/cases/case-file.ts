@@ -13,7 +13,10 @@ import { CaseApi } from './case-api';
 import { CaseFileState } from './case-file-state';
 import { CaseStatusBadge } from './case-status-badge';
 
-/** The sections of a case file, in order (DESIGN.md §3); the others follow as they are built. */
+/**
+ * The sections of a case file, in order (DEVELOPERS.md, "Screens"); the others follow as they
+ * are built.
+ */
 export const caseFileSections: readonly { path: string; label: string }[] = [
   { path: 'summary', label: 'Summary' },
   { path: 'imaging', label: 'Imaging' },

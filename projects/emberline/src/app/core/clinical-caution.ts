@@ -2,7 +2,7 @@ import { ChangeDetectionStrategy, Component, input } from '@angular/core';
 import { MatIcon } from '@angular/material/icon';
 import { clinicalCaution } from '@emberline/shared';
 
-/** The caution every score, suggestion and verdict carries (DESIGN.md §1). */
+/** The caution every score, suggestion and verdict carries (`clinicalCaution` of shared/). */
 @Component({
   selector: 'em-clinical-caution',
   imports: [MatIcon],

@@ -8,7 +8,10 @@ import {
   fittedViewport,
 } from './slice-viewport';
 
-/** REFERENCES.md worked example [C]: IPP (−175, −200, 50), IOP (1,0,0, 0,1,0), spacing [0.7, 0.8]. */
+/**
+ * Worked example computed from DICOM PS3.3 C.7.6.2.1.1 [C]: IPP (−175, −200, 50),
+ * IOP (1,0,0, 0,1,0), Pixel Spacing [0.7, 0.8].
+ */
 const axialGrid: VolumeGeometry = {
   dimensions: [200, 120, 40],
   spacingMm: [0.8, 0.7, 2.5],
@@ -94,7 +97,7 @@ describe('slice view axes', () => {
 
 describe('slice viewport', () => {
   it('maps the view centre of the coronal example to the worked voxel position (−170, 30, 85)', () => {
-    // REFERENCES.md [C]: coronal IOP, IPP (−250, 30, 120), spacing [0.7, 0.8]: voxel
+    // DICOM PS3.3 C.7.6.2.1.1 [C]: coronal IOP, IPP (−250, 30, 120), spacing [0.7, 0.8]: voxel
     // (i 100, j 50) lies at (−170, 30, 85). Centre the coronal view there and click its middle.
     const axes = sliceAxesOf(coronalGrid).coronal;
     const worked = voxelToLps(coronalGrid, [100, 50, 0]);

@@ -35,7 +35,7 @@ import { VolumeView } from './volume-view';
 import { hasWebGl2, noWebGl2Message } from './webgl-support';
 
 /**
- * The case viewer of one series (DESIGN.md §6): axial, coronal and sagittal slices and the 3D
+ * The case viewer of one series (README.md here): axial, coronal and sagittal slices and the 3D
  * view, the structures over them, the display window, the distance measurement, and the
  * drafting of needle plans with live clearance, and the assessed zones and margins of the plan
  * shown. Route `/cases/:id/imaging/:seriesId/viewer`,

@@ -28,7 +28,9 @@ function lightness([r, g, b]: Rgb): number {
 const apart = (a: Rgb, b: Rgb) => Math.hypot(a[0] - b[0], a[1] - b[1], a[2] - b[2]);
 
 describe('margin colour scale', () => {
-  // DESIGN.md §1 and REFERENCES.md: a 5 mm minimal ablative margin target (Wang, CVIR 2013).
+  // A 5 mm minimal ablative margin target, common practice (Wang X et al., "Margin size is an
+  // independent predictor of local tumor progression after ablation of colon cancer liver
+  // metastases", Cardiovasc Intervent Radiol 2013;36:166).
   const scale = marginScaleFor(5);
 
   it('spans as far below 0 as the target lies above it, and the target again above it', () => {

@@ -181,7 +181,7 @@ export class ZoneOverlay {
     );
   }
 
-  /** The primary model's zone and margins show first (DESIGN.md §7: the one coverage uses). */
+  /** The primary model's zone and margins show first: the one the verdict's coverage uses. */
   private showFirst(assessment: AssessmentView, display: AssessmentDisplay): void {
     const primary = assessment.result?.primaryZoneModel ?? 'table';
     const models = display.zones.map((zone) => zone.model);

@@ -85,8 +85,10 @@ const hollowOrganClearance = '10 mm from bowel or gallbladder: common practice, 
 export const demoSafetyProfileName = 'Demo default thresholds (invented)';
 
 /**
- * The invented default safety profile. Thresholds of REFERENCES.md "Ablation planning facts";
- * where the literature gives no figure the value is an Emberline default, marked so.
+ * The invented default safety profile. Each threshold names its published source in its
+ * `…Source` field (Wang X et al., Cardiovasc Intervent Radiol 2013; Shady W et al., J Vasc Interv
+ * Radiol 2018; Lu DSK et al., AJR 2002; Huang S et al., Eur J Radiol 2014) or says "common
+ * practice"; where the literature gives no figure the value is an Emberline default, marked so.
  */
 export const demoSafetyProfile: SafetyProfileBody = {
   name: demoSafetyProfileName,

@@ -1,6 +1,6 @@
 /**
- * Applicator profiles (DESIGN.md §5): what an ablation applicator is and the zone its maker's
- * table promises. Administrators manage them; plans refer to them by id.
+ * Applicator profiles (DEVELOPERS.md, "Data model"): what an ablation applicator is and the
+ * zone its maker's table promises. Administrators manage them; plans refer to them by id.
  *
  * A zone table row says: at `powerW` for `timeS` the zone is an ellipsoid `zoneLengthMm` long
  * along the shaft and `zoneWidthMm` across it, its centre `tipOffsetMm` behind the tip towards

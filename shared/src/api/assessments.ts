@@ -1,7 +1,7 @@
 /**
- * Plan assessments (DESIGN.md §7, issue "Plan assessment"): the queued job and its result. The
- * result shape is what the engine in `shared/src/assessment` returns and what the plan
- * comparison shows; structure kinds use the identifiers of DESIGN.md §6.
+ * Plan assessments: the queued job and its result. The result shape is what the engine in
+ * `shared/src/assessment` returns and what the plan comparison shows; structure kinds use the
+ * identifiers of `structureKinds` (DEVELOPERS.md, "Structure kinds").
  */
 import type { StructureKind } from './structures';
 

@@ -1,7 +1,7 @@
 /**
- * Safety profiles (DESIGN.md §5, §7.5): the thresholds that turn an assessment's figures into a
- * verdict. Administrators edit them; one is the default for new assessments. Every threshold
- * carries where it comes from, so the board can weigh it.
+ * Safety profiles (DEVELOPERS.md, "Data model"): the thresholds that turn an assessment's
+ * figures into a verdict. Administrators edit them; one is the default for new assessments.
+ * Every threshold carries where it comes from, so the board can weigh it.
  */
 import { z } from 'zod';
 import { structureKinds, type StructureKind } from './structures';

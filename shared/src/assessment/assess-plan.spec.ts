@@ -178,7 +178,7 @@ describe('assessPlan on an analytic phantom', async () => {
   });
 
   it('covers the tumour with the margin of a sphere in an ellipsoid, b − r', () => {
-    // REFERENCES.md "Volumes": a concentric sphere in an ellipsoid has margin min(a, b) − r;
+    // Elementary geometry: a concentric sphere in an ellipsoid has margin min(a, b) − r;
     // here 16 − 8 = 8 mm, within 2h (coverage.spec.ts).
     const [zone] = result.zones;
     expect(zone.model).toBe('table');

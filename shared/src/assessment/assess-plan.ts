@@ -1,5 +1,5 @@
 /**
- * The plan assessment (DESIGN.md §7): trajectory safety of every applicator, the ablation zone
+ * The plan assessment: trajectory safety of every applicator, the ablation zone
  * from the zone table (and from physics when asked), coverage of the tumours treated, heat-sink
  * vessels and the verdict of the safety profile — pure computation, the same in the browser and
  * in a server worker. Positions LPS, millimetres; volumes millilitres.

@@ -73,7 +73,7 @@ function sphereLabels(centreLps: Vec3, radiusMm: number): Uint8Array {
 
 describe('assessCoverage', () => {
   // A sphere of radius r concentric with an ellipsoid of semi-axes a ≥ b: the margin is b − r
-  // (REFERENCES.md "Volumes": r = 10 mm in R = 15 mm → 5 mm), here on an oblique shaft.
+  // (elementary geometry [C]: r = 10 mm in R = 15 mm → 5 mm), here on an oblique shaft.
   const shaft = normalize([1, 2, 2]);
   const concentricZone = tableZoneEllipsoid(
     addScaled(centre, shaft, -60),
@@ -93,7 +93,7 @@ describe('assessCoverage', () => {
   });
 
   it('reads R − r at every surface voxel of a tumour concentric with a spherical zone', () => {
-    // Concentric r = 10 mm in R = 15 mm: 5 mm all round (REFERENCES.md "Volumes"), so the
+    // Concentric r = 10 mm in R = 15 mm: 5 mm all round (elementary geometry), so the
     // whole surface is under a 6 mm target and none of it under a 4 mm one.
     const sphere = tableZoneEllipsoid(addScaled(centre, shaft, -60), centre, {
       zoneLengthMm: 30,

@@ -1,5 +1,5 @@
 /**
- * Coverage of the tumours by an ablation zone (DESIGN.md §7.3): per tumour its volume, the
+ * Coverage of the tumours by an ablation zone: per tumour its volume, the
  * share of its voxels inside the zone, the minimal ablative margin (the smallest local margin
  * over all its voxels, negative where tumour lies outside the zone; zone-field.ts `marginAt`),
  * the share of its surface voxels whose local margin falls short of the target, and each

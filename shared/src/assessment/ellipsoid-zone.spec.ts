@@ -77,7 +77,7 @@ describe('rasteriseEllipsoids', () => {
   const geometry = grid([90, 70, 60], [0.5, 0.5, 0.6], [-20.13, -15.07, -17.91]);
 
   it('gives an oblique ellipsoid the volume 4/3·π·a·b²', () => {
-    // Ellipsoid volume 4/3·π·abc (REFERENCES.md "Volumes").
+    // Ellipsoid volume 4/3·π·abc (elementary geometry).
     const zone = tableZoneEllipsoid([-30, -25, -20], [3, 2, 1.5], {
       zoneLengthMm: 34,
       zoneWidthMm: 22,

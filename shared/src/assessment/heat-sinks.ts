@@ -1,5 +1,5 @@
 /**
- * Heat-sink vessels beside an ablation zone (DESIGN.md §7.3): the parts of vessels of the
+ * Heat-sink vessels beside an ablation zone: the parts of vessels of the
  * safety profile's heat-sink kinds whose local diameter (vessel-calibre.ts) reaches
  * `heatSinkDiameterMm` and whose wall lies within `heatSinkDistanceMm` of the zone's surface.
  * Flowing blood in veins of 3 mm and more cooled the zone in 73 % of cases, in none below

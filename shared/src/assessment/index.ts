@@ -1,4 +1,5 @@
-// The plan assessment engine (DESIGN.md §7): pure computation shared by browser and server.
+// The plan assessment engine (server/src/modules/assessments/README.md runs it): pure
+// computation shared by browser and server.
 export * from './engine-refusal';
 export * from './zone-table';
 export * from './ellipsoid-zone';

@@ -23,7 +23,7 @@ export interface PathProfile {
 }
 
 /**
- * Kinds a path may run through inside the liver (DESIGN.md §6): a run of them with liver or
+ * Kinds a path may run through inside the liver: a run of them with liver or
  * tumour on both sides lies within the liver, not outside it.
  */
 const INTRAHEPATIC_KINDS: readonly StructureKind[] = [

@@ -1,5 +1,5 @@
 /**
- * Trajectory safety of one applicator (DESIGN.md §7.1): along the straight path from entry to
+ * Trajectory safety of one applicator: along the straight path from entry to
  * tip, sampled every ≤ 0.5 mm, the nearest distance to every structure kind and where it lies,
  * the structures traversed (critical or not, by the safety profile), the path length against
  * the working length, the angle from the axial plane, liver capsule crossings and the

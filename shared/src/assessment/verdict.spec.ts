@@ -4,7 +4,8 @@ import type { SafetyProfileBody } from '../api/safety-profiles';
 import { judgePlan, verdictRules, type VerdictFigures } from './verdict';
 
 // The rules come from the safety profile contract (shared/src/api/safety-profiles.ts) and
-// DESIGN.md §7.5; the thresholds below are invented for the test, not recommendations.
+// the verdict levels of DEVELOPERS.md ("States"); the thresholds below are invented for the
+// test, not recommendations.
 const profile: SafetyProfileBody = {
   name: 'Test profile',
   structureRules: [

@@ -1,5 +1,5 @@
 /**
- * The verdict (DESIGN.md §7.5): the safety profile's rules applied to the assessment's figures,
+ * The verdict: the safety profile's rules applied to the assessment's figures,
  * each reason naming its rule, the kind concerned, the value against the threshold and a
  * message with units. Any refusal makes the plan not acceptable; otherwise any caution makes
  * it acceptable with cautions. The thresholds, and where they come from, belong to the editable

@@ -57,6 +57,8 @@ export const demoApplicatorProfiles: CreateApplicatorProfile[] = [
       row(80, 360, 38, 29, 8),
       row(80, 600, 45, 35, 9),
     ],
+    zoneTableSource: 'manufacturer',
+    zoneTableReference: 'Invented data sheet for the demo; not a real device.',
     notes: inventedNote,
   },
   {
@@ -73,6 +75,8 @@ export const demoApplicatorProfiles: CreateApplicatorProfile[] = [
       row(200, 360, 30, 24, 9),
       row(200, 720, 35, 28, 9),
     ],
+    zoneTableSource: 'ex-vivo',
+    zoneTableReference: 'Invented bench series for the demo; not a real device.',
     notes: inventedNote,
   },
 ];
@@ -155,6 +159,10 @@ export const demoSafetyProfile: SafetyProfileBody = {
     'from memory.',
   maximumCapsuleCrossings: 1,
   capsuleSource: 'One capsule puncture per applicator: common practice.',
+  physicsToleranceMm: 2,
+  physicsToleranceSource:
+    'Team choice for the demo: the heating model must predict a zone-table row it was not ' +
+    'fitted to within 2 mm (leave-one-out) before its zone decides the verdict.',
   isDefault: true,
 };
 

@@ -94,6 +94,7 @@ export function createApp(services: Services): Express {
         services.assessments?.displays ??
         assessmentStores(imagingSettingsFromEnvironment().fileStoreDir).displays,
       isBioheatRequested: true,
+      log: services.log,
     }),
   );
   app.use('/api/admin', adminRoutes(orm));

@@ -32,7 +32,9 @@ const app = createApp({ orm, sessionPool, config, log: logger.error, session, as
 const port = Number(process.env.PORT ?? 4300);
 const host = process.env.HOST ?? '127.0.0.1';
 const server = createServer(app);
-const io = createRealtimeServer(server, { orm, config, session }, [assessmentSocketFeature(orm)]);
+const io = createRealtimeServer(server, { orm, config, session }, [
+  assessmentSocketFeature(orm, logger.error),
+]);
 const progress = new AssessmentProgressListener(databaseUrl(), relayProgress(io), logger.error);
 await progress.start();
 server.listen(port, host, () => logger.info(`Emberline listening on http://${host}:${port}`));

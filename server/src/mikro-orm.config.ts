@@ -17,6 +17,8 @@ import { NeedlePlan } from './modules/plans/needle-plan.entity';
 import { SafetyProfile } from './modules/plans/safety-profile.entity';
 import { SamlAssertionSeen } from './modules/saml/saml-assertion.entity';
 import { SamlRequest } from './modules/saml/saml-request.entity';
+import { ApplicatorProfileVersion } from './modules/plans/applicator-profile-version.entity';
+import { SafetyProfileVersion } from './modules/plans/safety-profile-version.entity';
 import { HttpSession } from './modules/sessions/http-session.entity';
 import { RolePolicy } from './modules/users/role-policy.entity';
 import { User } from './modules/users/user.entity';
@@ -41,7 +43,9 @@ export const entities = [
   LabelMap,
   Structure,
   ApplicatorProfile,
+  ApplicatorProfileVersion,
   SafetyProfile,
+  SafetyProfileVersion,
   NeedlePlan,
   Assessment,
 ];

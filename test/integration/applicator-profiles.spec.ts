@@ -31,7 +31,9 @@ async function signedIn(email: string): Promise<ApiClient> {
   return client;
 }
 
-const newProfile = (overrides: Partial<CreateApplicatorProfile> = {}): CreateApplicatorProfile => ({
+const newProfile = (
+  overrides: Partial<CreateApplicatorProfile> = {},
+): CreateApplicatorProfile => ({
   name: 'Test microwave 15 G',
   modality: 'microwave',
   gaugeG: 15,
@@ -41,6 +43,7 @@ const newProfile = (overrides: Partial<CreateApplicatorProfile> = {}): CreateApp
     { powerW: 50, timeS: 300, zoneLengthMm: 30, zoneWidthMm: 22, tipOffsetMm: 6 },
     { powerW: 70, timeS: 300, zoneLengthMm: 35, zoneWidthMm: 26, tipOffsetMm: 7 },
   ],
+  zoneTableSource: 'manufacturer',
   notes: 'Invented for a test.',
   ...overrides,
 });

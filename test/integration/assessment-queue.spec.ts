@@ -231,7 +231,7 @@ describe('progress over Socket.IO', () => {
         config: testApp.config,
         session: sessionMiddleware(testApp.config, sessionPool),
       },
-      [assessmentSocketFeature(testApp.orm)],
+      [assessmentSocketFeature(testApp.orm, (message) => testApp.logs.push(message))],
     );
     listener = new AssessmentProgressListener(
       inject('databaseUrl'),

@@ -50,6 +50,19 @@ export const zoneTableSchema = z
     });
   });
 
+/**
+ * Where a profile's zone table comes from, so that the board can weigh it: measured in excised
+ * tissue, measured in living tissue, the maker's data sheet, or the institution's own experience.
+ */
+export const zoneTableSources = ['ex-vivo', 'in-vivo', 'manufacturer', 'institutional'] as const;
+export type ZoneTableSource = (typeof zoneTableSources)[number];
+export const zoneTableSourceLabels: Record<ZoneTableSource, string> = {
+  'ex-vivo': 'Ex vivo measurements',
+  'in-vivo': 'In vivo measurements',
+  manufacturer: "Manufacturer's data",
+  institutional: 'Institutional experience',
+};
+
 /** POST /api/admin/applicator-profiles, and the whole body of a PUT/PATCH. */
 export const createApplicatorProfileSchema = z
   .strictObject({
@@ -59,6 +72,9 @@ export const createApplicatorProfileSchema = z
     workingLengthMm: positive('Working length (mm)').max(400),
     activeLengthMm: positive('Active length (mm)').max(80),
     zoneTable: zoneTableSchema,
+    zoneTableSource: z.enum(zoneTableSources, { error: 'Say where the zone table comes from' }),
+    /** The reference or the note behind the zone table (a paper, a data-sheet revision…). */
+    zoneTableReference: z.string().trim().max(300).optional(),
     notes: z.string().trim().max(2000).optional(),
   })
   .refine((profile) => profile.activeLengthMm < profile.workingLengthMm, {
@@ -75,6 +91,8 @@ export const updateApplicatorProfileSchema = z.strictObject({
   workingLengthMm: positive('Working length (mm)').max(400).optional(),
   activeLengthMm: positive('Active length (mm)').max(80).optional(),
   zoneTable: zoneTableSchema.optional(),
+  zoneTableSource: z.enum(zoneTableSources).optional(),
+  zoneTableReference: z.string().trim().max(300).optional(),
   notes: z.string().trim().max(2000).optional(),
   isRetired: z.boolean().optional(),
 });
@@ -88,6 +106,13 @@ export interface ApplicatorProfileView {
   workingLengthMm: number;
   activeLengthMm: number;
   zoneTable: ZoneTableRow[];
+  zoneTableSource: ZoneTableSource;
+  zoneTableReference: string | null;
+  /**
+   * The version the profile is at. An edit of a version that an assessment used makes a new
+   * version; assessments keep the one they ran on.
+   */
+  version: number;
   notes: string | null;
   /** Retired profiles stay readable for the plans that use them but cannot be chosen anew. */
   isRetired: boolean;

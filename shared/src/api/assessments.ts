@@ -3,6 +3,7 @@
  * `shared/src/assessment` returns and what the plan comparison shows; structure kinds use the
  * identifiers of `structureKinds` (DEVELOPERS.md, "Structure kinds").
  */
+import type { AssessmentInputsView, InputChange } from './assessment-snapshot';
 import type { StructureKind } from './structures';
 
 export const assessmentStatuses = ['queued', 'running', 'done', 'failed'] as const;
@@ -21,8 +22,19 @@ export type ZoneModel = (typeof zoneModels)[number];
 
 export interface KindClearance {
   kind: StructureKind;
-  /** Nearest distance from the path (entry to tip) to the structure's surface, mm; 0 inside. */
+  /**
+   * Nearest distance from the path (entry to tip) to the structure as labelled: to the faces of
+   * its voxels (the boundary of the union of their cells), mm; 0 where the path touches or
+   * enters one.
+   */
   minDistanceMm: number;
+  /**
+   * Conservative bound on the clearance, mm: the distance to the structure's voxels each
+   * widened by one voxel on every side, as if its true surface lay up to a voxel beyond the
+   * labelled one (along an axis: `minDistanceMm` less the spacing along it); never below 0.
+   * Absent in results of engine versions before 1.1.0.
+   */
+  lowerBoundMm?: number;
   /** Where along the path (mm from the entry) the nearest distance occurs. */
   atMm: number;
 }
@@ -47,15 +59,33 @@ export interface ApplicatorSafety {
   capsuleCrossings: number;
   /** Liver parenchyma (liver, not tumour) crossed before the path first enters a tumour, mm. */
   parenchymaBeforeTumourMm: number | null;
+  /**
+   * Conservative bound on `parenchymaBeforeTumourMm`, mm: less one voxel's extent along the
+   * path at each of its two ends (liver surface, tumour surface) and the sampling step; null
+   * with it. Absent in results of engine versions before 1.1.0.
+   */
+  parenchymaBeforeTumourLowerMm?: number | null;
 }
 
 export interface TumourCoverage {
   structureId: string;
   volumeMl: number;
   coveredPercent: number;
-  /** Smallest distance from the tumour surface to the zone surface, mm; negative when uncovered. */
+  /**
+   * Smallest distance from the tumour surface (the faces of its labelled voxels) to the zone
+   * surface, mm; negative when part of the tumour lies outside the zone.
+   */
   minimalMarginMm: number;
-  /** Share of the tumour surface whose local margin is under the profile's target, percent. */
+  /**
+   * Conservative bound on the minimal margin, mm: as if the tumour's true surface lay up to a
+   * voxel beyond its labelled voxels, less the zone model's own `boundaryErrorMm`. Absent in
+   * results of engine versions before 1.1.0.
+   */
+  minimalMarginLowerMm?: number;
+  /**
+   * Share of the tumour surface area whose local margin is under the profile's target, percent
+   * (faces of the labelled voxels, each weighted by its area).
+   */
   surfaceBelowTargetPercent: number;
 }
 
@@ -66,6 +96,12 @@ export interface CollateralVolume {
 
 export interface ZoneAssessment {
   model: ZoneModel;
+  /**
+   * How far the model's zone surface may lie from where it is read, mm: taken off every
+   * conservative margin bound. 0 for the table zone, which is read analytically (an exact
+   * point-to-spheroid distance, no grid). Absent in results of engine versions before 1.1.0.
+   */
+  boundaryErrorMm?: number;
   volumeMl: number;
   tumours: TumourCoverage[];
   collateral: CollateralVolume[];
@@ -73,10 +109,29 @@ export interface ZoneAssessment {
 
 export interface HeatSinkVessel {
   kind: StructureKind;
-  /** Local vessel diameter, mm. */
+  /** Local vessel diameter, mm (from the cross-section area across the vessel's axis). */
   diameterMm: number;
-  /** Distance from the vessel wall to the zone surface, mm (0: touching or inside). */
+  /**
+   * The diameters of a round vessel that could give the same reading on this grid, mm: the
+   * calibre band. Absent in results of engine versions before 1.1.0.
+   */
+  diameterLowerMm?: number;
+  diameterUpperMm?: number;
+  /**
+   * Distance from the vessel wall (the faces of its voxels) to the zone surface, mm (0:
+   * touching or inside).
+   */
   distanceMm: number;
+  /**
+   * Conservative bound on the distance, mm: as if the wall lay up to a voxel nearer, less the
+   * zone model's boundary error. Absent in results of engine versions before 1.1.0.
+   */
+  distanceLowerMm?: number;
+  /**
+   * True when the nominal calibre or distance misses the safety profile's heat-sink rule and
+   * only their bands reach it: a possible heat sink, which the verdict names as unconfirmed.
+   */
+  isPossible?: boolean;
 }
 
 export type VerdictSeverity = 'caution' | 'refusal';
@@ -86,6 +141,11 @@ export interface VerdictReason {
   rule: string;
   kind: StructureKind | null;
   value: number;
+  /**
+   * The conservative value of the figure (its bound on the unsafe side), in the unit of
+   * `value`, where the figure carries one.
+   */
+  bound?: number;
   threshold: number;
   severity: VerdictSeverity;
   /** The reason in words, units included. */
@@ -133,6 +193,16 @@ export interface AssessmentView {
   status: AssessmentStatus;
   /** 0–1. */
   progress: number;
+  /**
+   * The profile versions and engine the assessment ran on (its frozen snapshot); null on an
+   * assessment stored before snapshots were kept.
+   */
+  inputs: AssessmentInputsView | null;
+  /**
+   * On the plan's newest assessment only: what changed since it ran ("assessed on earlier
+   * inputs"); absent when nothing did.
+   */
+  inputChanges?: InputChange[];
   result?: AssessmentResult;
   error?: string;
   createdAt: string;

@@ -78,6 +78,11 @@ export type SafetyProfileBody = z.infer<typeof safetyProfileBodySchema>;
 export interface SafetyProfileView extends Omit<SafetyProfileBody, 'isDefault'> {
   id: string;
   isDefault: boolean;
+  /**
+   * The version the profile is at. An edit of a version that an assessment used makes a new
+   * version; assessments keep the one they ran on.
+   */
+  version: number;
   createdAt: string;
   updatedAt: string;
 }

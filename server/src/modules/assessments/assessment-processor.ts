@@ -1,19 +1,26 @@
 /**
- * Runs one queued assessment: marks it running, gathers its inputs, runs the engine in the
- * pool, stores the result. The store is idempotent (`status <> 'done'` guards the write), so a
- * job that pg-boss retries after a worker died finishes exactly once.
+ * Runs one queued assessment: marks it running, builds the engine's input from the frozen
+ * snapshot (never from what the database holds now), runs the engine in the pool, stores the
+ * result and any heating-model calibration the run had to fit. The result write is guarded
+ * (`finishAssessment`), so a job that pg-boss retries after a worker died finishes exactly once.
+ * The handler never throws but to ask pg-boss for a retry.
  */
-import { LockMode, type MikroORM } from '@mikro-orm/postgresql';
-import type { AssessmentStatus } from '@emberline/shared';
-import { EngineRefusal } from '@emberline/shared';
+import type { MikroORM } from '@mikro-orm/postgresql';
+import {
+  EngineRefusal,
+  type ApplicatorCalibration,
+  type AssessmentSnapshot,
+} from '@emberline/shared';
 import type { FileStore } from '../imaging/file-store';
+import { ApplicatorProfileVersion } from '../plans/applicator-profile-version.entity';
 import { Assessment } from './assessment.entity';
-import { gatherInputs, loadTaskInput } from './assessment-inputs';
+import { finishAssessment } from './assessment-finish';
 import type { AssessmentPool } from './assessment-pool';
 import { notifyProgress } from './assessment-progress';
 import type { AssessmentJobData } from './assessment-queue';
 import { toProgressEvent } from './assessment.service';
 import type { AssessmentDisplayStore } from './assessment-display-store';
+import { taskInputFromSnapshot, LabelMapGoneError } from './assessment-task-input';
 
 export interface ProcessorDependencies {
   orm: MikroORM;
@@ -23,6 +30,9 @@ export interface ProcessorDependencies {
   retryLimit: number;
   log: (message: string, error?: unknown) => void;
 }
+
+const noSnapshotReason =
+  'This assessment was requested before inputs were frozen with each assessment; request it again.';
 
 /** Progress is written and pushed at most this often. */
 const progressIntervalMs = 250;
@@ -34,31 +44,23 @@ export function assessmentProcessor(dependencies: ProcessorDependencies) {
     data: AssessmentJobData,
     job: { id: string; retryCount: number },
   ): Promise<void> {
-    const em = orm.em.fork();
-    const assessment = await em.findOne(
-      Assessment,
-      { id: data.assessmentId },
-      { populate: ['plan', 'plan.series', 'safetyProfile'] },
-    );
-    // Deleted with its plan, or already finished by an earlier attempt: nothing to do.
-    if (!assessment || assessment.status === 'done' || assessment.status === 'failed') return;
-    assessment.status = 'running';
-    assessment.attempts += 1;
-    assessment.progress = 0;
-    assessment.jobId = job.id;
-    await em.flush();
-    await notifyProgress(em, toProgressEvent(assessment, 'Starting'));
-
+    const assessment = await start(orm, data.assessmentId, job.id).catch((error: unknown) => {
+      log(`Assessment ${data.assessmentId} could not be started; retrying.`, error);
+      throw error;
+    });
+    if (!assessment) return;
+    const snapshot = assessment.snapshot;
+    if (!snapshot) {
+      await finishAssessment(orm, assessment.id, 'failed', { error: noSnapshotReason });
+      return;
+    }
     try {
-      const plan = assessment.plan.getEntity();
-      const gathered = await gatherInputs(
-        em,
-        plan,
-        assessment.safetyProfile.getEntity(),
-        assessment.engineVersion,
-        true,
+      const storedCalibrations = await loadCalibrations(orm, snapshot);
+      const { input, transfer } = await taskInputFromSnapshot(
+        snapshot,
+        dependencies.labelMaps,
+        storedCalibrations,
       );
-      const { input, transfer } = await loadTaskInput(gathered.task, dependencies.labelMaps);
       let lastSentAt = 0;
       let pending: Promise<unknown> = Promise.resolve();
       const output = await pool.run(input, transfer, (progress) => {
@@ -72,24 +74,81 @@ export function assessmentProcessor(dependencies: ProcessorDependencies) {
         );
       });
       await pending;
+      await saveCalibrations(orm, snapshot, output.newCalibrations ?? []).catch(
+        (error: unknown) => log('A fitted calibration was not stored.', error),
+      );
       if (output.display) await dependencies.displays.write(assessment.id, output.display);
-      await finish(orm, assessment.id, 'done', { result: output.result });
+      await finishAssessment(orm, assessment.id, 'done', { result: output.result });
     } catch (error) {
-      const isRefusal = error instanceof EngineRefusal;
+      const isRefusal = error instanceof EngineRefusal || error instanceof LabelMapGoneError;
       const isLastAttempt = job.retryCount >= dependencies.retryLimit;
       if (isRefusal || isLastAttempt) {
         const message = isRefusal
           ? (error as Error).message
-          : 'The assessment failed; the team has been notified in the server log.';
+          : 'The assessment failed on every attempt; the details are in the server log. ' +
+            'Request it again, or ask the team to look.';
         if (!isRefusal) log(`Assessment ${assessment.id} failed.`, error);
-        await finish(orm, assessment.id, 'failed', { error: message });
+        await finishAssessment(orm, assessment.id, 'failed', { error: message }).catch(
+          (finishError: unknown) => log(`Assessment ${assessment.id} was not ended.`, finishError),
+        );
         return;
       }
       log(`Assessment ${assessment.id} failed on attempt ${assessment.attempts}; retrying.`, error);
-      await requeue(orm, assessment.id);
+      await requeue(orm, assessment.id).catch((requeueError: unknown) =>
+        log(`Assessment ${assessment.id} was not put back in the queue.`, requeueError),
+      );
       throw error;
     }
   };
+}
+
+/** Marks the row running; null when it was deleted with its plan or has ended already. */
+async function start(orm: MikroORM, id: string, jobId: string): Promise<Assessment | null> {
+  const em = orm.em.fork();
+  const assessment = await em.findOne(Assessment, { id });
+  if (!assessment || assessment.status === 'done' || assessment.status === 'failed') return null;
+  assessment.status = 'running';
+  assessment.attempts += 1;
+  assessment.progress = 0;
+  assessment.jobId = jobId;
+  await em.flush();
+  await notifyProgress(em, toProgressEvent(assessment, 'Starting'));
+  return assessment;
+}
+
+/** The calibrations already fitted for the snapshot's profile versions, by profile id. */
+async function loadCalibrations(
+  orm: MikroORM,
+  snapshot: AssessmentSnapshot,
+): Promise<Map<string, ApplicatorCalibration>> {
+  const em = orm.em.fork();
+  const found = new Map<string, ApplicatorCalibration>();
+  for (const profile of snapshot.applicatorProfiles) {
+    const version = await em.findOne(ApplicatorProfileVersion, {
+      profile: profile.id,
+      version: profile.version,
+    });
+    if (version?.calibration) found.set(profile.id, version.calibration);
+  }
+  return found;
+}
+
+/** Stores a calibration the run fitted on its profile version (once: the first one stays). */
+async function saveCalibrations(
+  orm: MikroORM,
+  snapshot: AssessmentSnapshot,
+  fitted: readonly { profileId: string; calibration: ApplicatorCalibration }[],
+): Promise<void> {
+  const em = orm.em.fork();
+  for (const { profileId, calibration } of fitted) {
+    const profile = snapshot.applicatorProfiles.find((item) => item.id === profileId);
+    if (!profile) continue;
+    await em.nativeUpdate(
+      ApplicatorProfileVersion,
+      { profile: profileId, version: profile.version, calibration: null },
+      { calibration },
+    );
+  }
 }
 
 async function saveProgress(
@@ -104,38 +163,6 @@ async function saveProgress(
   assessment.progress = Math.min(0.99, Math.max(assessment.progress, fraction));
   await em.flush();
   await notifyProgress(em, toProgressEvent(assessment, stage));
-}
-
-async function finish(
-  orm: MikroORM,
-  id: string,
-  status: Extract<AssessmentStatus, 'done' | 'failed'>,
-  outcome: { result?: Assessment['result']; error?: string },
-): Promise<void> {
-  const em = orm.em.fork();
-  await em.transactional(async (tx) => {
-    // The guard that makes a retried job finish once: only an unfinished row is written.
-    const assessment = await tx.findOne(
-      Assessment,
-      { id, status: { $nin: ['done', 'failed'] } },
-      { lockMode: LockMode.PESSIMISTIC_WRITE, populate: ['plan'] },
-    );
-    if (!assessment) return;
-    assessment.status = status;
-    assessment.progress = 1;
-    assessment.result = outcome.result ?? null;
-    assessment.error = outcome.error ?? null;
-    const plan = assessment.plan.getEntity();
-    if (
-      plan.status === 'draft' ||
-      plan.status === 'submitted' ||
-      plan.status === 'assessment-failed'
-    ) {
-      plan.status = status === 'done' ? 'assessed' : 'assessment-failed';
-    }
-    await tx.flush();
-    await notifyProgress(tx, toProgressEvent(assessment));
-  });
 }
 
 async function requeue(orm: MikroORM, id: string): Promise<void> {

@@ -1,7 +1,7 @@
 /**
  * The assessment job queue: pg-boss 10 on the application's own PostgreSQL database (schema
  * `pgboss`), so that several server processes and separate worker processes share it with no
- * other infrastructure (DESIGN.md §10).
+ * other infrastructure.
  *
  * A job only carries the assessment id; the assessment row holds everything else. A worker
  * that dies mid-job leaves its job `active`; once `expireInSeconds` has passed, pg-boss's
@@ -85,14 +85,33 @@ export class AssessmentQueue {
     return new AssessmentQueue(boss, settings);
   }
 
-  /** Queues one assessment; returns the pg-boss job id. */
-  async send(data: AssessmentJobData): Promise<string> {
-    const id = await this.boss.send(assessmentQueueName, data, {
+  get retryLimit(): number {
+    return this.settings.retryLimit;
+  }
+
+  /**
+   * Queues one assessment under the job id its row already holds (the row is the outbox: it is
+   * committed first, with its job id, and the reaper sends again whatever did not arrive).
+   * Sending an id that is already queued does nothing, so a second send never doubles a job.
+   */
+  async send(data: AssessmentJobData, jobId: string): Promise<void> {
+    await this.boss.send(assessmentQueueName, data, {
+      id: jobId,
       retryLimit: this.settings.retryLimit,
       expireInSeconds: this.settings.expireInSeconds,
     });
-    if (!id) throw new Error('The assessment queue did not accept the job.');
-    return id;
+  }
+
+  /** The job's state (`created`, `retry`, `active`, `completed`, `cancelled`, `failed`), or null. */
+  async jobState(jobId: string): Promise<{ state: string; retryCount: number } | null> {
+    const found = await this.boss.getDb().executeSql(
+      `SELECT state, retry_count AS "retryCount" FROM pgboss.job WHERE name = $1 AND id = $2
+       UNION ALL
+       SELECT state, retry_count AS "retryCount" FROM pgboss.archive WHERE name = $1 AND id = $2`,
+      [assessmentQueueName, jobId],
+    );
+    const rows = found.rows as { state: string; retryCount: number }[];
+    return rows[0] ?? null;
   }
 
   /**

@@ -14,6 +14,7 @@ import {
   type AssessmentPoolSettings,
 } from './assessment-pool';
 import { assessmentProcessor } from './assessment-processor';
+import { reaperSettingsFromEnvironment, startReaper, type ReaperSettings } from './assessment-reaper';
 import {
   AssessmentQueue,
   assessmentQueueSettingsFromEnvironment,
@@ -36,6 +37,7 @@ export interface AssessmentRuntimeOptions {
   fileStoreDir?: string;
   queue?: Partial<AssessmentQueueSettings>;
   pool?: Partial<AssessmentPoolSettings>;
+  reaper?: Partial<ReaperSettings>;
 }
 
 export function assessmentStores(fileStoreDir: string) {
@@ -72,11 +74,19 @@ export async function startAssessmentRuntime(
       }),
     );
   }
+  // Every process that holds the queue reaps: stuck rows are settled even with no worker here.
+  const reaper = startReaper(
+    options.orm,
+    queue,
+    { ...reaperSettingsFromEnvironment(), ...options.reaper },
+    options.log,
+  );
   return {
     queue,
     displays: stores.displays,
     pool,
     async close() {
+      await reaper.stop();
       await queue.stop();
       await pool?.close();
     },

@@ -3,6 +3,7 @@
  * clone), the label map's buffer transferred rather than copied.
  */
 import type {
+  ApplicatorCalibration,
   AssessmentResult,
   SafetyProfileBody,
   StructureKind,
@@ -18,6 +19,8 @@ export interface TaskApplicator {
     workingLengthMm: number;
     activeLengthMm: number;
     zoneTable: ZoneTableRow[];
+    /** The heating model fitted to this profile version before, when one is stored. */
+    storedCalibration?: ApplicatorCalibration;
   };
   powerW: number;
   timeS: number;
@@ -55,4 +58,6 @@ export interface AssessmentTaskOutput {
   timingsMs: Record<string, number>;
   /** Binary display data for the client (zones and margins), already encoded. */
   display: ArrayBuffer | null;
+  /** Calibrations the run had to fit (none was stored): the server stores them per version. */
+  newCalibrations?: { profileId: string; calibration: ApplicatorCalibration }[];
 }

@@ -14,7 +14,10 @@ const watchSchema = z.strictObject({ assessmentId: z.uuid() });
 
 export const assessmentRoom = (id: string) => `assessment:${id}`;
 
-export function assessmentSocketFeature(orm: MikroORM): SocketFeature {
+export function assessmentSocketFeature(
+  orm: MikroORM,
+  log: (message: string, error?: unknown) => void,
+): SocketFeature {
   return (socket, currentUser) => {
     socket.on('assessment:watch', async (payload, acknowledge) => {
       if (typeof acknowledge !== 'function') return;
@@ -23,18 +26,21 @@ export function assessmentSocketFeature(orm: MikroORM): SocketFeature {
         acknowledge({ ok: false, status: 400, detail: 'Send { assessmentId } with a uuid.' });
         return;
       }
-      const user = await currentUser();
-      if (!user) {
-        acknowledge({ ok: false, status: 401, detail: 'Sign in first.' });
-        socket.disconnect(true);
-        return;
-      }
       try {
+        // Inside the try: a database error while reading the session must be answered, not
+        // left as an unhandled rejection that would stop the process and its workers.
+        const user = await currentUser();
+        if (!user) {
+          acknowledge({ ok: false, status: 401, detail: 'Sign in first.' });
+          socket.disconnect(true);
+          return;
+        }
         const service = new AssessmentService(orm.em.fork(), null, false);
         const event = await service.progressFor(user, parsed.data.assessmentId);
         await socket.join(assessmentRoom(event.id));
         acknowledge({ ok: true, event });
       } catch (error) {
+        if (!(error instanceof AppError)) log('assessment:watch failed.', error);
         const status = error instanceof AppError ? error.status : 500;
         acknowledge({
           ok: false,

@@ -1,7 +1,8 @@
 import { Router } from 'express';
 import type { MikroORM } from '@mikro-orm/postgresql';
 import { actorOf, requireSignIn, signedInUser } from '../../common/auth-middleware';
-import { pathId } from '../../common/validate';
+import { requestAssessmentSchema } from '@emberline/shared';
+import { parse, pathId } from '../../common/validate';
 import { sendStoredFile } from '../../common/send-stored-file';
 import { NotFoundError } from '../../common/errors';
 import type { AssessmentDisplayStore } from './assessment-display-store';
@@ -12,11 +13,13 @@ export interface AssessmentRouteDependencies {
   queue: AssessmentQueue | null;
   displays: AssessmentDisplayStore;
   isBioheatRequested: boolean;
+  log: (message: string, error?: unknown) => void;
 }
 
 /**
  * Assessment routes, mounted at /api:
- *   POST /plans/:id/assessments    → 202 { id, status, … } (an unchanged plan reuses its result)
+ *   POST /plans/:id/assessments    { safetyProfileId? } → 202 { id, status, inputs, … }
+ *                                  (an identical snapshot of the inputs reuses its assessment)
  *   GET  /plans/:id/assessments    the plan's assessments, newest first
  *   GET  /assessments/:id          { id, status, progress, result?, error? }
  *   GET  /assessments/:id/display  zone masks and margins for the viewer (binary)
@@ -24,13 +27,19 @@ export interface AssessmentRouteDependencies {
 export function assessmentRoutes(orm: MikroORM, dependencies: AssessmentRouteDependencies): Router {
   const router = Router();
   const service = () =>
-    new AssessmentService(orm.em, dependencies.queue, dependencies.isBioheatRequested);
+    new AssessmentService(
+      orm.em,
+      dependencies.queue,
+      dependencies.isBioheatRequested,
+      dependencies.log,
+    );
 
   router.post('/plans/:id/assessments', requireSignIn, async (request, response) => {
     const view = await service().request(
       signedInUser(request),
       actorOf(request),
       pathId(request.params.id, 'The plan'),
+      parse(requestAssessmentSchema, request.body ?? {}),
     );
     response.status(202).location(`/api/assessments/${view.id}`).json(view);
   });

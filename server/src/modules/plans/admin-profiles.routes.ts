@@ -19,7 +19,9 @@ import { SafetyProfileService } from './safety-profile.service';
  *   GET   /safety-profiles             the default first
  *   POST  /safety-profiles             SafetyProfileBody → 201 (`isDefault` clears the other)
  *   GET   /safety-profiles/:id
- *   PUT   /safety-profiles/:id         SafetyProfileBody, whole → the profile
+ *   PATCH /safety-profiles/:id         any fields of SafetyProfileBody → the profile
+ *
+ * An edit of a profile version that an assessment used makes the profile's next version.
  */
 export function adminProfileRoutes(orm: MikroORM): Router {
   const router = Router();
@@ -57,10 +59,13 @@ export function adminProfileRoutes(orm: MikroORM): Router {
   router.get('/safety-profiles/:id', administrator, async (request, response) => {
     response.json(await safety().get(safetyId(request.params.id)));
   });
-  router.put('/safety-profiles/:id', administrator, async (request, response) => {
+  router.patch('/safety-profiles/:id', administrator, async (request, response) => {
     const id = safetyId(request.params.id);
-    const body = parse(safetyProfileBodySchema, request.body);
-    response.json(await safety().replace(actorOf(request), id, body));
+    const parsed = parse(safetyProfileBodySchema.partial(), request.body);
+    // Only the fields sent: the schema's defaults must not overwrite what is stored.
+    const sent = new Set(Object.keys(request.body as object));
+    const patch = Object.fromEntries(Object.entries(parsed).filter(([key]) => sent.has(key)));
+    response.json(await safety().update(actorOf(request), id, patch));
   });
 
   return router;

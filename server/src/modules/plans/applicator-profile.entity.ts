@@ -1,9 +1,9 @@
 import { Entity, Property, Unique } from '@mikro-orm/core';
-import type { AblationModality, ZoneTableRow } from '@emberline/shared';
+import type { AblationModality, ZoneTableRow, ZoneTableSource } from '@emberline/shared';
 import { BaseEntity } from '../../common/base.entity';
 
 /**
- * An ablation applicator and the zone table its maker promises (DESIGN.md §5). Plans refer to
+ * An ablation applicator and the zone table its maker promises . Plans refer to
  * a profile by id inside their applicator list; a retired profile stays readable for them but
  * is not offered for new plans.
  */
@@ -29,6 +29,20 @@ export class ApplicatorProfile extends BaseEntity {
   @Property({ type: 'json' })
   zoneTable: ZoneTableRow[];
 
+  /** Where the zone table comes from (ex vivo, in vivo, the maker's data, the institution's). */
+  @Property({ type: 'string', length: 16 })
+  zoneTableSource: ZoneTableSource;
+
+  @Property({ type: 'string', length: 300, nullable: true })
+  zoneTableReference: string | null = null;
+
+  /**
+   * The version the profile's content is at. A version that an assessment used is frozen in
+   * `ApplicatorProfileVersion`; editing it makes the next version.
+   */
+  @Property({ type: 'integer', default: 1 })
+  version = 1;
+
   @Property({ type: 'text', nullable: true })
   notes: string | null = null;
 
@@ -42,6 +56,7 @@ export class ApplicatorProfile extends BaseEntity {
     workingLengthMm: number;
     activeLengthMm: number;
     zoneTable: ZoneTableRow[];
+    zoneTableSource: ZoneTableSource;
   }) {
     super();
     this.name = fields.name;
@@ -50,5 +65,6 @@ export class ApplicatorProfile extends BaseEntity {
     this.workingLengthMm = fields.workingLengthMm;
     this.activeLengthMm = fields.activeLengthMm;
     this.zoneTable = fields.zoneTable;
+    this.zoneTableSource = fields.zoneTableSource;
   }
 }

@@ -100,6 +100,7 @@ export class PlanService {
     if (body.name !== undefined) plan.name = body.name;
     if (body.notes !== undefined) plan.notes = body.notes;
     if (body.status !== undefined) plan.status = body.status;
+    else if (plan.status === 'assessment-failed') plan.status = 'draft';
     const fields = Object.keys(body)
       .filter((key) => body[key as keyof UpdatePlan] !== undefined)
       .sort();
@@ -111,6 +112,44 @@ export class PlanService {
     });
     await this.em.flush();
     return (await this.toViews([plan]))[0];
+  }
+
+  /**
+   * A new draft from a plan (submitted, assessed, failed or a draft): same series, applicators
+   * and profiles, its name suffixed, so that an assessed plan can be revised without touching
+   * the plan its assessment belongs to.
+   */
+  async copyAsDraft(user: SignedInUser, actor: Actor, planId: string): Promise<PlanView> {
+    const source = await this.findVisiblePlan(user, planId);
+    const found = source.clinicalCase.getEntity();
+    if (!isPresenterOf(user, found)) {
+      throw new ForbiddenError('Only the presenting physician of this case drafts its plans.');
+    }
+    const siblings = await this.em.find(
+      NeedlePlan,
+      { clinicalCase: found.id },
+      { fields: ['name'] },
+    );
+    const copy = new NeedlePlan({
+      clinicalCase: this.em.getReference(ClinicalCase, found.id, { wrapped: true }),
+      series: this.em.getReference(ImageSeries, source.series.id, { wrapped: true }),
+      author: this.em.getReference(User, user.id, { wrapped: true }),
+      name: revisedName(
+        source.name,
+        new Set(siblings.map((plan) => plan.name)),
+      ),
+      applicators: source.applicators.map((applicator) => ({ ...applicator })),
+    });
+    copy.notes = source.notes;
+    this.em.persist(copy);
+    recordAudit(this.em, actor, {
+      action: 'plan.copy',
+      entityType: 'plan',
+      entityId: copy.id,
+      detail: { caseId: found.id, fromPlanId: source.id },
+    });
+    await this.em.flush();
+    return (await this.toViews([copy]))[0];
   }
 
   async remove(user: SignedInUser, actor: Actor, planId: string): Promise<void> {
@@ -209,10 +248,11 @@ export class PlanService {
         `Only the plan's author or the case's presenting physician may have it ${change}.`,
       );
     }
-    if (plan.status !== 'draft') {
+    // A plan whose assessment failed is a draft again: it may be corrected and re-assessed.
+    if (plan.status !== 'draft' && plan.status !== 'assessment-failed') {
       throw new ConflictError(
         `Only a draft plan can be ${change}; this plan is ${plan.status}. ` +
-          'Draft a new plan instead.',
+          'Copy it as a new draft to revise it.',
       );
     }
     return plan;
@@ -249,6 +289,18 @@ export class PlanService {
 
 function isPresenterOf(user: SignedInUser, found: ClinicalCase): boolean {
   return hasRole(user, 'presenting-physician') && found.presenter.id === user.id;
+}
+
+const planNameLength = 80;
+
+/** "Plan A" → "Plan A (revision 2)", then 3, … : the first name no plan of the case has. */
+export function revisedName(name: string, taken: ReadonlySet<string>): string {
+  const base = name.replace(/ \(revision \d+\)$/, '');
+  for (let revision = 2; ; revision++) {
+    const suffix = ` (revision ${revision})`;
+    const candidate = base.slice(0, planNameLength - suffix.length) + suffix;
+    if (!taken.has(candidate)) return candidate;
+  }
 }
 
 function storedApplicator(applicator: CreatePlan['applicators'][number]): StoredApplicator {

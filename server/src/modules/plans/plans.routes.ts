@@ -21,6 +21,7 @@ const clinicalRoles: Role[] = [
  *   GET    /cases/:id/plans            the case's plans, oldest first
  *   GET    /plans/:id                  the plan
  *   PATCH  /plans/:id                  UpdatePlan (drafts only) → the plan
+ *   POST   /plans/:id/copy             → 201, a new draft with the same applicators
  *   DELETE /plans/:id                  (drafts only) → 204
  *   GET    /applicator-profiles        profiles not retired, for drafting (clinical roles)
  *   GET    /safety-profiles/default    the default safety profile (clinical roles)
@@ -64,6 +65,15 @@ export function planRoutes(orm: MikroORM): Router {
         body,
       ),
     );
+  });
+
+  router.post('/plans/:id/copy', requireSignIn, async (request, response) => {
+    const copy = await plans().copyAsDraft(
+      signedInUser(request),
+      actorOf(request),
+      planId(request.params.id),
+    );
+    response.status(201).location(`/api/plans/${copy.id}`).json(copy);
   });
 
   router.delete('/plans/:id', requireSignIn, async (request, response) => {

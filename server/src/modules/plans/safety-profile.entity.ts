@@ -64,6 +64,19 @@ export class SafetyProfile extends BaseEntity {
   @Property({ type: 'text' })
   capsuleSource: string;
 
+  @Property({ type: 'double', default: 2 })
+  physicsToleranceMm: number;
+
+  @Property({ type: 'text' })
+  physicsToleranceSource: string;
+
+  /**
+   * The version the thresholds are at. A version that an assessment used is frozen in
+   * `SafetyProfileVersion`; editing it makes the next version.
+   */
+  @Property({ type: 'integer', default: 1 })
+  version = 1;
+
   @Property({ type: 'boolean' })
   isDefault = false;
 
@@ -85,6 +98,8 @@ export class SafetyProfile extends BaseEntity {
     this.parenchymaSource = fields.parenchymaSource;
     this.maximumCapsuleCrossings = fields.maximumCapsuleCrossings;
     this.capsuleSource = fields.capsuleSource;
+    this.physicsToleranceMm = fields.physicsToleranceMm;
+    this.physicsToleranceSource = fields.physicsToleranceSource;
   }
 }
 
@@ -107,5 +122,7 @@ export type SafetyProfileFields = Pick<
   | 'parenchymaSource'
   | 'maximumCapsuleCrossings'
   | 'capsuleSource'
+  | 'physicsToleranceMm'
+  | 'physicsToleranceSource'
   | 'isDefault'
 >;

@@ -1,12 +1,20 @@
 import type { EntityManager } from '@mikro-orm/postgresql';
-import type { SafetyProfileBody, SafetyProfileView } from '@emberline/shared';
-import { ConflictError, NotFoundError } from '../../common/errors';
+import { LockMode } from '@mikro-orm/core';
+import {
+  safetyProfileBodySchema,
+  stableJson,
+  type SafetyProfileBody,
+  type SafetyProfileView,
+} from '@emberline/shared';
+import { ConflictError, NotFoundError, ValidationError } from '../../common/errors';
 import type { Actor } from '../../common/request-context';
 import { recordAudit } from '../audit/audit.service';
+import { safetyProfileBody } from './profile-content';
 import { SafetyProfile } from './safety-profile.entity';
+import { SafetyProfileVersion } from './safety-profile-version.entity';
 
 /**
- * Safety profiles (DESIGN.md §5, §7.5): administrators create and replace them; one is the
+ * Safety profiles: administrators create and replace them; one is the
  * default that new assessments use. Making a profile the default clears the previous one in
  * the same transaction; the default cannot simply be unmarked (another must take its place),
  * so once there is a default there always is one.
@@ -54,10 +62,30 @@ export class SafetyProfileService {
     return toSafetyProfileView(created);
   }
 
-  /** PUT: the whole body replaces the thresholds; `isDefault` omitted leaves it as it is. */
-  async replace(actor: Actor, id: string, body: SafetyProfileBody): Promise<SafetyProfileView> {
+  /**
+   * PATCH: the fields given replace the profile's; `isDefault` omitted leaves it as it is. When
+   * an assessment has used the current version, a change of thresholds makes the next version
+   * (the used one stays frozen in `safety_profile_version`).
+   */
+  async update(
+    actor: Actor,
+    id: string,
+    patch: Partial<SafetyProfileBody>,
+  ): Promise<SafetyProfileView> {
     const replaced = await this.em.transactional(async (em) => {
-      const profile = await this.find(em, id);
+      const profile = await em.findOne(SafetyProfile, id, {
+        lockMode: LockMode.PESSIMISTIC_WRITE,
+      });
+      if (!profile) throw new NotFoundError('The safety profile');
+      const merged = safetyProfileBodySchema.safeParse({ ...safetyProfileBody(profile), ...patch });
+      if (!merged.success) {
+        const errors = merged.error.issues.map((issue) => ({
+          path: issue.path.join('.'),
+          message: issue.message,
+        }));
+        throw new ValidationError(errors.map((e) => `${e.path}: ${e.message}`).join('; '), errors);
+      }
+      const body = merged.data;
       if (body.name !== profile.name) await assertNameFree(em, body.name, profile.id);
       const { isDefault, ...fields } = body;
       if (isDefault === false && profile.isDefault) {
@@ -69,12 +97,18 @@ export class SafetyProfileService {
         await clearDefault(em, profile.id);
         profile.isDefault = true;
       }
+      const isChanged = stableJson(safetyProfileBody(profile)) !== stableJson(fields);
+      const isVersionUsed =
+        isChanged &&
+        (await em.count(SafetyProfileVersion, { profile: profile.id, version: profile.version })) >
+          0;
       Object.assign(profile, fields);
+      if (isVersionUsed) profile.version += 1;
       recordAudit(em, actor, {
         action: 'safety-profile.update',
         entityType: 'safety-profile',
         entityId: profile.id,
-        detail: { isDefault: profile.isDefault },
+        detail: { isDefault: profile.isDefault, version: profile.version },
       });
       return profile;
     });
@@ -133,7 +167,10 @@ export function toSafetyProfileView(profile: SafetyProfile): SafetyProfileView {
     parenchymaSource: profile.parenchymaSource,
     maximumCapsuleCrossings: profile.maximumCapsuleCrossings,
     capsuleSource: profile.capsuleSource,
+    physicsToleranceMm: profile.physicsToleranceMm,
+    physicsToleranceSource: profile.physicsToleranceSource,
     isDefault: profile.isDefault,
+    version: profile.version,
     createdAt: profile.createdAt.toISOString(),
     updatedAt: profile.updatedAt.toISOString(),
   };

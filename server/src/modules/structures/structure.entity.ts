@@ -1,10 +1,11 @@
 import { Entity, Index, ManyToOne, Property, Unique, type Ref } from '@mikro-orm/core';
 import type { StructureKind, StructureSource } from '@emberline/shared';
 import { BaseEntity } from '../../common/base.entity';
+import { Lesion } from '../cases/lesion.entity';
 import { ImageSeries } from '../imaging/image-series.entity';
 
 /**
- * One label value of a series' label map and what it stands for (DESIGN.md §5–§6). The kind
+ * One label value of a series' label map and what it stands for. The kind
  * is null until someone names it; the volume is voxelCount × the series' voxel volume.
  */
 @Entity({ tableName: 'structure' })
@@ -31,6 +32,14 @@ export class Structure extends BaseEntity {
 
   @Property({ type: 'string', length: 16 })
   source: StructureSource;
+
+  /** The lesion of the case's Summary this tumour structure shows (suggested, then confirmed). */
+  @ManyToOne(() => Lesion, { ref: true, nullable: true, deleteRule: 'set null' })
+  lesion: Ref<Lesion> | null = null;
+
+  /** Whether the presenter confirmed the link (a suggestion only until then). */
+  @Property({ type: 'boolean', default: false })
+  isLesionConfirmed = false;
 
   constructor(fields: {
     series: Ref<ImageSeries>;

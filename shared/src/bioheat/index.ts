@@ -1,4 +1,4 @@
-// The physics zone model (DESIGN.md §7.2b): Pennes bioheat, Arrhenius and CEM43 damage,
+// The physics zone model: Pennes bioheat, Arrhenius and CEM43 damage,
 // applicator heating, zone simulation and calibration. The solver's inner loop
 // (pennes-kernel.ts) and its rate table stay internal.
 export * from './tissue-properties';

@@ -190,7 +190,7 @@ describe('damage accumulated by the solver', () => {
     });
   }
 
-  it('gives Ω = 17.4 for 60 s at 60 °C (Henriques & Moritz; REFERENCES.md [C])', () => {
+  it('gives Ω = 17.4 for 60 s at 60 °C (Henriques & Moritz 1947 formula [C])', () => {
     const result = uniformRun(60, 60, 'absolute');
     expect(result.omega[13]).toBeCloseTo(17.4, 1);
     expect(result.omega[13] / arrheniusDamageIncrement(60, 60)).toBeCloseTo(1, 4);
@@ -203,7 +203,7 @@ describe('damage accumulated by the solver', () => {
     expect(uniformRun(ARTERIAL_C, 600, 'above-arterial').omega[13]).toBe(0);
   });
 
-  it('gives CEM43 = 1280 min for 10 min at 50 °C (Sapareto & Dewey 1984, REFERENCES.md)', () => {
+  it('gives CEM43 = 1280 min for 10 min at 50 °C (Sapareto & Dewey 1984 formula [C])', () => {
     expect(uniformRun(50, 600, 'absolute').cem43Minutes[13] / 1280).toBeCloseTo(1, 4);
   });
 

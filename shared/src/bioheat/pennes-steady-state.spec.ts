@@ -63,8 +63,8 @@ function worstRelativeError(spacingMm: number): number {
 }
 
 describe(`steady point source in perfused liver (${NYBORG})`, () => {
-  it('reproduces the REFERENCES.md worked values [C] from the formula', () => {
-    // The formula the solver is checked against, pinned to the published worked values.
+  it('reproduces worked values computed by hand from the formula [C]', () => {
+    // The formula the solver is checked against, pinned to values worked by hand from it.
     expect(perfusionLengthM(LIVER_TISSUE) * 1000).toBeCloseTo(4.409, 3);
     expect(nyborgRiseK(1, 0.005)).toBeCloseTo(9.85, 2);
     expect(nyborgRiseK(1, 0.01)).toBeCloseTo(1.58, 2);

@@ -1,5 +1,5 @@
 /**
- * The physics ablation zone of a plan (DESIGN.md §7.2b): the applicators' heat in liver by the
+ * The physics ablation zone of a plan: the applicators' heat in liver by the
  * Pennes bioheat equation on a crop grid, large vessels as heat sinks, and the zone where the
  * Arrhenius damage integral reaches 1.
  *

@@ -17,7 +17,7 @@ function expectRoundsTo(value: number, quoted: number, decimals: number): void {
   expect(Math.abs(value - quoted)).toBeLessThanOrEqual(0.5 * 10 ** -decimals + 1e-12);
 }
 
-describe(`Arrhenius damage, REFERENCES.md worked values [C] (${HENRIQUES_MORITZ})`, () => {
+describe(`Arrhenius damage, computed from the formula [C] (${HENRIQUES_MORITZ})`, () => {
   it.each([
     { temperatureC: 43, seconds: 513, decimals: 0 },
     { temperatureC: 50, seconds: 61.4, decimals: 1 },
@@ -53,7 +53,7 @@ describe(`Arrhenius damage, REFERENCES.md worked values [C] (${HENRIQUES_MORITZ}
   });
 });
 
-describe(`CEM43 thermal dose, REFERENCES.md worked values [C] (${SAPARETO_DEWEY})`, () => {
+describe(`CEM43 thermal dose, computed from the formula [C] (${SAPARETO_DEWEY})`, () => {
   it.each([
     { temperatureC: 50, minutes: 10, dose: 1280 },
     { temperatureC: 47, minutes: 1, dose: 16 },

@@ -7,7 +7,7 @@ import {
 } from './tissue-properties';
 
 describe('liver properties (IT’IS database values; perfusion 6.4e-3 1/s from memory)', () => {
-  it('has a perfusion length of 4.409 mm (Nyborg 1988; REFERENCES.md [C])', () => {
+  it('has a perfusion length of 4.409 mm (Nyborg WL, Phys Med Biol 1988;33:785 [C])', () => {
     expect(perfusionLengthM(LIVER_TISSUE) * 1000).toBeCloseTo(4.409, 3);
   });
 

@@ -1,5 +1,5 @@
 /**
- * Thermal and damage properties of liver used by the physics zone model (DESIGN.md §7.2b).
+ * Thermal and damage properties of liver used by the physics zone model (simulate-zone.ts).
  * SI units throughout: metres, kilograms, seconds, kelvin (temperatures in degrees Celsius
  * where the name says so).
  */
@@ -36,7 +36,7 @@ export const KELVIN_OFFSET = 273.15;
 
 /**
  * Universal gas constant as used by the public RF-ablation models that quote the liver
- * coefficients below, J/mol/K (CODATA: 8.314462618). The worked times of REFERENCES.md
+ * coefficients below, J/mol/K (CODATA: 8.314462618). The worked times of thermal-damage.spec.ts
  * (513 s to Ω = 1 at 43 °C …) follow from 8.314; the CODATA value shifts them by 0.5 %.
  */
 export const GAS_CONSTANT_J_PER_MOL_K = 8.314;

@@ -128,7 +128,7 @@ describe(`equals the brute-force oracle on random anisotropic masks, ${FELZENSZW
   );
 });
 
-describe(`worked values, ${FELZENSZWALB}; REFERENCES.md [C]`, () => {
+describe(`worked values computed by hand, ${FELZENSZWALB} [C]`, () => {
   const dimensions: GridDimensions = [3, 3, 3];
   const spacingMm: Vec3 = [0.7, 0.7, 2.5];
   const seedAtOrigin = Uint8Array.from({ length: 27 }, (_, index) => (index === 0 ? 1 : 0));

@@ -187,7 +187,7 @@ describe('spatial units of xyzt_units (nifti1.h: NIFTI_UNITS_METER 1, _MM 2, _MI
   });
 });
 
-describe('RAS to LPS (REFERENCES.md: RAS → LPS flips x and y)', () => {
+describe('RAS to LPS (NIfTI-1 world coordinates are RAS; RAS → LPS flips x and y)', () => {
   it('negates the x and y rows, translation included, and keeps z', () => {
     expectMatrixClose(rasToLpsAffine(MNI152_SFORM), [
       [1, 0, 0, -90],

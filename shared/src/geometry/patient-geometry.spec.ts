@@ -59,7 +59,7 @@ function obliqueOrientation(): number[] {
   return [...turn([1, 0, 0]), ...turn([0, 1, 0])];
 }
 
-describe(`worked examples, ${PS3_3}; REFERENCES.md [C]`, () => {
+describe(`worked examples computed by hand from ${PS3_3} [C]`, () => {
   it.each([
     {
       name: 'axial',

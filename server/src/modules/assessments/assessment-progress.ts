@@ -1,7 +1,7 @@
 /**
  * Progress travels through PostgreSQL: whichever process runs a job NOTIFYs on one channel and
  * every server process LISTENs and relays to its sockets, so a worker on another machine
- * reaches the browser without other infrastructure (DESIGN.md §10).
+ * reaches the browser without other infrastructure (README.md here, "Progress").
  */
 import pg from 'pg';
 import type { EntityManager } from '@mikro-orm/postgresql';

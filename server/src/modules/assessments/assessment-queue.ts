@@ -65,7 +65,8 @@ export class AssessmentQueue {
     });
     boss.on('error', onError);
     await boss.start();
-    // pg-boss 10 needs the queue to exist before `send` (STACK.md); createQueue is idempotent.
+    // pg-boss 10 needs the queue to exist before `send` (DEVELOPERS.md, "Stack notes");
+    // createQueue is idempotent.
     const existing = await boss.getQueue(assessmentQueueName);
     if (!existing) {
       await boss.createQueue(assessmentQueueName, {

@@ -15,7 +15,7 @@ export interface StoredApplicator {
 }
 
 /**
- * A needle plan of a case (DESIGN.md §4–§5): one or more applicators drafted on one series.
+ * A needle plan of a case: one or more applicators drafted on one series.
  * It goes with its case (and its series) when either is deleted.
  */
 @Entity({ tableName: 'needle_plan' })

@@ -12,7 +12,7 @@ import { ApplicatorProfile } from './applicator-profile.entity';
 import { NeedlePlan, type StoredApplicator } from './needle-plan.entity';
 
 /**
- * Needle plan rules (DESIGN.md §2, §4): a plan is seen by whoever sees its case (404 for
+ * Needle plan rules (DEVELOPERS.md, "Roles"): a plan is seen by whoever sees its case (404 for
  * anyone else, exactly as the case); the case's presenting physician drafts plans; a draft is
  * changed or deleted by its author or the case's presenter (403 for anyone else who sees it)
  * and, once submitted, by nobody here (409). Each applicator names a profile that exists and

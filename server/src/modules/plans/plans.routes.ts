@@ -7,7 +7,7 @@ import { ApplicatorProfileService } from './applicator-profile.service';
 import { PlanService } from './plan.service';
 import { SafetyProfileService } from './safety-profile.service';
 
-/** The roles that work on cases (DESIGN.md §2); the administrator's is not one of them. */
+/** Roles that work on cases (DEVELOPERS.md, "Roles"); the administrator's is not one of them. */
 const clinicalRoles: Role[] = [
   'presenting-physician',
   'board-member',

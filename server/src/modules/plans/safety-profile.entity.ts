@@ -3,7 +3,7 @@ import type { StructureKind, StructureRule } from '@emberline/shared';
 import { BaseEntity } from '../../common/base.entity';
 
 /**
- * The thresholds that turn an assessment's figures into a verdict (DESIGN.md §5, §7.5), each
+ * The thresholds that turn an assessment's figures into a verdict, each
  * with where it comes from. At most one profile is the default: a partial unique index keeps
  * two from ever being marked so.
  */

@@ -14,7 +14,8 @@ import { SafetyProfilesDialog, type SafetyProfileDialogData } from './safety-pro
 const profileId = '9c1d2e3f-4a5b-4c6d-8e7f-0a1b2c3d4e5f';
 
 // Fixture values: margin 5 mm minimum / 10 mm ideal and heat sink ≥ 3 mm within ~10 mm are the
-// common practice DESIGN.md §1 states; the rest is invented for the test.
+// common practice (margin: Wang X et al., Cardiovasc Intervent Radiol 2013; heat sink: Lu DSK et
+// al., AJR 2002; "within 10 mm" a project default); the rest is invented for the test.
 const defaultProfile: SafetyProfileView = {
   id: profileId,
   name: 'Demo thresholds',

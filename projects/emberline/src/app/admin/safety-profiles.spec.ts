@@ -10,7 +10,8 @@ import { SafetyProfiles } from './safety-profiles';
 const listUrl = '/api/admin/safety-profiles';
 
 // Fixture values: margin 5 mm minimum / 10 mm ideal and heat sink ≥ 3 mm within ~10 mm are the
-// common practice DESIGN.md §1 states; the rest is invented for the test.
+// common practice (margin: Wang X et al., Cardiovasc Intervent Radiol 2013; heat sink: Lu DSK et
+// al., AJR 2002; "within 10 mm" a project default); the rest is invented for the test.
 function profile(overrides: Partial<SafetyProfileView>): SafetyProfileView {
   return {
     id: 'safety-1',

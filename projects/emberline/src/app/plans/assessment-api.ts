@@ -5,7 +5,7 @@ import type { Observable } from 'rxjs';
 import { SHOWS_OWN_ERRORS } from '../core/http-context-tokens';
 
 /**
- * Plan assessments over HTTP (DESIGN.md §7). Every caller shows its own error beside the plan it
+ * Plan assessments over HTTP. Every caller shows its own error beside the plan it
  * concerns (a progress poll every 2 s must not raise a snack bar each time).
  */
 @Injectable({ providedIn: 'root' })

@@ -71,8 +71,8 @@ describe('bestIndexes', () => {
   });
 
   it('ranks negative margins (tumour outside the zone): −1.5 mm beats −4.0 mm', () => {
-    // DESIGN.md §7.3 and assessments.ts: the minimal margin is negative when part of the tumour
-    // lies outside the zone; a margin nearer zero leaves less tumour uncovered.
+    // TumourCoverage (shared/src/api/assessments.ts): the minimal margin is negative when part of
+    // the tumour lies outside the zone; a margin nearer zero leaves less tumour uncovered.
     expect(bestIndexes([-4, -1.5], 'greater', 1)).toEqual([1]);
     expect(bestIndexes([-4, 2.5, -1.5], 'greater', 1)).toEqual([1]);
   });

@@ -11,7 +11,7 @@
 /** Whether a larger or a smaller value of a figure is the better one. */
 export type BetterDirection = 'greater' | 'smaller';
 
-/** The direction of each ranked figure of the comparison (issue "Plan comparison"). */
+/** The direction of each ranked figure of the comparison: which way is better. */
 export const figureDirections = {
   clearanceMm: 'greater',
   coveredPercent: 'greater',

@@ -21,7 +21,7 @@ import { VerdictBadge } from './verdict-badge';
 /**
  * One plan's assessment in its card of the Plans section: the newest assessment's state (its
  * verdict once done, its live progress while it runs) and, for the presenting physician of the
- * case, "Request assessment". Everyone else sees the results only (DESIGN.md §2).
+ * case, "Request assessment". Everyone else sees the results only (DEVELOPERS.md, "Roles").
  */
 @Component({
   selector: 'em-plan-assessment',

@@ -28,7 +28,7 @@ interface PendingPlan {
 }
 
 /**
- * The plan comparison (DESIGN.md §3, issue "Plan comparison"): every plan whose newest
+ * The plan comparison of the Plans section, side by side: every plan whose newest
  * assessment is done, side by side — a column a plan, a row a figure with its unit, the better
  * value of a ranked row marked by a sign and in words, the verdict with its reasons. Plans not
  * (yet) compared are listed below with the reason and, while one runs, its progress.

@@ -15,7 +15,7 @@ import { PlanAssessments } from './plan-assessments';
 import { PlanComparison } from './plan-comparison';
 
 /**
- * Plans of the case file (DESIGN.md §3): the needle plans drafted in the viewer, each with its
+ * Plans of the case file: the needle plans drafted in the viewer, each with its
  * state and its applicators, a link that opens it in the viewer, and the deletion of drafts.
  */
 @Component({

@@ -38,9 +38,9 @@ import {
 import { EngineRefusal } from './engine-refusal';
 import { findHeatSinks } from './heat-sinks';
 import {
+  boundaryCellsOnCrop,
   insideDistanceOfKind,
   maskOfCode,
-  outsideDistanceOfKind,
   voxelsPerKindCode,
   type CropContext,
 } from './kind-fields';
@@ -141,7 +141,7 @@ export async function assessPlan(
 
   stage('distance-fields', () => {
     for (const kind of inventory.kindsPresent) {
-      if (pathVoxelsPerKindCode[kindCode(kind)] > 0) outsideDistanceOfKind(pathCrop, kind);
+      if (pathVoxelsPerKindCode[kindCode(kind)] > 0) boundaryCellsOnCrop(pathCrop, kind);
     }
   });
   const trajectories: TrajectoryFigures[] = stage('trajectory', () =>

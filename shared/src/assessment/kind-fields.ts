@@ -1,11 +1,12 @@
 /**
- * Distance fields of each structure kind on the assessment's crop, exact (Felzenszwalb &
- * Huttenlocher 2012, anisotropic; geometry/distance-transform.ts) and kept in the injected
- * cache under series + kind (with its label values) + crop. Distances are millimetres between
- * voxel centres; the voxels beyond the crop are not seen (see `euclideanDistanceTransform`'s
- * note on boxes: a value d is exact when the crop reaches d beyond the voxel).
+ * What the assessment derives from each structure kind on its crop, kept in the injected cache
+ * under series + kind (with its label values) + crop: the kind's boundary cells packed for
+ * exact clearances (geometry/cell-distance.ts), and its interior distance field for vessel
+ * calibre — exact (Felzenszwalb & Huttenlocher 2012, anisotropic; geometry/distance-
+ * transform.ts), millimetres between voxel centres. The voxels beyond the crop are not seen.
  */
 import type { StructureKind } from '../api/structures';
+import { boundaryVoxelsOfMask, packCells } from '../geometry/cell-distance';
 import { euclideanDistanceTransform } from '../geometry/distance-transform';
 import type { VolumeGeometry } from '../geometry/patient-geometry';
 import type { VoxelBox } from '../geometry/voxel-box';
@@ -26,10 +27,11 @@ export interface CropContext {
   inventory: LabelInventory;
 }
 
-/** Which field of a kind. */
-export type KindFieldVariant = 'outside' | 'inside';
+/** Which array of a kind. */
+export type KindFieldVariant = 'cells' | 'inside';
 
 const isFloat32 = (value: CachedArray): value is Float32Array => value instanceof Float32Array;
+const isInt32 = (value: CachedArray): value is Int32Array => value instanceof Int32Array;
 
 /** The cache key of a kind's field on the crop; null without a series key. */
 export function kindFieldKey(
@@ -44,23 +46,20 @@ export function kindFieldKey(
 }
 
 /**
- * Distance from each crop voxel centre to the nearest crop voxel centre of the kind, mm: 0 on
- * the kind's voxels, Infinity everywhere when the crop holds none.
+ * The kind's boundary voxels on the crop (a face neighbour of another kind, or on the crop's
+ * edge), packed by brick for `segmentApproachToCells` on the crop's grid.
  */
-export function outsideDistanceOfKind(context: CropContext, kind: StructureKind): Float32Array {
+export function boundaryCellsOnCrop(context: CropContext, kind: StructureKind): Int32Array {
   const code = kindCode(kind);
   return cachedArray(
     context.cache,
-    kindFieldKey(context, kind, 'outside'),
+    kindFieldKey(context, kind, 'cells'),
     () => {
+      const { dimensions } = context.geometry;
       const mask = maskOfCode(context.kindCodes, code, true);
-      return euclideanDistanceTransform(
-        mask,
-        context.geometry.dimensions,
-        context.geometry.spacingMm,
-      );
+      return packCells(boundaryVoxelsOfMask(mask, dimensions), dimensions);
     },
-    isFloat32,
+    isInt32,
   );
 }
 

@@ -1,26 +1,24 @@
 /**
- * Exact nearest approach of a straight path to a structure anywhere on the series grid: the
- * smallest distance from the segment entry → tip to the centres of the structure's voxels.
- * The nearest voxel to a point farther than half a voxel from a structure is always a boundary
- * voxel (one with a face neighbour outside the structure: step from an inner voxel towards the
- * point along its largest offset and the distance falls), so only those are visited. Used
- * where a clearance lies beyond the reach of the crop's distance fields.
- * Positions LPS, millimetres.
+ * A structure kind's voxels on the whole series grid, for an exact clearance where it lies
+ * beyond the reach of the assessment's crop: its boundary voxels (those with a face neighbour
+ * of another kind, or on the grid's edge; only they can hold the cell nearest a point outside,
+ * geometry/cell-distance.ts) found within the bounding box of the kind's labels, packed by
+ * brick for `segmentApproachToCells`. Positions LPS, millimetres.
  */
 import type { StructureKind } from '../api/structures';
+import { packCells } from '../geometry/cell-distance';
 import { lpsToVoxel, type VolumeGeometry } from '../geometry/patient-geometry';
-import { distance, type Vec3 } from '../geometry/vector';
+import type { Vec3 } from '../geometry/vector';
 import { cachedArray, type CachedArray, type DistanceFieldCache } from './distance-field-cache';
 import type { LabelInventory } from './label-inventory';
 
 const isInt32 = (value: CachedArray): value is Int32Array => value instanceof Int32Array;
 
 /**
- * Indices (i + nx·(j + ny·k)) of the kind's voxels that have a face neighbour of another kind
- * or lie on the grid's edge, found within the bounding box of the kind's labels; cached under
- * series + kind + labels when a cache and a series key are given.
+ * The kind's boundary voxels on the series grid, packed by brick (geometry/cell-distance.ts
+ * `packCells`); cached under series + kind + labels when a cache and a series key are given.
  */
-export function boundaryVoxelsOfKind(
+export function boundaryCellsOfKind(
   labelMap: Uint8Array | Uint16Array,
   geometry: VolumeGeometry,
   inventory: LabelInventory,
@@ -29,11 +27,11 @@ export function boundaryVoxelsOfKind(
   seriesKey: string | null = null,
 ): Int32Array {
   const labels = inventory.labelsOfKind.get(kind) ?? [];
-  const key = seriesKey === null ? null : `${seriesKey}|${kind}:${labels.join(',')}|boundary`;
+  const key = seriesKey === null ? null : `${seriesKey}|${kind}:${labels.join(',')}|cells`;
   return cachedArray(
     cache,
     key,
-    () => findBoundary(labelMap, geometry, inventory, labels),
+    () => packCells(findBoundary(labelMap, geometry, inventory, labels), geometry.dimensions),
     isInt32,
   );
 }
@@ -113,65 +111,4 @@ export function segmentOnGrid(
     high = Math.min(high, Math.max(a, b));
   }
   return low <= high ? [low, high] : null;
-}
-
-/** Nearest approach of a segment to a set of voxel centres. */
-export interface SegmentApproach {
-  /** Smallest distance from the segment to a voxel centre of the set, mm. */
-  distanceMm: number;
-  /** Where on the segment it lies, mm from the entry. */
-  atMm: number;
-}
-
-/**
- * Smallest distance from the segment entry → tip (LPS, millimetres), limited to the fractions
- * `[from, to]` of its length, to the centres of the given voxels (indices on `geometry`); null
- * for an empty set.
- */
-export function nearestApproachToVoxels(
-  geometry: VolumeGeometry,
-  voxelIndices: Int32Array,
-  entryLps: Readonly<Vec3>,
-  tipLps: Readonly<Vec3>,
-  [from, to]: [number, number] = [0, 1],
-): SegmentApproach | null {
-  if (voxelIndices.length === 0) return null;
-  const [nx, ny] = geometry.dimensions;
-  const [x, y, z] = geometry.direction;
-  const [si, sj, sk] = geometry.spacingMm;
-  const origin = geometry.originLps;
-  const direction: Vec3 = [
-    tipLps[0] - entryLps[0],
-    tipLps[1] - entryLps[1],
-    tipLps[2] - entryLps[2],
-  ];
-  const lengthSquared = direction[0] ** 2 + direction[1] ** 2 + direction[2] ** 2;
-  let bestSquared = Infinity;
-  let bestFraction = from;
-  for (let n = 0; n < voxelIndices.length; n++) {
-    const index = voxelIndices[n];
-    const i = index % nx;
-    const j = Math.floor(index / nx) % ny;
-    const k = Math.floor(index / (nx * ny));
-    const px = origin[0] + x[0] * si * i + y[0] * sj * j + z[0] * sk * k - entryLps[0];
-    const py = origin[1] + x[1] * si * i + y[1] * sj * j + z[1] * sk * k - entryLps[1];
-    const pz = origin[2] + x[2] * si * i + y[2] * sj * j + z[2] * sk * k - entryLps[2];
-    const projected =
-      lengthSquared === 0
-        ? from
-        : (px * direction[0] + py * direction[1] + pz * direction[2]) / lengthSquared;
-    const fraction = Math.min(to, Math.max(from, projected));
-    const dx = px - fraction * direction[0];
-    const dy = py - fraction * direction[1];
-    const dz = pz - fraction * direction[2];
-    const squared = dx * dx + dy * dy + dz * dz;
-    if (squared < bestSquared) {
-      bestSquared = squared;
-      bestFraction = fraction;
-    }
-  }
-  return {
-    distanceMm: Math.sqrt(bestSquared),
-    atMm: bestFraction * distance(entryLps, tipLps),
-  };
 }

@@ -1,7 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import type { SafetyProfileBody } from '../api/safety-profiles';
 import type { StructureKind } from '../api/structures';
-import { halfVoxelDiagonalMm } from '../geometry/path-clearance';
 import { voxelCount, type VolumeGeometry } from '../geometry/patient-geometry';
 import { boxGeometry } from '../geometry/voxel-box';
 import type { Vec3 } from '../geometry/vector';
@@ -24,7 +23,6 @@ const geometry: VolumeGeometry = {
     [0, 0, 1],
   ],
 };
-const h = halfVoxelDiagonalMm(spacingMm);
 
 const structures: AssessmentStructure[] = [
   { id: 'liver', labelValue: 1, kind: 'liver' },
@@ -122,31 +120,35 @@ describe('assessTrajectory: clearance', () => {
   const entry: Vec3 = [-40, 0, 0];
   const tip: Vec3 = [30, 0, 0];
 
-  it('reads d − r beside a cylindrical vessel, within the voxelisation bounds', () => {
-    // Bounds derived in path-clearance.spec.ts: −h ≤ clearance − (d − r) ≤ 3h, h = half the
-    // voxel diagonal (interpolation ±h; centres of a voxelised tube lie 0 to 2h inside its wall).
+  it('reads d − r beside a cylindrical vessel, to within half a voxel along the approach', () => {
+    // The path approaches the artery along y (spacing 0.8 mm). Labelled by its centres, a
+    // convex body's voxel faces lie within half a voxel of its surface along the direction of
+    // approach (a centre inside the body holds its whole cell within half a cell of it; every
+    // point deeper than half a cell lies in a labelled cell), so |clearance − (s − r)| ≤ 0.4 mm.
     const clearance = clearanceTo(trajectoryOf(labels, entry, tip, 20), 'hepatic-artery');
-    expect(clearance.minDistanceMm).toBeGreaterThanOrEqual(s - r - h);
-    expect(clearance.minDistanceMm).toBeLessThanOrEqual(s - r + 3 * h);
-    // Where: the analytic distance √(s² + (t − t₀)²) − r stays within 4h of its minimum only
-    // for |t − t₀| ≤ √((s + 4h)² − s²); t₀ = 44 mm from the entry.
-    const reachMm = Math.sqrt((s + 4 * h) ** 2 - s * s);
+    expect(Math.abs(clearance.minDistanceMm - (s - r))).toBeLessThanOrEqual(spacingMm[1] / 2);
+    // The bound widens every cell by a voxel: one spacing below the face distance along y,
+    // never above the truth.
+    expect(clearance.lowerBoundMm).toBeLessThanOrEqual(s - r);
+    expect(clearance.lowerBoundMm).toBeCloseTo(clearance.minDistanceMm - spacingMm[1], 9);
+    // Where: the analytic distance √(s² + (t − t₀)²) − r stays within a voxel of its minimum
+    // only for |t − t₀| ≤ √((s + 2·0.8)² − s²); t₀ = 44 mm from the entry.
+    const reachMm = Math.sqrt((s + 2 * spacingMm[1]) ** 2 - s * s);
     expect(Math.abs(clearance.atMm - 44)).toBeLessThanOrEqual(reachMm);
   });
 
   it('finds the same clearance exactly when the vessel lies beyond the crop', () => {
     // With a 4 mm crop margin the artery (5.5 mm off) is not in the crop: the clearance is then
-    // measured against its boundary voxels on the whole series (within the voxelisation
-    // bounds, with no interpolation: 0 ≤ clearance − (d − r) ≤ 2h).
+    // measured against its boundary voxels on the whole series — the same cells, so the same
+    // figures to rounding.
     const clearance = clearanceTo(trajectoryOf(labels, entry, tip, 4), 'hepatic-artery');
-    expect(clearance.minDistanceMm).toBeGreaterThanOrEqual(s - r);
-    expect(clearance.minDistanceMm).toBeLessThanOrEqual(s - r + 2 * h);
-    expect(Math.abs(clearance.atMm - 44)).toBeLessThanOrEqual(Math.sqrt((s + 2 * h) ** 2 - s * s));
     const fromCrop = clearanceTo(trajectoryOf(labels, entry, tip, 20), 'hepatic-artery');
-    expect(Math.abs(clearance.minDistanceMm - fromCrop.minDistanceMm)).toBeLessThanOrEqual(h);
+    expect(clearance.minDistanceMm).toBeCloseTo(fromCrop.minDistanceMm, 9);
+    expect(clearance.lowerBoundMm).toBeCloseTo(fromCrop.lowerBoundMm ?? NaN, 9);
+    expect(clearance.atMm).toBeCloseTo(fromCrop.atMm, 9);
   });
 
-  it('keeps distance fields in the cache and reuses them', () => {
+  it('keeps the boundary cells of the crop in the cache and reuses them', () => {
     const cache = createDistanceFieldCache();
     const stored: string[] = [];
     const spy: DistanceFieldCache = {
@@ -158,7 +160,7 @@ describe('assessTrajectory: clearance', () => {
     };
     const first = trajectoryOf(labels, entry, tip, 20, spy);
     expect(stored).toHaveLength(1);
-    expect(stored[0]).toContain('series-1|hepatic-artery:3|outside|');
+    expect(stored[0]).toContain('series-1|hepatic-artery:3|cells|');
     const again = trajectoryOf(labels, entry, [30, 0.5, 0], 20, spy);
     expect(stored).toHaveLength(1);
     expect(again.safety.clearances).toHaveLength(first.safety.clearances.length);

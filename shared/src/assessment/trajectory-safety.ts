@@ -5,27 +5,29 @@
  * the working length, the angle from the axial plane, liver capsule crossings and the
  * parenchyma crossed before the tumour. Positions LPS, millimetres.
  *
- * Clearances come from the crop's distance fields (kind-fields.ts) by trilinear interpolation,
- * within half a voxel diagonal of the distance to the kind's voxel centres (path-clearance.ts).
- * A crop field only sees the crop; where its smallest value along the path is too large to be
- * trusted (see `exactClearanceLimitMm`), or the crop holds none of the kind, the clearance is
- * measured exactly against the kind's boundary voxels on the whole series (segment-distance.ts).
+ * Clearances are exact distances from the segment to the faces of the kind's voxels (the
+ * union of their cells, geometry/cell-distance.ts), each with its conservative bound: the
+ * distance to those cells widened by a voxel on every side. They are measured on the crop
+ * first; where a result is too large to rule out a nearer voxel beyond the crop (see
+ * `croppedClearanceLimitMm`), or the crop holds none of the kind, against the kind's boundary
+ * voxels on the whole series (segment-distance.ts).
  */
 import type { ApplicatorSafety, KindClearance, TraversedStructure } from '../api/assessments';
 import type { SafetyProfileBody } from '../api/safety-profiles';
 import type { StructureKind } from '../api/structures';
-import { halfVoxelDiagonalMm, pathClearance } from '../geometry/path-clearance';
+import { segmentApproachToCells, type CellApproach } from '../geometry/cell-distance';
 import type { VolumeGeometry } from '../geometry/patient-geometry';
-import { distance, type Vec3 } from '../geometry/vector';
-import { outsideDistanceOfKind, type CropContext } from './kind-fields';
+import { distance, dot, type Vec3 } from '../geometry/vector';
+import { boundaryCellsOnCrop, type CropContext } from './kind-fields';
 import { kindCode, kindOfCode } from './label-inventory';
 import {
   capsuleCrossings,
   lengthsInsideKinds,
   parenchymaBeforeTumourMm,
   pathProfile,
+  type PathProfile,
 } from './path-profile';
-import { boundaryVoxelsOfKind, nearestApproachToVoxels, segmentOnGrid } from './segment-distance';
+import { boundaryCellsOfKind, segmentOnGrid } from './segment-distance';
 
 /** What the trajectory check reads besides the applicator. */
 export interface TrajectoryContext {
@@ -57,14 +59,17 @@ export interface TrajectoryFigures {
 }
 
 /**
- * Smallest crop-field clearance (mm) that is certainly the clearance on the whole series, for
- * a crop reaching `pathMarginMm` beyond the path: a voxel centre used by the interpolation lies
- * within one spacing of the path, so its crop value is exact below margin − largest spacing;
- * where it is not, its true value is at least that, and the interpolated value at least that
- * minus a voxel diagonal (the field is 1-Lipschitz).
+ * Largest clearance (mm) measured on a crop reaching `pathMarginMm` beyond the path that is
+ * certainly the clearance on the whole series: a voxel left out of the crop has its centre at
+ * least the margin from every point of the path along some grid axis, so its cell lies at
+ * least margin − ½ spacing away, and widened by a voxel, margin − 1½ spacings.
  */
-export function exactClearanceLimitMm(pathMarginMm: number, spacingMm: Readonly<Vec3>): number {
-  return pathMarginMm - Math.max(...spacingMm) - 2 * halfVoxelDiagonalMm(spacingMm);
+export function croppedClearanceLimitMm(
+  pathMarginMm: number,
+  spacingMm: Readonly<Vec3>,
+  isWidened: boolean,
+): number {
+  return pathMarginMm - (isWidened ? 1.5 : 0.5) * Math.max(...spacingMm);
 }
 
 /** The trajectory figures of one applicator. */
@@ -92,8 +97,9 @@ export function assessTrajectory(
       return { kind, lengthMm, critical: criticalKinds.has(kind) };
     });
   const clearances = context.crop.inventory.kindsPresent
-    .map((kind) => clearanceTo(context, kind, entryLps, tipLps))
+    .map((kind) => clearanceTo(context, kind, profile, entryLps, tipLps))
     .filter((clearance): clearance is KindClearance => clearance !== null);
+  const parenchymaMm = parenchymaBeforeTumourMm(profile);
   return {
     safety: {
       pathLengthMm: lengthMm,
@@ -102,7 +108,16 @@ export function assessTrajectory(
       clearances,
       traversed,
       capsuleCrossings: capsuleCrossings(profile),
-      parenchymaBeforeTumourMm: parenchymaBeforeTumourMm(profile),
+      parenchymaBeforeTumourMm: parenchymaMm,
+      parenchymaBeforeTumourLowerMm:
+        parenchymaMm === null
+          ? null
+          : Math.max(
+              0,
+              parenchymaMm -
+                2 * voxelExtentAlongMm(context.seriesGeometry, entryLps, tipLps) -
+                profile.sampling.stepMm,
+            ),
     },
     samplesOutsideSeries: profile.samplesOutsideSeries,
   };
@@ -119,28 +134,62 @@ export function angulationFromAxialDeg(entryLps: Readonly<Vec3>, tipLps: Readonl
   return (Math.asin(sine) * 180) / Math.PI;
 }
 
+/**
+ * Extent of one voxel along the path, mm: Σ |uₐ|·wₐ for the path's unit direction u in the
+ * grid's axes (a box of sides wₐ spans that much along u). Each end of a length read along the
+ * path (a surface crossed) may lie that far from where the labels put it.
+ */
+export function voxelExtentAlongMm(
+  geometry: VolumeGeometry,
+  entryLps: Readonly<Vec3>,
+  tipLps: Readonly<Vec3>,
+): number {
+  const lengthMm = distance(entryLps, tipLps);
+  if (lengthMm === 0) return Math.max(...geometry.spacingMm);
+  const unit: Vec3 = [
+    (tipLps[0] - entryLps[0]) / lengthMm,
+    (tipLps[1] - entryLps[1]) / lengthMm,
+    (tipLps[2] - entryLps[2]) / lengthMm,
+  ];
+  return [0, 1, 2].reduce(
+    (sum, axis) => sum + Math.abs(dot(unit, geometry.direction[axis])) * geometry.spacingMm[axis],
+    0,
+  );
+}
+
 function clearanceTo(
   context: TrajectoryContext,
   kind: StructureKind,
+  profile: PathProfile,
   entryLps: Vec3,
   tipLps: Vec3,
 ): KindClearance | null {
   const { crop } = context;
-  if (context.cropVoxelsPerKindCode[kindCode(kind)] > 0) {
-    const field = { valuesMm: outsideDistanceOfKind(crop, kind), geometry: crop.geometry };
-    const clearance = pathClearance(field, entryLps, tipLps);
-    const limitMm = exactClearanceLimitMm(context.pathMarginMm, crop.geometry.spacingMm);
-    if (clearance.minimumDistanceMm !== null && clearance.minimumDistanceMm < limitMm) {
-      return {
-        kind,
-        minDistanceMm: clearance.minimumDistanceMm,
-        atMm: clearance.minimumFromEntryMm ?? 0,
-      };
-    }
-  }
   const onGrid = segmentOnGrid(context.seriesGeometry, entryLps, tipLps);
   if (onGrid === null) return null;
-  const boundary = boundaryVoxelsOfKind(
+  // A sample inside the kind: the path enters it (also where it never crosses a boundary voxel,
+  // running wholly inside).
+  const firstInside = profile.codes.indexOf(kindCode(kind));
+  if (firstInside >= 0) {
+    return { kind, minDistanceMm: 0, lowerBoundMm: 0, atMm: firstInside * profile.sampling.stepMm };
+  }
+  if (context.cropVoxelsPerKindCode[kindCode(kind)] > 0) {
+    const approach = segmentApproachToCells(
+      crop.geometry,
+      boundaryCellsOnCrop(crop, kind),
+      entryLps,
+      tipLps,
+    );
+    const spacingMm = crop.geometry.spacingMm;
+    if (
+      approach !== null &&
+      approach.distanceMm < croppedClearanceLimitMm(context.pathMarginMm, spacingMm, false) &&
+      approach.lowerBoundMm < croppedClearanceLimitMm(context.pathMarginMm, spacingMm, true)
+    ) {
+      return clearanceOf(kind, approach);
+    }
+  }
+  const cells = boundaryCellsOfKind(
     context.labelMap,
     context.seriesGeometry,
     crop.inventory,
@@ -148,14 +197,15 @@ function clearanceTo(
     crop.cache,
     crop.seriesKey,
   );
-  const approach = nearestApproachToVoxels(
-    context.seriesGeometry,
-    boundary,
-    entryLps,
-    tipLps,
-    onGrid,
-  );
-  return approach === null
-    ? null
-    : { kind, minDistanceMm: approach.distanceMm, atMm: approach.atMm };
+  const approach = segmentApproachToCells(context.seriesGeometry, cells, entryLps, tipLps);
+  return approach === null ? null : clearanceOf(kind, approach);
+}
+
+function clearanceOf(kind: StructureKind, approach: CellApproach): KindClearance {
+  return {
+    kind,
+    minDistanceMm: approach.distanceMm,
+    lowerBoundMm: approach.lowerBoundMm,
+    atMm: approach.atMm,
+  };
 }

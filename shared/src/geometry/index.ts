@@ -7,3 +7,4 @@ export * from './voxel-box';
 export * from './nifti-orientation';
 export * from './distance-transform';
 export * from './path-clearance';
+export * from './cell-distance';

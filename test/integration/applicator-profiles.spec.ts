@@ -155,7 +155,9 @@ describe('applicator profiles', () => {
     const events = await testApp.orm.em
       .fork()
       .find(AuditEvent, { action: 'applicator-profile.update', entityId: profile.id });
-    expect(events.map((event) => event.detail)).toEqual([{ fields: ['isRetired', 'name'] }]);
+    expect(events.map((event) => event.detail)).toEqual([
+      { fields: ['isRetired', 'name'], version: 1 },
+    ]);
   });
 
   it('answers 404 for an unknown or malformed profile id', async () => {
@@ -238,15 +240,15 @@ describe('safety profiles', () => {
     expect(defaults).toBe(1);
   });
 
-  it('replaces the thresholds with PUT, and moves the default to it when asked', async () => {
+  it('changes the thresholds with PATCH, and moves the default to it when asked', async () => {
     const created = (
       await admin.post('/api/admin/safety-profiles', safetyBody('Board B thresholds'))
     ).body as SafetyProfileView;
     expect(created.isDefault).toBe(false);
-    const replaced = await admin.put(
-      `/api/admin/safety-profiles/${created.id}`,
-      safetyBody('Board B thresholds', { maximumAngulationDeg: 25, isDefault: true }),
-    );
+    const replaced = await admin.patch(`/api/admin/safety-profiles/${created.id}`, {
+      maximumAngulationDeg: 25,
+      isDefault: true,
+    });
     expect(replaced.status, JSON.stringify(replaced.body)).toBe(200);
     expect(replaced.body).toMatchObject({ maximumAngulationDeg: 25, isDefault: true });
     expect(await testApp.orm.em.fork().count(SafetyProfile, { isDefault: true })).toBe(1);
@@ -259,10 +261,9 @@ describe('safety profiles', () => {
 
   it('refuses to unmark the default without another taking its place (409)', async () => {
     const current = (await member.get('/api/safety-profiles/default')).body as SafetyProfileView;
-    const response = await admin.put(
-      `/api/admin/safety-profiles/${current.id}`,
-      safetyBody(current.name, { isDefault: false }),
-    );
+    const response = await admin.patch(`/api/admin/safety-profiles/${current.id}`, {
+      isDefault: false,
+    });
     expect(response.status).toBe(409);
     expect(problem(response.body).detail).toContain('make another profile the default');
   });

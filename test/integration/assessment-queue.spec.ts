@@ -68,12 +68,7 @@ async function nudgeSafetyProfile(): Promise<void> {
   const current = (await admin.get('/api/admin/safety-profiles')).body as SafetyProfileView[];
   const profile = current.find((entry) => entry.isDefault);
   if (!profile) throw new Error('no default safety profile');
-  const body: Partial<SafetyProfileView> = { ...profile };
-  delete body.id;
-  delete body.createdAt;
-  delete body.updatedAt;
-  const response = await admin.put(`/api/admin/safety-profiles/${profile.id}`, {
-    ...body,
+  const response = await admin.patch(`/api/admin/safety-profiles/${profile.id}`, {
     maximumAngulationDeg: profile.maximumAngulationDeg + 1,
   });
   expect(response.status).toBe(200);

@@ -316,12 +316,12 @@ const routes: Route[] = [
     expected: row(401, 200, 403, 403, 403, 403, 403),
   },
   {
-    name: 'PUT /api/admin/safety-profiles/:default',
+    name: 'PATCH /api/admin/safety-profiles/:default',
     call: (c, x) =>
-      c.put(
-        `/api/admin/safety-profiles/${x.safetyProfileId}`,
-        safetyBody(`Matrix default ${x.runTag}`, { isDefault: true }),
-      ),
+      c.patch(`/api/admin/safety-profiles/${x.safetyProfileId}`, {
+        name: `Matrix default ${x.runTag}`,
+        isDefault: true,
+      }),
     expected: row(401, 200, 403, 403, 403, 403, 403),
   },
   {

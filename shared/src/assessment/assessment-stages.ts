@@ -32,6 +32,16 @@ export const assessmentStageLabels: Record<AssessmentStage, string> = {
   verdict: 'Verdict',
 };
 
+/**
+ * The steps the server's assessment task reports around the engine's own stages (reading the
+ * label map, calibrating the heating model per applicator profile), with their words.
+ */
+export const taskStageLabels = {
+  'reading-structures': 'Reading the structures',
+  'calibrating-heating': 'Calibrating the heating model',
+} as const;
+export type TaskStage = keyof typeof taskStageLabels;
+
 /** Rough share of a table-only run's time (measured on the benchmark plan), summing to 1. */
 const TABLE_RUN_SHARES: Record<AssessmentStage, number> = {
   inventory: 0.05,

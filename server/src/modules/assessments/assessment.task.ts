@@ -14,6 +14,7 @@ import {
   encodeAssessmentDisplay,
   DEFAULT_ASSESSMENT_CROP_MARGIN_MM,
   createDistanceFieldCache,
+  taskStageLabels,
 } from '@emberline/shared';
 import type {
   AssessmentTaskInput,
@@ -83,7 +84,7 @@ async function assess({
   const report = (progress: TaskProgress) => port.postMessage(progress);
   const { labels } = decodeLabelMapFile(input.labelMap.buffer);
   const calibrationShare = input.isBioheatRequested ? 0.15 : 0;
-  report({ fraction: 0.01, stage: 'Reading the structures' });
+  report({ fraction: 0.01, stage: taskStageLabels['reading-structures'] });
   const used = new Map<string, ProfileCalibration>();
   const applicators = input.applicators.map((applicator, index) => {
     const fitted = input.isBioheatRequested ? calibrationOf(applicator.profile) : undefined;
@@ -91,7 +92,7 @@ async function assess({
     const calibration = fitted?.parameter;
     report({
       fraction: (calibrationShare * (index + 1)) / input.applicators.length,
-      stage: 'Calibrating the heating model',
+      stage: taskStageLabels['calibrating-heating'],
     });
     return {
       entry: applicator.entry,

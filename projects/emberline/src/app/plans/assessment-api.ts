@@ -1,6 +1,6 @@
 import { HttpClient, HttpContext } from '@angular/common/http';
 import { Injectable, inject } from '@angular/core';
-import type { AssessmentView } from '@emberline/shared';
+import type { AssessmentView, RequestAssessment } from '@emberline/shared';
 import type { Observable } from 'rxjs';
 import { SHOWS_OWN_ERRORS } from '../core/http-context-tokens';
 
@@ -13,13 +13,14 @@ export class AssessmentApi {
   private readonly http = inject(HttpClient);
 
   /**
-   * Queues an assessment of the plan (202). An unchanged plan answers its existing assessment,
-   * which may already be done.
+   * Queues an assessment of the plan (202), against the default safety profile unless
+   * `safetyProfileId` names another. A plan whose inputs have not changed answers its existing
+   * assessment, which may already be done.
    */
-  request(planId: string): Observable<AssessmentView> {
+  request(planId: string, body: RequestAssessment = {}): Observable<AssessmentView> {
     return this.http.post<AssessmentView>(
       `/api/plans/${encodeURIComponent(planId)}/assessments`,
-      null,
+      body,
       { context: shownBeside() },
     );
   }

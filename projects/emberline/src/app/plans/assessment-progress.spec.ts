@@ -17,6 +17,7 @@ function view(overrides: Partial<AssessmentView> = {}): AssessmentView {
     planId: 'plan-1',
     status: 'queued',
     progress: 0,
+    inputs: null,
     createdAt: '2026-11-20T10:00:00.000Z',
     updatedAt: '2026-11-20T10:00:00.000Z',
     ...overrides,
@@ -85,10 +86,12 @@ describe('AssessmentProgress', () => {
       event: { id, planId: 'plan-1', status: 'running', progress: 0.45, stage: 'Distance fields' },
     });
     await fixture.whenStable();
-    expect(textOf(fixture)).toContain('Running · Distance fields 45 %');
+    expect(textOf(fixture)).toContain('Running · Measuring distances to vessels and organs 45 %');
     expect(bar().getAttribute('mode')).toBe('determinate');
     expect(bar().getAttribute('aria-valuenow')).toBe('45');
-    expect(textOf(fixture)).toContain('Assessment running: Distance fields');
+    expect(textOf(fixture)).toContain(
+      'Assessment running: Measuring distances to vessels and organs',
+    );
   });
 
   it('never runs the bar backwards when an older event arrives late', async () => {

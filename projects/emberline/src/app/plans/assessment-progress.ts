@@ -33,6 +33,7 @@ import {
 import { problemMessage } from '../core/problem';
 import { RealtimeSession, type RealtimeConnection } from '../core/realtime-session';
 import { AssessmentApi } from './assessment-api';
+import { stageInWords } from './assessment-stage-words';
 import { isFinished } from './plan-assessments';
 
 export const assessmentStatusLabels: Record<AssessmentStatus, string> = {
@@ -93,8 +94,14 @@ export class AssessmentProgress {
   );
   /** Read out on changes of status or stage, not on every percent. */
   protected readonly announcement = computed(() => {
-    const { status, stage } = this.current();
+    const { status } = this.current();
+    const stage = this.stageWords();
     return `Assessment ${this.statusLabels[status].toLowerCase()}${stage ? `: ${stage}` : ''}`;
+  });
+  /** The step under way in clinical words; empty when the server named none. */
+  protected readonly stageWords = computed(() => {
+    const stage = this.current().stage;
+    return stage ? stageInWords(stage) : '';
   });
 
   private readonly followedId = computed(() => {

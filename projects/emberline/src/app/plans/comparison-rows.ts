@@ -390,7 +390,7 @@ function clearanceKinds(applicators: readonly (ApplicatorSafety | undefined)[]):
 }
 
 /** Tumours by their structure name; one without a known name by its order of appearance. */
-function tumourLabeller(
+export function tumourLabeller(
   results: readonly AssessmentResult[],
   names: ReadonlyMap<string, string>,
 ): (structureId: string) => string {

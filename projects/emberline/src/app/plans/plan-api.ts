@@ -39,7 +39,17 @@ export class PlanApi {
     });
   }
 
-  /** Deletes a draft plan (the server refuses any other). */
+  /**
+   * A new draft with the plan's series, applicators and profiles, its name suffixed
+   * " (revision N)" (201); the presenting physician of the case only.
+   */
+  copy(planId: string): Observable<PlanView> {
+    return this.http.post<PlanView>(`/api/plans/${encodeURIComponent(planId)}/copy`, null, {
+      context: shownBeside(),
+    });
+  }
+
+  /** Deletes a draft plan, or one whose assessment failed (the server refuses any other). */
   remove(planId: string): Observable<null> {
     return this.http.delete<null>(`/api/plans/${encodeURIComponent(planId)}`, {
       context: shownBeside(),

@@ -30,6 +30,7 @@ function assessment(overrides: Partial<AssessmentView>): AssessmentView {
     planId,
     status: 'queued',
     progress: 0,
+    inputs: null,
     createdAt: '2026-11-20T10:00:00.000Z',
     updatedAt: '2026-11-20T10:00:00.000Z',
     ...overrides,
@@ -113,6 +114,50 @@ describe('PlanAssessment', () => {
     http.expectOne(listUrl).flush(doneView, { status: 202, statusText: 'Accepted' });
     await fixture.whenStable();
     expect(textOf(fixture)).toContain('The plan has not changed since its last assessment');
+  });
+
+  it('says the plan was assessed on earlier inputs, lists what changed and offers a new assessment', async () => {
+    const changed = {
+      ...doneView,
+      inputChanges: [
+        {
+          kind: 'applicator-profile' as const,
+          message: 'Applicator profile “Probe A” is at version 3 (assessed on version 2).',
+        },
+        {
+          kind: 'label-map' as const,
+          message: 'The structures’ label map has been replaced since the assessment.',
+        },
+      ],
+    };
+    await open(true, [changed]);
+    const notice = (fixture.nativeElement as HTMLElement).querySelector('[data-earlier-inputs]');
+    expect(notice?.textContent).toContain('Assessed on earlier inputs');
+    expect(
+      Array.from(notice?.querySelectorAll('li') ?? []).map((item) => item.textContent),
+    ).toEqual(changed.inputChanges.map((change) => change.message));
+    const again = Array.from(
+      (fixture.nativeElement as HTMLElement).querySelectorAll('button'),
+    ).find((button) => button.textContent?.includes('Assess again on today’s inputs'));
+    again?.click();
+    const request = http.expectOne(listUrl);
+    expect(request.request.method).toBe('POST');
+    request.flush(assessment({ id: 'as-2', createdAt: '2026-11-21T10:00:00.000Z' }), {
+      status: 202,
+      statusText: 'Accepted',
+    });
+    await fixture.whenStable();
+    expect(textOf(fixture)).toContain('Queued');
+    expect(
+      (fixture.nativeElement as HTMLElement).querySelector('[data-earlier-inputs]'),
+    ).toBeNull();
+  });
+
+  it('shows no earlier-inputs notice when nothing changed since the assessment', async () => {
+    await open(true, [doneView]);
+    expect(
+      (fixture.nativeElement as HTMLElement).querySelector('[data-earlier-inputs]'),
+    ).toBeNull();
   });
 
   it('tells the refusal beside the button', async () => {

@@ -15,6 +15,7 @@ import { MatIcon } from '@angular/material/icon';
 import type { AssessmentView, PlanView } from '@emberline/shared';
 import { problemMessage } from '../core/problem';
 import { AssessmentProgress } from './assessment-progress';
+import { EarlierInputsNotice } from './earlier-inputs-notice';
 import { PlanAssessments, isFinished } from './plan-assessments';
 import { VerdictBadge } from './verdict-badge';
 
@@ -25,7 +26,7 @@ import { VerdictBadge } from './verdict-badge';
  */
 @Component({
   selector: 'em-plan-assessment',
-  imports: [DatePipe, MatButton, MatIcon, AssessmentProgress, VerdictBadge],
+  imports: [DatePipe, MatButton, MatIcon, AssessmentProgress, EarlierInputsNotice, VerdictBadge],
   templateUrl: './plan-assessment.html',
   styleUrl: './plan-assessment.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
@@ -44,6 +45,11 @@ export class PlanAssessment {
   protected readonly isRunning = computed(() => {
     const latest = this.latest();
     return latest !== null && !isFinished(latest);
+  });
+  /** What changed since the newest finished assessment ran; empty when nothing did. */
+  protected readonly inputChanges = computed(() => {
+    const latest = this.latest();
+    return latest && isFinished(latest) ? (latest.inputChanges ?? []) : [];
   });
   /** The board's choice is final: a selected or set-aside plan is not assessed again. */
   protected readonly isClosed = computed(() =>

@@ -1,5 +1,5 @@
 import { Injectable, inject, signal } from '@angular/core';
-import type { AssessmentView } from '@emberline/shared';
+import type { AssessmentView, RequestAssessment } from '@emberline/shared';
 import { tap, type Observable } from 'rxjs';
 import { problemMessage } from '../core/problem';
 import { AssessmentApi } from './assessment-api';
@@ -44,8 +44,8 @@ export class PlanAssessments {
   }
 
   /** Requests an assessment; the answer (new, or the unchanged plan's existing one) is kept. */
-  request(planId: string): Observable<AssessmentView> {
-    return this.api.request(planId).pipe(tap((view) => this.replace(view)));
+  request(planId: string, body: RequestAssessment = {}): Observable<AssessmentView> {
+    return this.api.request(planId, body).pipe(tap((view) => this.replace(view)));
   }
 
   /** Keeps a newer state of an assessment (a finished run, a fresh request). */

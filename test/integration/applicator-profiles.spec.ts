@@ -31,9 +31,7 @@ async function signedIn(email: string): Promise<ApiClient> {
   return client;
 }
 
-const newProfile = (
-  overrides: Partial<CreateApplicatorProfile> = {},
-): CreateApplicatorProfile => ({
+const newProfile = (overrides: Partial<CreateApplicatorProfile> = {}): CreateApplicatorProfile => ({
   name: 'Test microwave 15 G',
   modality: 'microwave',
   gaugeG: 15,

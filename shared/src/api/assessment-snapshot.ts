@@ -73,13 +73,7 @@ export interface AssessmentInputsView {
 /** What changed between the snapshot an assessment ran on and the plan's inputs today. */
 export interface InputChange {
   /** `engine`, `plan`, `label-map`, `structures`, `applicator-profile`, `safety-profile`. */
-  kind:
-    | 'engine'
-    | 'plan'
-    | 'label-map'
-    | 'structures'
-    | 'applicator-profile'
-    | 'safety-profile';
+  kind: 'engine' | 'plan' | 'label-map' | 'structures' | 'applicator-profile' | 'safety-profile';
   /** The change in words, e.g. "Applicator profile “Probe A” is at version 3 (assessed on 2)". */
   message: string;
 }

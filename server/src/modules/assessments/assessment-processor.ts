@@ -74,8 +74,8 @@ export function assessmentProcessor(dependencies: ProcessorDependencies) {
         );
       });
       await pending;
-      await saveCalibrations(orm, snapshot, output.newCalibrations ?? []).catch(
-        (error: unknown) => log('A fitted calibration was not stored.', error),
+      await saveCalibrations(orm, snapshot, output.newCalibrations ?? []).catch((error: unknown) =>
+        log('A fitted calibration was not stored.', error),
       );
       if (output.display) await dependencies.displays.write(assessment.id, output.display);
       await finishAssessment(orm, assessment.id, 'done', { result: output.result });

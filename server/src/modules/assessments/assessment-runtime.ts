@@ -14,7 +14,11 @@ import {
   type AssessmentPoolSettings,
 } from './assessment-pool';
 import { assessmentProcessor } from './assessment-processor';
-import { reaperSettingsFromEnvironment, startReaper, type ReaperSettings } from './assessment-reaper';
+import {
+  reaperSettingsFromEnvironment,
+  startReaper,
+  type ReaperSettings,
+} from './assessment-reaper';
 import {
   AssessmentQueue,
   assessmentQueueSettingsFromEnvironment,

@@ -60,7 +60,8 @@ export class ApplicatorProfileService {
         lockMode: LockMode.PESSIMISTIC_WRITE,
       });
       if (!profile) throw new NotFoundError('The applicator profile');
-      if (body.name !== undefined && body.name !== profile.name) await this.assertNameFree(em, body.name);
+      if (body.name !== undefined && body.name !== profile.name)
+        await this.assertNameFree(em, body.name);
       const workingLengthMm = body.workingLengthMm ?? profile.workingLengthMm;
       const activeLengthMm = body.activeLengthMm ?? profile.activeLengthMm;
       if (activeLengthMm >= workingLengthMm) {

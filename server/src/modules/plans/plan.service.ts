@@ -134,10 +134,7 @@ export class PlanService {
       clinicalCase: this.em.getReference(ClinicalCase, found.id, { wrapped: true }),
       series: this.em.getReference(ImageSeries, source.series.id, { wrapped: true }),
       author: this.em.getReference(User, user.id, { wrapped: true }),
-      name: revisedName(
-        source.name,
-        new Set(siblings.map((plan) => plan.name)),
-      ),
+      name: revisedName(source.name, new Set(siblings.map((plan) => plan.name))),
       applicators: source.applicators.map((applicator) => ({ ...applicator })),
     });
     copy.notes = source.notes;

@@ -43,4 +43,3 @@ export function snapshotApplicatorProfile(profile: ApplicatorProfile): SnapshotA
     zoneTableReference: profile.zoneTableReference,
   };
 }
-

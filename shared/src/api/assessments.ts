@@ -4,6 +4,7 @@
  * identifiers of `structureKinds` (DEVELOPERS.md, "Structure kinds").
  */
 import type { AssessmentInputsView, InputChange } from './assessment-snapshot';
+import type { HeatingParameters } from '../bioheat/heating-parameters';
 import type { StructureKind } from './structures';
 
 export const assessmentStatuses = ['queued', 'running', 'done', 'failed'] as const;
@@ -99,12 +100,19 @@ export interface ZoneAssessment {
   /**
    * How far the model's zone surface may lie from where it is read, mm: taken off every
    * conservative margin bound. 0 for the table zone, which is read analytically (an exact
-   * point-to-spheroid distance, no grid). Absent in results of engine versions before 1.1.0.
+   * point-to-spheroid distance, no grid). For the physics zone: how well the heating model
+   * predicted its profiles' zone table rows it was not fitted to (leave-one-out), with the error
+   * of reading its damage field onto the crop grid (`assessment/physics-acceptance.ts`).
+   * Absent in results of engine versions before 1.1.0.
    */
   boundaryErrorMm?: number;
   volumeMl: number;
   tumours: TumourCoverage[];
   collateral: CollateralVolume[];
+  /** The zone is shown for information only: the verdict does not use it. */
+  isAdvisory?: boolean;
+  /** Why it is advisory, in clinical words. */
+  advisoryReason?: string;
 }
 
 export interface HeatSinkVessel {
@@ -158,20 +166,42 @@ export interface Verdict {
 }
 
 /**
- * How the bioheat model was calibrated for one applicator profile: the coupling efficiency η
- * fitted so that, in homogeneous liver, the physics zone matches the profile's zone table, and
- * the residual of each table row (model − table, mm).
+ * How the bioheat model was calibrated for one applicator profile (`bioheat/calibration.ts`):
+ * the heating parameters fitted so that, in homogeneous liver, the physics zone matches the
+ * profile's zone table; the residual of each row (model − table, mm); the leave-one-out error
+ * (each row predicted by the model fitted without it); and whether the physics zone may decide
+ * the verdict with this profile. Fields marked optional are absent from results stored before
+ * the leave-one-out check (engine 1.1.0).
  */
 export interface ProfileCalibration {
   profileId: string;
+  /** The profile version calibrated and its name (filled in by the server). */
+  profileVersion?: number;
+  profileName?: string;
+  /** Coupling efficiency η at the reference power (no unit). */
   parameter: number;
+  /** Every fitted parameter by name. */
+  parameters?: HeatingParameters;
+  /** Root mean square and largest residual (length, width, centre), mm. */
   rmsResidualMm: number;
+  maxResidualMm?: number;
+  /** Root mean square and largest leave-one-out error, mm; null: too few rows to tell. */
+  leaveOneOutRmsMm?: number | null;
+  leaveOneOutMaxMm?: number | null;
   isAtRangeLimit: boolean;
+  isImplausible?: boolean;
+  implausibleReason?: string;
+  /** The safety profile's tolerance on the leave-one-out error, mm, and whether it is met. */
+  toleranceMm?: number;
+  isWithinTolerance?: boolean;
+  /** Why the physics zone is for information only with this profile, in clinical words. */
+  advisoryReason?: string;
   rows: {
     powerW: number;
     timeS: number;
     residualLengthMm: number;
     residualWidthMm: number;
+    residualTipOffsetMm?: number;
   }[];
 }
 

@@ -1,17 +1,17 @@
 /**
  * The heating model of an ablation applicator: where its absorbed power goes.
  *
- * The power is spread along the active segment — `activeLengthMm` long, ending at the tip,
- * running from the tip towards the entry — with a Gaussian fall-off of the distance d to that
- * segment: Q(x) = C·exp(−d²/(2σ²)), σ = `SOURCE_RADIUS_MM`. The constant C makes the integral
+ * The power is spread along the heating segment — `activeLengthMm` long, beginning
+ * `segmentOffsetMm` behind the tip (0: at the tip) and running towards the entry — with a
+ * Gaussian fall-off of the distance d to that segment: Q(x) = C·exp(−d²/(2σ²)), σ = `SOURCE_RADIUS_MM`. The constant C makes the integral
  * over all space equal to the absorbed power η·P:
  *
  *   ∫ exp(−d²/(2σ²)) dV = ℓ·2πσ² + (2π)^{3/2}·σ³   (a cylinder of length ℓ and two half-balls),
  *
- * so the power does not depend on the grid. η, the coupling efficiency, is the model's one free
- * parameter, calibrated per applicator profile against its zone table (`calibration.ts`): it
- * stands for everything the linear model leaves out (reflected power, cable losses, water
- * vapour and charring near the antenna).
+ * so the power does not depend on the grid. η, the coupling efficiency, the segment's length and
+ * its offset are calibrated per applicator profile against its zone table (`calibration.ts`,
+ * `heating-parameters.ts`): they stand for everything the linear model leaves out (reflected
+ * power, cable losses, water vapour and charring near the antenna).
  */
 import type { VolumeGeometry } from '../geometry/patient-geometry';
 import { ORIENTATION_TOLERANCE } from '../geometry/patient-geometry';
@@ -34,15 +34,20 @@ export interface ZoneApplicator {
   entryLps: Vec3;
   /** Tip, LPS, millimetres. */
   tipLps: Vec3;
-  /** Length of the heating segment that ends at the tip, millimetres. */
+  /** Length of the heating segment, millimetres (the calibrated `heatingLengthMm`). */
   activeLengthMm: number;
+  /**
+   * Where the heating segment begins behind the tip, millimetres (default 0: at the tip;
+   * negative: beyond it), the calibrated `segmentOffsetMm`.
+   */
+  segmentOffsetMm?: number;
   /** Generator power, watts. */
   powerW: number;
   /** How long the power is on, from time 0, seconds. */
   timeS: number;
   /**
-   * Coupling efficiency η (no unit): the share of `powerW` absorbed by the tissue, as found by
-   * `calibrateApplicatorProfile` for the applicator's profile (its `parameter`).
+   * Coupling efficiency η at this power (no unit): the share of `powerW` absorbed by the
+   * tissue, from the profile's calibration (`couplingEfficiencyAt`).
    */
   calibration: number;
 }
@@ -81,6 +86,9 @@ export function checkZoneApplicator(applicator: Readonly<ZoneApplicator>, label:
   if (!(applicator.powerW >= 0) || !Number.isFinite(applicator.powerW)) {
     throw new RangeError(`${label}.powerW must be 0 or more, got ${applicator.powerW}`);
   }
+  if (!Number.isFinite(applicator.segmentOffsetMm ?? 0)) {
+    throw new RangeError(`${label}.segmentOffsetMm must be a finite number`);
+  }
 }
 
 /**
@@ -118,6 +126,8 @@ export function applicatorPowerDensity(
   const shaftLength = Math.hypot(...shaft);
   const axis: Vec3 = [shaft[0] / shaftLength, shaft[1] / shaftLength, shaft[2] / shaftLength];
   const lengthMm = applicator.activeLengthMm;
+  const startMm = applicator.segmentOffsetMm ?? 0;
+  const endMm = startMm + lengthMm;
   const absorbedPowerW = applicator.calibration * applicator.powerW;
   const radiusM = radiusMm / 1000;
   const gaussianVolumeM3 =
@@ -141,7 +151,7 @@ export function applicatorPowerDensity(
         const y = rowY + directionI[1] * spacingI * i;
         const z = rowZ + directionI[2] * spacingI * i;
         const along = x * axis[0] + y * axis[1] + z * axis[2];
-        const nearest = along < 0 ? 0 : along > lengthMm ? lengthMm : along;
+        const nearest = along < startMm ? startMm : along > endMm ? endMm : along;
         const dx = x - nearest * axis[0];
         const dy = y - nearest * axis[1];
         const dz = z - nearest * axis[2];

@@ -40,6 +40,8 @@ export interface HomogeneousZoneRow {
 export interface HomogeneousZoneOptions {
   /** Grid spacing, millimetres (default `CALIBRATION_SPACING_MM`). */
   spacingMm?: number;
+  /** Where the heating segment begins behind the tip, millimetres (default 0). */
+  segmentOffsetMm?: number;
   shouldAbort?: () => boolean;
 }
 
@@ -58,8 +60,9 @@ const MAX_GROWTHS = 4;
 
 /**
  * Zone sizes (length along the shaft, width across it, centre behind the tip; millimetres) of
- * an applicator with the given active length (mm) and coupling efficiency `parameter`, for each
- * row's power (W) and time (s), in homogeneous liver. Answers in the order of `rows`.
+ * an applicator with the given heating length (mm, from `segmentOffsetMm` behind the tip) and
+ * coupling efficiency `parameter`, for each row's power (W) and time (s), in homogeneous liver.
+ * Answers in the order of `rows`.
  */
 export function homogeneousZoneSizes(
   activeLengthMm: number,
@@ -71,12 +74,14 @@ export function homogeneousZoneSizes(
   if (!(spacingMm > 0) || !Number.isFinite(spacingMm)) {
     throw new RangeError(`spacingMm must be a positive number, got ${spacingMm}`);
   }
+  const segmentOffsetMm = options.segmentOffsetMm ?? 0;
   rows.forEach((row, index) =>
     checkZoneApplicator(
       {
         entryLps: ENTRY,
         tipLps: TIP,
         activeLengthMm,
+        segmentOffsetMm,
         powerW: row.powerW,
         timeS: row.timeS,
         calibration: parameter,
@@ -90,11 +95,12 @@ export function homogeneousZoneSizes(
     const members = rows.flatMap((row, index) => (row.powerW === powerW ? [index] : []));
     let extent = expectedExtent(
       activeLengthMm,
+      segmentOffsetMm,
       members.map((index) => rows[index]),
     );
     for (let growth = 0; ; growth++) {
       const found = runPowerGroup(
-        activeLengthMm,
+        { activeLengthMm, segmentOffsetMm },
         powerW,
         members.map((index) => rows[index].timeS),
         parameter,
@@ -122,17 +128,19 @@ interface ZoneExtent {
 
 function expectedExtent(
   activeLengthMm: number,
+  segmentOffsetMm: number,
   rows: readonly Readonly<HomogeneousZoneRow>[],
 ): ZoneExtent {
   let radiusMm = 0;
-  let behindMinMm = 0;
-  let behindMaxMm = activeLengthMm;
+  let behindMinMm = Math.min(0, segmentOffsetMm);
+  let behindMaxMm = Math.max(0, segmentOffsetMm + activeLengthMm);
+  const middleMm = segmentOffsetMm + activeLengthMm / 2;
   for (const row of rows) {
     const lengthMm = row.expectedLengthMm ?? 40;
     const widthMm = row.expectedWidthMm ?? 30;
     radiusMm = Math.max(radiusMm, widthMm / 2);
-    // The model's zone sits about the middle of the active segment; the table's where it says.
-    for (const centreMm of [activeLengthMm / 2, row.expectedTipOffsetMm ?? activeLengthMm / 2]) {
+    // The model's zone sits about the middle of the heating segment; the table's where it says.
+    for (const centreMm of [middleMm, row.expectedTipOffsetMm ?? middleMm]) {
       behindMinMm = Math.min(behindMinMm, centreMm - lengthMm / 2);
       behindMaxMm = Math.max(behindMaxMm, centreMm + lengthMm / 2);
     }
@@ -160,7 +168,7 @@ function grown(extent: ZoneExtent, found: readonly ShaftZoneSize[]): ZoneExtent 
 
 /** Simulates one power for the longest of the times and reads the zone at each of them. */
 function runPowerGroup(
-  activeLengthMm: number,
+  segment: { activeLengthMm: number; segmentOffsetMm: number },
   powerW: number,
   timesS: readonly number[],
   parameter: number,
@@ -187,7 +195,7 @@ function runPowerGroup(
   const source = applicatorPowerDensity(quarter, {
     entryLps: ENTRY,
     tipLps: TIP,
-    activeLengthMm,
+    ...segment,
     powerW,
     timeS: Math.max(...timesS),
     calibration: parameter,

@@ -18,8 +18,8 @@ import {
 export const DEFAULT_CROP_MARGIN_MM = 30;
 
 /**
- * Crop grid around the heating segments of the applicators (tip to `activeLengthMm` behind
- * it, LPS millimetres), grown by `marginMm` on every side, with the series' direction cosines
+ * Crop grid around the heating segments of the applicators (`activeLengthMm` long, beginning
+ * `segmentOffsetMm` behind the tip; LPS millimetres), grown by `marginMm` on every side, with the series' direction cosines
  * (`direction`, orthonormal) and the given voxel spacing (millimetres along i, j, k).
  */
 export function zoneCropGeometry(
@@ -42,8 +42,10 @@ export function zoneCropGeometry(
   applicators.forEach((applicator, index) => {
     checkZoneApplicator(applicator, `applicators[${index}]`);
     const axis = normalize(subtract(applicator.entryLps, applicator.tipLps));
-    const back = addScaled(applicator.tipLps, axis, applicator.activeLengthMm);
-    for (const point of [applicator.tipLps, back]) {
+    const startMm = applicator.segmentOffsetMm ?? 0;
+    const front = addScaled(applicator.tipLps, axis, startMm);
+    const back = addScaled(applicator.tipLps, axis, startMm + applicator.activeLengthMm);
+    for (const point of [front, back]) {
       for (let axisIndex = 0; axisIndex < 3; axisIndex++) {
         const coordinate = dot(point, direction[axisIndex]);
         low[axisIndex] = Math.min(low[axisIndex], coordinate - marginMm);

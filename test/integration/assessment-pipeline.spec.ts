@@ -181,6 +181,43 @@ describe('requests', () => {
   });
 });
 
+describe('copy as a new draft', () => {
+  it('keeps the geometry and profiles, suffixes the name, and leaves the source as it was', async () => {
+    const source = plans[0];
+    const first = (await presenter.post(`/api/plans/${source.id}/copy`, {})).body as PlanView;
+    const second = (await presenter.post(`/api/plans/${first.id}/copy`, {})).body as PlanView;
+    expect(first.status).toBe('draft');
+    expect(
+      first.applicators.map(({ entry, target, profileId, powerW, timeS }) => ({
+        entry,
+        target,
+        profileId,
+        powerW,
+        timeS,
+      })),
+    ).toEqual(
+      source.applicators.map(({ entry, target, profileId, powerW, timeS }) => ({
+        entry,
+        target,
+        profileId,
+        powerW,
+        timeS,
+      })),
+    );
+    expect(first.name).toMatch(/ \(revision \d+\)$/);
+    expect(second.name).not.toBe(first.name);
+    expect(second.name.replace(/ \(revision \d+\)$/, '')).toBe(source.name);
+    const unchanged = (await presenter.get(`/api/plans/${source.id}`)).body as PlanView;
+    expect(unchanged.status).toBe(source.status);
+    expect(unchanged.name).toBe(source.name);
+  });
+
+  it('is refused to a board member (403)', async () => {
+    const member = await signedIn('member@emberline.test');
+    expect((await member.post(`/api/plans/${plans[0].id}/copy`, {})).status).toBe(403);
+  });
+});
+
 describe('a worker killed on its last attempt', () => {
   function startWorker(): ChildProcess {
     const child = spawn(process.execPath, ['--import', 'tsx', 'server/src/worker-main.ts'], {
@@ -242,6 +279,13 @@ describe('a worker killed on its last attempt', () => {
     expect(ended.error).toBe(lostJobReason);
     const storedPlan = await testApp.orm.em.fork().findOneOrFail(NeedlePlan, plan.id);
     expect(storedPlan.status).toBe('assessment-failed');
+
+    // Failed means a draft again: it may be corrected before the next request.
+    const corrected = await presenter.patch(`/api/plans/${plan.id}`, {
+      notes: 'Corrected after a failed assessment.',
+    });
+    expect(corrected.status).toBe(200);
+    expect((corrected.body as PlanView).status).toBe('draft');
 
     const again = await presenter.post(`/api/plans/${plan.id}/assessments`, {});
     expect(again.status).toBe(202);

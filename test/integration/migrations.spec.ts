@@ -9,6 +9,7 @@ const database = `emberline_migrations_${process.pid}`;
 const expectedTables = [
   'app_user',
   'applicator_profile',
+  'applicator_profile_version',
   'assessment',
   'audit_event',
   'board',
@@ -22,6 +23,7 @@ const expectedTables = [
   'needle_plan',
   'role_policy',
   'safety_profile',
+  'safety_profile_version',
   'saml_assertion_seen',
   'saml_request',
   'structure',

@@ -286,6 +286,7 @@ const routes: Route[] = [
         workingLengthMm: 150,
         activeLengthMm: 20,
         zoneTable: [{ powerW: 100, timeS: 360, zoneLengthMm: 22, zoneWidthMm: 16, tipOffsetMm: 9 }],
+        zoneTableSource: 'institutional',
       }),
     expected: row(401, 201, 403, 403, 403, 403, 403),
   },
@@ -376,6 +377,11 @@ const routes: Route[] = [
     name: 'PATCH /api/plans/:north-ready-submitted (not a draft)',
     call: (c, x) => c.patch(`/api/plans/${x.submittedPlanId}`, { name: 'Too late' }),
     expected: row(401, 404, 409, 403, 403, 404, 404),
+  },
+  {
+    name: 'POST /api/plans/:north-ready-submitted/copy',
+    call: (c, x) => c.post(`/api/plans/${x.submittedPlanId}/copy`, {}),
+    expected: row(401, 404, 201, 403, 403, 404, 404),
   },
   {
     name: 'DELETE /api/plans/:north-ready-submitted (not a draft)',

@@ -13,6 +13,7 @@ export * from './scores';
 export * from './geometry';
 export * from './bioheat';
 export * from './assessment';
+export * from './lesion-links';
 export * from './api/applicator-profiles';
 export * from './api/plans';
 export * from './api/safety-profiles';

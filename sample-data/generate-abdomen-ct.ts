@@ -1,9 +1,11 @@
 /**
  * Writes the invented abdominal CT to a folder:
  *
- *   node --import tsx sample-data/generate-abdomen-ct.ts [outDir]
+ *   node --import tsx sample-data/generate-abdomen-ct.ts [--clinical] [outDir]
  *
- * outDir defaults to sample-data/out/ (git-ignored). It receives dicom/slice-001.dcm…,
+ * outDir defaults to sample-data/out/ (git-ignored); with `--clinical` the same anatomy is
+ * written on the clinical-size grid (512 × 512 × 240 voxels of 0.7 × 0.7 × 1.25 mm, about
+ * 125 MB of slices) to sample-data/out-clinical/ (git-ignored), for benchmarks. It receives dicom/slice-001.dcm…,
  * labels.nii.gz, labels.json and manifest.json; earlier slice files there are replaced.
  */
 import { mkdir, readdir, rm, writeFile } from 'node:fs/promises';
@@ -17,12 +19,15 @@ import {
   generateAbdomenCt,
   type AbdomenCtOptions,
 } from './abdomen/abdomen-ct';
+import { CLINICAL_GRID } from './abdomen/grid';
 
 export { generateAbdomenCt } from './abdomen/abdomen-ct';
 export type { AbdomenCtOptions, GeneratedAbdomenCt } from './abdomen/abdomen-ct';
 
 /** sample-data/out/, beside this file. */
 export const DEFAULT_OUT_DIRECTORY = fileURLToPath(new URL('./out/', import.meta.url));
+/** sample-data/out-clinical/, beside this file. */
+export const CLINICAL_OUT_DIRECTORY = fileURLToPath(new URL('./out-clinical/', import.meta.url));
 
 const SLICE_FILE = /^slice-\d{3}\.dcm$/;
 
@@ -64,9 +69,13 @@ function jsonBytes(value: unknown): Uint8Array {
 }
 
 async function main(): Promise<void> {
-  const outDirectory = resolve(process.argv[2] ?? DEFAULT_OUT_DIRECTORY);
+  const isClinical = process.argv.includes('--clinical');
+  const named = process.argv.slice(2).find((argument) => !argument.startsWith('--'));
+  const outDirectory = resolve(
+    named ?? (isClinical ? CLINICAL_OUT_DIRECTORY : DEFAULT_OUT_DIRECTORY),
+  );
   const startedMs = performance.now();
-  const files = await writeAbdomenCt(outDirectory);
+  const files = await writeAbdomenCt(outDirectory, isClinical ? { grid: CLINICAL_GRID } : {});
   const elapsedS = (performance.now() - startedMs) / 1000;
   const slices = files.filter((file) => file.path.startsWith(`${DICOM_DIRECTORY}/`));
   const others = files.filter((file) => !file.path.startsWith(`${DICOM_DIRECTORY}/`));

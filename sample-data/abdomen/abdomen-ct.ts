@@ -32,6 +32,8 @@ export interface AbdomenCtOptions {
   seed?: number;
   /** Standard deviation of the noise added to every voxel, HU; 0 for none. */
   noiseStandardDeviationHu?: number;
+  /** The voxel grid (default `ABDOMEN_GRID`, the committed sample; `CLINICAL_GRID` for benchmarks). */
+  grid?: Readonly<CtGrid>;
 }
 
 export interface GeneratedAbdomenCt {
@@ -55,7 +57,7 @@ export function generateAbdomenCt(options: AbdomenCtOptions = {}): GeneratedAbdo
       `The noise must be a finite number of HU ≥ 0; got ${noiseStandardDeviationHu}.`,
     );
   }
-  const grid = ABDOMEN_GRID;
+  const grid = options.grid ?? ABDOMEN_GRID;
   const uids = seriesUids(seed, grid.slices);
 
   const phantom = buildPhantom();

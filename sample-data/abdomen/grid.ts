@@ -38,6 +38,23 @@ export const ABDOMEN_GRID: Readonly<CtGrid> = {
   originLps: [-76.4, -63.6, -90],
 };
 
+/**
+ * A clinical-size grid for benchmarks: 512 × 512 × 240 voxels of 0.7 × 0.7 × 1.25 mm (a
+ * 358.4 × 358.4 × 300 mm field of view, typical of a contrast abdominal CT reconstructed at thin
+ * slices; common practice), centred on x = 0 and y = 0 like the sample grid. The same invented
+ * anatomy is painted on it, so figures compare across the two grids. Generated on demand, never
+ * committed (`generate-abdomen-ct.ts --clinical`).
+ */
+export const CLINICAL_GRID: Readonly<CtGrid> = {
+  columns: 512,
+  rows: 512,
+  slices: 240,
+  columnSpacingMm: 0.7,
+  rowSpacingMm: 0.7,
+  sliceSpacingMm: 1.25,
+  originLps: [-178.85, -178.85, -160],
+};
+
 /** Row direction X and column direction Y of Image Orientation (Patient); normal X × Y. */
 export const ROW_DIRECTION: Vec3 = [1, 0, 0];
 export const COLUMN_DIRECTION: Vec3 = [0, 1, 0];

@@ -54,6 +54,8 @@ const profile: SafetyProfileBody = {
   parenchymaSource: 'test',
   maximumCapsuleCrossings: 1,
   capsuleSource: 'test',
+  physicsToleranceMm: 2,
+  physicsToleranceSource: 'common practice',
 };
 
 /** Labels every voxel whose centre lies inside (axis-aligned grid). */

@@ -27,6 +27,8 @@ const profile: SafetyProfileBody = {
   parenchymaSource: 'source P',
   maximumCapsuleCrossings: 1,
   capsuleSource: 'source C',
+  physicsToleranceMm: 2,
+  physicsToleranceSource: 'common practice',
 };
 
 function applicator(overrides: Partial<ApplicatorSafety> = {}): ApplicatorSafety {

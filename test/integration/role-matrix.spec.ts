@@ -267,6 +267,11 @@ const routes: Route[] = [
     expected: row(401, 403, 200, 200, 200, 200, 200),
   },
   {
+    name: 'GET /api/safety-profiles',
+    call: (c) => c.get('/api/safety-profiles'),
+    expected: row(401, 403, 200, 200, 200, 200, 200),
+  },
+  {
     name: 'GET /api/safety-profiles/default',
     call: (c) => c.get('/api/safety-profiles/default'),
     expected: row(401, 403, 200, 200, 200, 200, 200),

@@ -24,6 +24,8 @@ const clinicalRoles: Role[] = [
  *   POST   /plans/:id/copy             → 201, a new draft with the same applicators
  *   DELETE /plans/:id                  (drafts only) → 204
  *   GET    /applicator-profiles        profiles not retired, for drafting (clinical roles)
+ *   GET    /safety-profiles            every safety profile, the default first (clinical roles),
+ *                                      to choose the one an assessment is judged by
  *   GET    /safety-profiles/default    the default safety profile (clinical roles)
  */
 export function planRoutes(orm: MikroORM): Router {
@@ -83,6 +85,10 @@ export function planRoutes(orm: MikroORM): Router {
 
   router.get('/applicator-profiles', requireRole(...clinicalRoles), async (_request, response) => {
     response.json(await new ApplicatorProfileService(orm.em).list({ isRetiredIncluded: false }));
+  });
+
+  router.get('/safety-profiles', requireRole(...clinicalRoles), async (_request, response) => {
+    response.json(await new SafetyProfileService(orm.em).list());
   });
 
   router.get(

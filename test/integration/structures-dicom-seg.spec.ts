@@ -15,6 +15,7 @@ import {
   decodeLabelMapFile,
   type ImageSeriesView,
   type ProblemDetails,
+  type StructureImportResult,
   type StructureView,
   type Vec3,
 } from '@emberline/shared';
@@ -176,7 +177,11 @@ async function importFile(
 }
 
 const problemOf = (response: { body: unknown }) => response.body as ProblemDetails;
-const structuresOf = (response: { body: unknown }) => response.body as StructureView[];
+/** The structures of a list (GET) or of an import's answer (POST: `{ structures, overlaps }`). */
+const structuresOf = (response: { body: unknown }): StructureView[] => {
+  const body = response.body as StructureView[] | StructureImportResult;
+  return Array.isArray(body) ? body : body.structures;
+};
 
 /** The stored label map's voxels (GET /api/series/:id/label-map). */
 async function storedLabels(seriesId: string): Promise<number[]> {
@@ -355,6 +360,166 @@ describe('segment descriptions', () => {
   });
 });
 
+/**
+ * Overlapping segments (DICOM PS3.3 C.8.20 lets a SEG's segments overlap): each voxel goes to
+ * one segment by Emberline's kind order — tumour, then vessels and ducts, then other organs,
+ * then the liver, the skin last; the smaller of two of the same rank (common practice of
+ * label-map tools: the structure inside the one that holds it wins).
+ */
+describe('segments that overlap', () => {
+  const maskOf = (from: number, to: number) => {
+    const mask = new Uint8Array(smallVoxelCount);
+    mask.fill(1, from, to);
+    return mask;
+  };
+
+  it('keeps a tumour drawn inside the liver, whatever its segment number, and reports it', async () => {
+    for (const [liverNumber, tumourNumber] of [
+      [1, 2],
+      [2, 1],
+    ]) {
+      const seg = writeDicomSeg({
+        grid: smallGrid,
+        segments: [
+          { segmentNumber: liverNumber, label: 'Liver', type: typeOfKind.liver },
+          { segmentNumber: tumourNumber, label: 'Tumour 1', type: typeOfKind.tumour },
+        ].sort((a, b) => a.segmentNumber - b.segmentNumber),
+        masks: new Map([
+          [liverNumber, maskOf(0, smallVoxelCount)],
+          [tumourNumber, maskOf(20, 23)],
+        ]),
+      });
+      const response = await importFile(smallSeries.id, seg);
+      expect(response.status, JSON.stringify(response.body)).toBe(201);
+      const expected = Array.from({ length: smallVoxelCount }, (_, index) =>
+        index >= 20 && index < 23 ? tumourNumber : liverNumber,
+      );
+      expect(await storedLabels(smallSeries.id)).toEqual(expected);
+      const byValue = new Map(structuresOf(response).map((entry) => [entry.labelValue, entry]));
+      expect(byValue.get(liverNumber)).toMatchObject({ kind: 'liver', voxelCount: 57 });
+      expect(byValue.get(tumourNumber)).toMatchObject({ kind: 'tumour', voxelCount: 3 });
+      const { overlaps } = response.body as StructureImportResult;
+      expect(overlaps).toEqual([
+        {
+          keptSegment: tumourNumber,
+          keptName: 'Tumour 1',
+          keptKind: 'tumour',
+          lostSegment: liverNumber,
+          lostName: 'Liver',
+          lostKind: 'liver',
+          voxelCount: 3,
+          message:
+            'Segment “Tumour 1” overlapped “Liver” in 3 voxels; tumour kept (it ranks before liver).',
+        },
+      ]);
+    }
+    const [event] = await testApp.orm.em
+      .fork()
+      .find(
+        AuditEvent,
+        { entityId: smallSeries.id, action: 'structures.import' },
+        { orderBy: { at: 'desc' }, limit: 1 },
+      );
+    expect(event.detail).toMatchObject({ overlapCount: 1 });
+  });
+
+  it('gives each voxel to the first kind of tumour, vessel, organ, liver, skin', async () => {
+    // Nested masks on the 60 voxels: skin all, liver 0–39, gallbladder 30–44, portal vein
+    // 10–19, tumour 15–32.
+    const masks = new Map([
+      [1, maskOf(0, 60)],
+      [2, maskOf(0, 40)],
+      [3, maskOf(30, 45)],
+      [4, maskOf(10, 20)],
+      [5, maskOf(15, 33)],
+    ]);
+    const kindOrder = [5, 4, 3, 2, 1]; // tumour, portal vein, gallbladder, liver, skin
+    const seg = writeDicomSeg({
+      grid: smallGrid,
+      segments: [
+        { segmentNumber: 1, label: 'Skin', type: typeOfKind.skin },
+        { segmentNumber: 2, label: 'Liver', type: typeOfKind.liver },
+        { segmentNumber: 3, label: 'Gallbladder', type: typeOfKind.gallbladder },
+        { segmentNumber: 4, label: 'Portal vein', type: typeOfKind['portal-vein'] },
+        { segmentNumber: 5, label: 'Tumour', type: typeOfKind.tumour },
+      ],
+      masks,
+    });
+    const response = await importFile(smallSeries.id, seg);
+    expect(response.status, JSON.stringify(response.body)).toBe(201);
+    // The oracle: each voxel's first claimant in kind order; each other claimant lost it to that one.
+    const expected: number[] = [];
+    const lost = new Map<string, number>();
+    for (let index = 0; index < smallVoxelCount; index++) {
+      const claimants = kindOrder.filter((segment) => masks.get(segment)?.[index] === 1);
+      expected.push(claimants[0] ?? 0);
+      for (const loser of claimants.slice(1)) {
+        const key = `${claimants[0]}>${loser}`;
+        lost.set(key, (lost.get(key) ?? 0) + 1);
+      }
+    }
+    expect(await storedLabels(smallSeries.id)).toEqual(expected);
+    const { overlaps } = response.body as StructureImportResult;
+    expect(
+      Object.fromEntries(
+        overlaps.map((overlap) => [
+          `${overlap.keptSegment}>${overlap.lostSegment}`,
+          overlap.voxelCount,
+        ]),
+      ),
+    ).toEqual(Object.fromEntries(lost));
+  });
+
+  it('keeps the smaller of two tumours that overlap (the same rank)', async () => {
+    const seg = writeDicomSeg({
+      grid: smallGrid,
+      segments: [
+        { segmentNumber: 1, label: 'Tumour large', type: typeOfKind.tumour },
+        { segmentNumber: 2, label: 'Tumour small', type: typeOfKind.tumour },
+      ],
+      masks: new Map([
+        [1, maskOf(0, 10)],
+        [2, maskOf(8, 11)],
+      ]),
+    });
+    const response = await importFile(smallSeries.id, seg);
+    expect(response.status, JSON.stringify(response.body)).toBe(201);
+    expect((await storedLabels(smallSeries.id)).slice(0, 12)).toEqual([
+      1, 1, 1, 1, 1, 1, 1, 1, 2, 2, 2, 0,
+    ]);
+    const [overlap] = (response.body as StructureImportResult).overlaps;
+    expect(overlap).toMatchObject({ keptSegment: 2, lostSegment: 1, voxelCount: 2 });
+    expect(overlap.message).toContain('the smaller of two of the same rank');
+  });
+
+  it('refuses an overlap of a segment of unknown kind until the labels field names it', async () => {
+    // Segment 9 has no row yet, so no earlier kind either (a second import would use that).
+    const write = () =>
+      writeDicomSeg({
+        grid: smallGrid,
+        segments: [
+          { segmentNumber: 1, label: 'Liver', type: typeOfKind.liver },
+          { segmentNumber: 9, label: 'Region B' },
+        ],
+        masks: new Map([
+          [1, maskOf(0, 30)],
+          [9, maskOf(25, 35)],
+        ]),
+      });
+    const refused = await importFile(smallSeries.id, write());
+    expect(refused.status).toBe(400);
+    expect(problemOf(refused).type).toBe('urn:emberline:problem:structures:segment-overlap');
+    expect(problemOf(refused).detail).toContain('Segments 1 and 9');
+    expect(problemOf(refused).detail).toContain('5 in all');
+    expect(problemOf(refused).detail).toContain('segment 9 has none');
+    const named = await importFile(smallSeries.id, write(), { labels: '{"9":"tumour"}' });
+    expect(named.status, JSON.stringify(named.body)).toBe(201);
+    expect((named.body as StructureImportResult).overlaps).toMatchObject([
+      { keptSegment: 9, lostSegment: 1, voxelCount: 5 },
+    ]);
+  });
+});
+
 describe('refusals', () => {
   const labels = randomSmallLabels(3);
   const rotated = (degrees: number): [Vec3, Vec3] => {
@@ -394,30 +559,8 @@ describe('refusals', () => {
     const shifted = smallSeg(randomSmallLabels(4), { written: { originShiftLps: [0, 2, 0] } });
     expect((await importFile(smallSeries.id, shifted)).status).toBe(400);
     const after = await presenter.get(`/api/series/${smallSeries.id}/structures`);
-    expect(after.body).toEqual(before.body);
+    expect(after.body).toEqual(structuresOf(before));
     expect(await storedLabels(smallSeries.id)).toEqual(Array.from(labels));
-  });
-
-  it('refuses segments that overlap, naming both (one structure a voxel)', async () => {
-    const liver = new Uint8Array(smallVoxelCount).fill(1);
-    const tumour = new Uint8Array(smallVoxelCount);
-    tumour.fill(1, 20, 23);
-    const seg = writeDicomSeg({
-      grid: smallGrid,
-      segments: [
-        { segmentNumber: 1, label: 'Liver' },
-        { segmentNumber: 2, label: 'Tumour' },
-      ],
-      masks: new Map([
-        [1, liver],
-        [2, tumour],
-      ]),
-    });
-    const response = await importFile(smallSeries.id, seg);
-    expect(response.status).toBe(400);
-    expect(problemOf(response).type).toBe('urn:emberline:problem:structures:segment-overlap');
-    expect(problemOf(response).detail).toContain('Segments 1 and 2');
-    expect(problemOf(response).detail).toContain('3 in all');
   });
 
   it('refuses a DICOM file that is not a segmentation (a CT slice) with 415', async () => {

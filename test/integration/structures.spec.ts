@@ -13,6 +13,7 @@ import {
   decodeLabelMapFile,
   type ImageSeriesView,
   type ProblemDetails,
+  type StructureImportResult,
   type StructureView,
 } from '@emberline/shared';
 import { generateAbdomenCt } from '../../sample-data/generate-abdomen-ct';
@@ -82,7 +83,11 @@ async function importLabelMap(
 }
 
 const problemOf = (response: { body: unknown }) => response.body as ProblemDetails;
-const structuresOf = (response: { body: unknown }) => response.body as StructureView[];
+/** The structures of a list (GET) or of an import's answer (POST: `{ structures, overlaps }`). */
+const structuresOf = (response: { body: unknown }): StructureView[] => {
+  const body = response.body as StructureView[] | StructureImportResult;
+  return Array.isArray(body) ? body : body.structures;
+};
 
 /** A copy of the uncompressed label map with header fields changed (offsets of nifti1.h). */
 function editedNifti(edit: (header: DataView) => void): Uint8Array {
@@ -256,7 +261,7 @@ describe(`refusals (${NIFTI_1}; ${PS3_3})`, () => {
     expect(problemOf(response).type).toBe('urn:emberline:problem:structures:grid-mismatch');
     expect(problemOf(response).detail).toContain('5.00 mm away');
     const after = await presenter.get(`/api/series/${series.id}/structures`);
-    expect(after.body).toEqual(before.body);
+    expect(after.body).toEqual(structuresOf(before));
   });
 
   it('refuses a label map whose sform is written in LPS instead of RAS (x and y not negated)', async () => {

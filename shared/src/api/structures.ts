@@ -69,6 +69,45 @@ export interface StructureView {
   /** voxelCount × the volume of one voxel of the series, millilitres. */
   volumeMl: number;
   source: StructureSource;
+  /**
+   * The lesion of the case's Summary this tumour shows: suggested on import and when the
+   * lesions change (by size, then position; a suggestion only), or chosen by the presenter.
+   * Null when none; always null for a structure that is not a tumour.
+   */
+  lesionId: string | null;
+  /** The linked lesion as the board names it ("segment VIII, 24 mm"), or null. */
+  lesionLabel: string | null;
+  /**
+   * True once the presenter confirmed the link (with `lesionId` null: confirmed as showing no
+   * lesion of the Summary). Only a confirmed link names the tumour in assessments; a suggestion
+   * never replaces a confirmed link.
+   */
+  isLesionConfirmed: boolean;
+}
+
+/**
+ * Two segments of a DICOM SEG claimed the same voxels: the voxels went to the segment whose
+ * kind comes first (tumour, then vessels and ducts, then other organs, then the liver, the
+ * skin last; the smaller segment between two of the same rank).
+ */
+export interface SegmentOverlap {
+  keptSegment: number;
+  keptName: string;
+  keptKind: StructureKind;
+  lostSegment: number;
+  lostName: string;
+  lostKind: StructureKind;
+  voxelCount: number;
+  /** In words, e.g. "Segment “Tumour 1” overlapped “Liver” in 3,412 voxels; the tumour kept them." */
+  message: string;
+}
+
+/** 201 of POST /api/series/:id/structures. */
+export interface StructureImportResult {
+  /** All of the series' structures, by label value. */
+  structures: StructureView[];
+  /** Overlaps resolved by kind (DICOM SEG only; empty for NIfTI, which holds one label a voxel). */
+  overlaps: SegmentOverlap[];
 }
 
 /** Largest label value a label map may hold (stored as uint16). */
@@ -87,11 +126,43 @@ export const structureLabelsSchema = z.record(
 );
 export type StructureLabels = z.infer<typeof structureLabelsSchema>;
 
-/** PATCH /api/structures/:id */
-export const updateStructureSchema = z.strictObject({
-  kind: z.enum(structureKinds).nullable(),
-  name: z.string().trim().min(1).max(80).optional(),
-});
+/**
+ * PATCH /api/structures/:id: any of the kind, the name and the lesion link. A link is set by
+ * confirming it — `{ lesionId, isLesionConfirmed: true }`, `lesionId` the suggested lesion,
+ * another lesion of the case, or null for "shows none of the Summary's lesions" — and released
+ * back to the suggestion with `{ isLesionConfirmed: false }`.
+ */
+export const updateStructureSchema = z
+  .strictObject({
+    kind: z.enum(structureKinds).nullable().optional(),
+    name: z.string().trim().min(1).max(80).optional(),
+    lesionId: z.uuid('lesionId must be a lesion id (a uuid) or null').nullable().optional(),
+    isLesionConfirmed: z.boolean().optional(),
+  })
+  .superRefine((body, context) => {
+    if (Object.values(body).every((value) => value === undefined)) {
+      context.addIssue({
+        code: 'custom',
+        message: 'Send at least one of kind, name, lesionId and isLesionConfirmed.',
+      });
+    }
+    if (body.lesionId !== undefined && body.isLesionConfirmed !== true) {
+      context.addIssue({
+        code: 'custom',
+        path: ['isLesionConfirmed'],
+        message:
+          'A lesion chosen for a tumour is a confirmed link: send isLesionConfirmed: true with lesionId.',
+      });
+    }
+    if (body.isLesionConfirmed === true && body.lesionId === undefined) {
+      context.addIssue({
+        code: 'custom',
+        path: ['lesionId'],
+        message:
+          'Confirming a link names its lesion: send lesionId (the suggested one, another, or null for none).',
+      });
+    }
+  });
 export type UpdateStructure = z.infer<typeof updateStructureSchema>;
 
 /** Prefix of the problem-details `type` of every refused import; the rest names the reason. */

@@ -169,7 +169,10 @@ describe('suggestLesionLinks (a suggestion only)', () => {
 
   it('lets size outweigh position when the sizes clearly differ', () => {
     const links = suggestLesionLinks({
-      tumours: [sphere('right', 30, rightPosteriorInferior), sphere('left', 15, leftPosteriorSuperior)],
+      tumours: [
+        sphere('right', 30, rightPosteriorInferior),
+        sphere('left', 15, leftPosteriorSuperior),
+      ],
       lesions: [lesion('vi', 'VI', 15), lesion('ii', 'II', 30)],
       liver,
     });

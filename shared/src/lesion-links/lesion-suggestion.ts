@@ -77,11 +77,23 @@ export const SEGMENT_THIRDS: Readonly<Record<CouinaudSegment, readonly (readonly
   I: [[1], [1, 2], [1, 2]],
   II: [[2], [1, 2], [1, 2]],
   III: [[2], [0, 1], [0, 1]],
-  IV: [[1, 2], [0, 1], [0, 1, 2]],
-  V: [[0, 1], [0, 1], [0, 1]],
+  IV: [
+    [1, 2],
+    [0, 1],
+    [0, 1, 2],
+  ],
+  V: [
+    [0, 1],
+    [0, 1],
+    [0, 1],
+  ],
   VI: [[0], [1, 2], [0, 1]],
   VII: [[0], [1, 2], [1, 2]],
-  VIII: [[0, 1], [0, 1], [1, 2]],
+  VIII: [
+    [0, 1],
+    [0, 1],
+    [1, 2],
+  ],
 };
 
 /**
@@ -161,14 +173,20 @@ export function suggestLesionLinks(input: {
 }
 
 /** Lesion index per tumour (or null) of least total cost, by dynamic programming over subsets. */
-function exactAssignment(costs: readonly (number | null)[][], lesionCount: number): (number | null)[] {
+function exactAssignment(
+  costs: readonly (number | null)[][],
+  lesionCount: number,
+): (number | null)[] {
   const memo = new Map<number, { cost: number; choice: number | null }>();
   const best = (tumour: number, used: number): { cost: number; choice: number | null } => {
     if (tumour === costs.length) return { cost: 0, choice: null };
     const key = tumour * 2 ** lesionCount + used;
     const known = memo.get(key);
     if (known) return known;
-    let answer = { cost: UNLINKED_COST + best(tumour + 1, used).cost, choice: null as number | null };
+    let answer = {
+      cost: UNLINKED_COST + best(tumour + 1, used).cost,
+      choice: null as number | null,
+    };
     costs[tumour].forEach((cost, lesion) => {
       if (cost === null || (used & (1 << lesion)) !== 0) return;
       const total = cost + best(tumour + 1, used | (1 << lesion)).cost;

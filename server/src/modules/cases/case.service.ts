@@ -30,6 +30,10 @@ import { CaseRepository } from './case.repository';
 import type { FileStore } from '../imaging/file-store';
 import { ImageSeries } from '../imaging/image-series.entity';
 import { LabelMap } from '../structures/label-map.entity';
+import {
+  loadSuggestionTargets,
+  refreshLesionSuggestions,
+} from '../structures/lesion-link-suggestions';
 import { logger } from '../../common/logger';
 
 /** Where a case's image files live, so that deleting a draft leaves none behind. */
@@ -173,12 +177,14 @@ export class CaseService {
       body.diameterMm,
       body.kind,
     );
+    const existing = await this.em.find(Lesion, { clinicalCase: found.id });
+    const suggestionsChanged = await this.refreshSuggestions(found.id, [...existing, lesion]);
     this.em.persist(lesion);
     recordAudit(this.em, actor, {
       action: 'lesion.create',
       entityType: 'case',
       entityId: found.id,
-      detail: { lesionId: lesion.id },
+      detail: { lesionId: lesion.id, suggestionsChanged },
     });
     await this.em.flush();
     return this.toDetail(user, found);
@@ -191,17 +197,32 @@ export class CaseService {
     lesionId: string,
   ): Promise<CaseDetail> {
     const found = await this.findEditable(user, caseId);
-    const lesion = await this.em.findOne(Lesion, { id: lesionId, clinicalCase: found.id });
+    const lesions = await this.em.find(Lesion, { clinicalCase: found.id });
+    const lesion = lesions.find((candidate) => candidate.id === lesionId);
     if (!lesion) throw new NotFoundError('The lesion');
+    // Structures linked to it lose the link (confirmed or not) and take a new suggestion.
+    const rest = lesions.filter((candidate) => candidate.id !== lesionId);
+    const suggestionsChanged = await this.refreshSuggestions(found.id, rest);
     this.em.remove(lesion);
     recordAudit(this.em, actor, {
       action: 'lesion.delete',
       entityType: 'case',
       entityId: found.id,
-      detail: { lesionId },
+      detail: { lesionId, suggestionsChanged },
     });
     await this.em.flush();
     return this.toDetail(user, found);
+  }
+
+  /**
+   * Stores the tumours' suggested lesions for the case's lesions as they will be after this
+   * change (structures/lesion-link-suggestions.ts); answers how many suggestions changed. Run
+   * before the change is persisted, so that its queries do not flush it early.
+   */
+  private async refreshSuggestions(caseId: string, lesions: Lesion[]): Promise<number> {
+    if (!this.stores) return 0;
+    const targets = await loadSuggestionTargets(this.em, { caseId });
+    return (await refreshLesionSuggestions(this.stores.labelMaps, targets, lesions)).length;
   }
 
   async addLabPanel(

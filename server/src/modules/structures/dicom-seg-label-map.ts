@@ -4,13 +4,15 @@
  * the form `readNiftiLabelMap` gives. Each frame is placed on a slice of the series by its Image
  * Position (Patient), and must lie on the series' grid: the same rows and columns, orientation
  * and pixel spacing, every pixel centre within GRID_MATCH_TOLERANCE_MM of the series voxel it
- * becomes (the rule of the NIfTI import). Nothing is resampled. Pure and synchronous: it runs in
+ * becomes (the rule of the NIfTI import). Nothing is resampled. Segments that overlap are
+ * resolved by kind and reported (`segment-overlap.ts`). Pure and synchronous: it runs in
  * the SEG reading worker (`dicom-seg-read.worker.ts`); nothing here writes or logs.
  */
 import {
   lpsToVoxel,
   vector3,
   voxelToLps,
+  type SegmentOverlap,
   type StructureKind,
   type Vec3,
   type VolumeGeometry,
@@ -22,6 +24,14 @@ import {
 } from './dicom-seg-dataset';
 import { GRID_MATCH_TOLERANCE_MM } from './grid-match';
 import { suggestedKind } from './segment-kind';
+import {
+  compareSegments,
+  describeOverlap,
+  kindOfSegment,
+  noKindHints,
+  type RankedSegment,
+  type SegmentKindHints,
+} from './segment-overlap';
 import { StructureRefusal } from './structure-refusal';
 
 /** The longest structure name (the `structure.name` column; PATCH allows as much). */
@@ -41,6 +51,8 @@ export interface DicomSegLabelMap {
   labels: Uint16Array<ArrayBuffer>;
   /** Every segment the Segment Sequence describes, with voxels or not. */
   segments: DicomSegment[];
+  /** Voxels two segments claimed, each pair once, as resolved. */
+  overlaps: SegmentOverlap[];
 }
 
 /** True for a DICOM Part 10 file: 128-byte preamble, then `DICM` (PS3.10 7.1). */
@@ -139,70 +151,118 @@ function sliceOfFrame(frame: FrameAttributes, frameNumber: number, series: Volum
   return k;
 }
 
-interface Overlap {
+/**
+ * Calls `visit` with the index (within the frame) of each pixel the frame marks. BINARY: 1 bit a
+ * pixel, the first pixel in the least significant bit, frames following one another bit by bit
+ * with no padding (DICOM PS3.5 8.1.1, PS3.3 C.8.20.2). FRACTIONAL: 1 byte a pixel, counted in
+ * when it is at least half the Maximum Fractional Value.
+ */
+function forEachMarkedPixel(
+  attributes: SegmentationAttributes,
+  frameIndex: number,
+  visit: (pixel: number) => void,
+): void {
+  const { pixels, maxFractionalValue } = attributes;
+  const isBinary = attributes.segmentationType === 'BINARY';
+  const frameSize = attributes.rows * attributes.columns;
+  const firstBit = frameIndex * frameSize;
+  for (let pixel = 0; pixel < frameSize; pixel++) {
+    if (isBinary) {
+      const bit = firstBit + pixel;
+      const byte = pixels[bit >>> 3];
+      // A whole empty byte: its eight pixels (some may be the next frame's: that one reads
+      // them itself) are outside.
+      if (byte === 0 && (bit & 7) === 0) {
+        pixel += 7;
+        continue;
+      }
+      if (((byte >>> (bit & 7)) & 1) === 1) visit(pixel);
+    } else if (2 * pixels[firstBit + pixel] >= maxFractionalValue) {
+      visit(pixel);
+    }
+  }
+}
+
+/** Voxels one segment lost to another that ranks before it, and the first of them. */
+interface PairOverlap {
+  kept: number;
+  lost: number;
   count: number;
-  first?: { segments: [number, number]; voxel: Vec3 };
+  firstVoxel: Vec3;
 }
 
 /**
- * Writes the frames' pixels into `labels`. BINARY: 1 bit a pixel, the first pixel in the least
- * significant bit, frames following one another bit by bit with no padding (DICOM PS3.5 8.1.1,
- * PS3.3 C.8.20.2). FRACTIONAL: 1 byte a pixel, counted in when it is at least half the
- * Maximum Fractional Value. A voxel two segments claim is counted in `overlap`, never
- * overwritten.
+ * Writes the frames' pixels into `labels`, the frames of the segment that keeps overlapped
+ * voxels (`compareSegments`) first, so that a voxel a later frame claims is counted against the
+ * segment that keeps it and never overwritten.
  */
 function paintFrames(
   attributes: SegmentationAttributes,
   slices: readonly number[],
+  ranked: ReadonlyMap<number, RankedSegment>,
   labels: Uint16Array,
   nx: number,
   ny: number,
-): Overlap {
-  const { pixels, frames, maxFractionalValue } = attributes;
-  const isBinary = attributes.segmentationType === 'BINARY';
-  const frameSize = attributes.rows * attributes.columns;
-  const overlap: Overlap = { count: 0 };
-  frames.forEach((frame, frameIndex) => {
-    const segment = frame.segmentNumber;
+): PairOverlap[] {
+  const segmentOf = (frameIndex: number) => {
+    const found = ranked.get(attributes.frames[frameIndex].segmentNumber);
+    if (!found) throw new Error('a frame of an undescribed segment was not refused');
+    return found;
+  };
+  const order = attributes.frames
+    .map((_, frameIndex) => frameIndex)
+    .sort((a, b) => compareSegments(segmentOf(a), segmentOf(b)) || a - b);
+  const pairs = new Map<number, PairOverlap>();
+  for (const frameIndex of order) {
+    const segment = attributes.frames[frameIndex].segmentNumber;
     const sliceOffset = slices[frameIndex] * nx * ny;
-    const firstBit = frameIndex * frameSize;
-    for (let pixel = 0; pixel < frameSize; pixel++) {
-      let isInside: boolean;
-      if (isBinary) {
-        const bit = firstBit + pixel;
-        const byte = pixels[bit >>> 3];
-        // A whole empty byte: its eight pixels (some may be the next frame's: that one reads
-        // them itself) are outside.
-        if (byte === 0 && (bit & 7) === 0) {
-          pixel += 7;
-          continue;
-        }
-        isInside = ((byte >>> (bit & 7)) & 1) === 1;
-      } else {
-        isInside = 2 * pixels[firstBit + pixel] >= maxFractionalValue;
-      }
-      if (!isInside) continue;
+    forEachMarkedPixel(attributes, frameIndex, (pixel) => {
       const offset = sliceOffset + pixel;
       const held = labels[offset];
       if (held === 0 || held === segment) {
         labels[offset] = segment;
-        continue;
+        return;
       }
-      overlap.count += 1;
-      overlap.first ??= {
-        segments: [Math.min(held, segment), Math.max(held, segment)],
-        voxel: [pixel % nx, Math.floor(pixel / nx), slices[frameIndex]],
-      };
-    }
+      const key = held * 65_536 + segment;
+      const pair = pairs.get(key);
+      if (pair) pair.count += 1;
+      else {
+        pairs.set(key, {
+          kept: held,
+          lost: segment,
+          count: 1,
+          firstVoxel: [pixel % nx, Math.floor(pixel / nx), slices[frameIndex]],
+        });
+      }
+    });
+  }
+  return [...pairs.values()].sort((a, b) => a.kept - b.kept || a.lost - b.lost);
+}
+
+/** Pixels each segment's frames mark, overlaps included (the tie-break of equal ranks). */
+function claimedCounts(attributes: SegmentationAttributes): Map<number, number> {
+  const counts = new Map<number, number>();
+  attributes.frames.forEach((frame, frameIndex) => {
+    let count = counts.get(frame.segmentNumber) ?? 0;
+    forEachMarkedPixel(attributes, frameIndex, () => {
+      count += 1;
+    });
+    counts.set(frame.segmentNumber, count);
   });
-  return overlap;
+  return counts;
 }
 
 /**
  * The label map of a DICOM SEG file on the series' grid, with its segments' names and
- * suggested kinds; throws a StructureRefusal naming the fault.
+ * suggested kinds, overlapping segments resolved by kind (`segment-overlap.ts`, with the kinds
+ * `kindHints` and the descriptions give) and reported; throws a StructureRefusal naming the
+ * fault, and for an overlap of a segment whose kind is unknown.
  */
-export function readDicomSegLabelMap(bytes: Uint8Array, series: VolumeGeometry): DicomSegLabelMap {
+export function readDicomSegLabelMap(
+  bytes: Uint8Array,
+  series: VolumeGeometry,
+  kindHints: SegmentKindHints = noKindHints,
+): DicomSegLabelMap {
   const attributes = readSegmentationAttributes(bytes);
   const [nx, ny, nz] = series.dimensions;
   if (attributes.columns !== nx || attributes.rows !== ny) {
@@ -223,28 +283,55 @@ export function readDicomSegLabelMap(bytes: Uint8Array, series: VolumeGeometry):
     }
     return sliceOfFrame(frame, index + 1, series);
   });
-  const labels = new Uint16Array(nx * ny * nz);
-  const overlap = paintFrames(attributes, slices, labels, nx, ny);
-  if (overlap.first) {
-    const [a, b] = overlap.first.segments;
-    throw new StructureRefusal(
-      400,
-      'segment-overlap',
-      `Segments ${a} and ${b} both cover ${overlap.count === 1 ? 'a voxel' : 'voxels'} ` +
-        `(${overlap.count} in all, the first at voxel (${overlap.first.voxel.join(', ')})). ` +
-        'A label map holds one structure a voxel: make the segments exclusive (take the ' +
-        'smaller structure out of the larger) and import again.',
-    );
-  }
-  return {
-    labels,
-    segments: attributes.segments.map((segment) => {
-      const name = structureNameOf(segment.label);
-      return {
+  const segments = attributes.segments.map((segment) => {
+    const name = structureNameOf(segment.label);
+    return {
+      segmentNumber: segment.segmentNumber,
+      name,
+      suggestedKind: suggestedKind({ label: name ?? '', type: segment.type }),
+    };
+  });
+  const claimed = claimedCounts(attributes);
+  const ranked = new Map(
+    segments.map((segment) => [
+      segment.segmentNumber,
+      {
         segmentNumber: segment.segmentNumber,
-        name,
-        suggestedKind: suggestedKind({ label: name ?? '', type: segment.type }),
-      };
-    }),
-  };
+        kind: kindOfSegment(segment.segmentNumber, segment.suggestedKind, kindHints),
+        claimedCount: claimed.get(segment.segmentNumber) ?? 0,
+      },
+    ]),
+  );
+  const labels = new Uint16Array(nx * ny * nz);
+  const pairs = paintFrames(attributes, slices, ranked, labels, nx, ny);
+  const nameOf = (segmentNumber: number) =>
+    segments.find((segment) => segment.segmentNumber === segmentNumber)?.name ??
+    `segment ${segmentNumber}`;
+  const overlaps = pairs.map((pair) => {
+    const keptKind = ranked.get(pair.kept)?.kind ?? null;
+    const lostKind = ranked.get(pair.lost)?.kind ?? null;
+    if (keptKind === null || lostKind === null) {
+      const unnamed = lostKind === null ? pair.lost : pair.kept;
+      throw new StructureRefusal(
+        400,
+        'segment-overlap',
+        `Segments ${Math.min(pair.kept, pair.lost)} and ${Math.max(pair.kept, pair.lost)} ` +
+          `both cover ${pair.count === 1 ? 'a voxel' : 'voxels'} (${pair.count} in all, the ` +
+          `first at voxel (${pair.firstVoxel.join(', ')})). Overlaps are resolved by kind, and ` +
+          `segment ${unnamed} has none Emberline recognises: name its kind in the field ` +
+          `"labels" (e.g. {"${unnamed}":"liver"}), or make the segments exclusive, and import ` +
+          'again.',
+      );
+    }
+    return describeOverlap({
+      keptSegment: pair.kept,
+      keptName: nameOf(pair.kept),
+      keptKind,
+      lostSegment: pair.lost,
+      lostName: nameOf(pair.lost),
+      lostKind,
+      voxelCount: pair.count,
+    });
+  });
+  return { labels, segments, overlaps };
 }

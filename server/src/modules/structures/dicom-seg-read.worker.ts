@@ -11,8 +11,12 @@ import { StructureRefusal } from './structure-refusal';
 
 function read(request: SegReadRequest): SegReadReply {
   try {
-    const { labels, segments } = readDicomSegLabelMap(new Uint8Array(request.file), request.series);
-    return { ok: true, labels, segments };
+    const { labels, segments, overlaps } = readDicomSegLabelMap(
+      new Uint8Array(request.file),
+      request.series,
+      request.kindHints,
+    );
+    return { ok: true, labels, segments, overlaps };
   } catch (error) {
     if (error instanceof StructureRefusal) {
       return {

@@ -8,6 +8,7 @@ import { Worker } from 'node:worker_threads';
 import type { VolumeGeometry } from '@emberline/shared';
 import type { DicomSegLabelMap } from './dicom-seg-label-map';
 import type { SegReadReply, SegReadRequest } from './dicom-seg-read-protocol';
+import { noKindHints, type SegmentKindHints } from './segment-overlap';
 import { StructureRefusal } from './structure-refusal';
 
 export interface DicomSegReadOptions {
@@ -44,8 +45,14 @@ export class DicomSegReader {
   /**
    * The label map of a SEG file on the series' grid; rejects with a StructureRefusal for a file
    * refused (503 while `maxConcurrent` others are read). The file's buffer is handed over.
+   * `kindHints` decide, with the segments' descriptions, which of two overlapping segments
+   * keeps a voxel.
    */
-  async read(file: Uint8Array, series: VolumeGeometry): Promise<DicomSegLabelMap> {
+  async read(
+    file: Uint8Array,
+    series: VolumeGeometry,
+    kindHints: SegmentKindHints = noKindHints,
+  ): Promise<DicomSegLabelMap> {
     if (this.runningCount >= this.options.maxConcurrent) {
       throw new StructureRefusal(
         503,
@@ -55,13 +62,17 @@ export class DicomSegReader {
     }
     this.runningCount += 1;
     try {
-      return await this.readInWorker(file, series);
+      return await this.readInWorker(file, series, kindHints);
     } finally {
       this.runningCount -= 1;
     }
   }
 
-  private readInWorker(file: Uint8Array, series: VolumeGeometry): Promise<DicomSegLabelMap> {
+  private readInWorker(
+    file: Uint8Array,
+    series: VolumeGeometry,
+    kindHints: SegmentKindHints,
+  ): Promise<DicomSegLabelMap> {
     const { timeoutMs, memoryLimitMb } = this.options;
     const worker = new Worker(workerEntry(), {
       resourceLimits: {
@@ -92,8 +103,9 @@ export class DicomSegReader {
       };
       worker.once('message', (reply: SegReadReply) =>
         settle(() => {
-          if (reply.ok) resolve({ labels: reply.labels, segments: reply.segments });
-          else if (reply.refusal) {
+          if (reply.ok) {
+            resolve({ labels: reply.labels, segments: reply.segments, overlaps: reply.overlaps });
+          } else if (reply.refusal) {
             const { status, reason, detail } = reply.refusal;
             reject(new StructureRefusal(status, reason, detail));
           } else reject(new Error('the DICOM SEG reading worker failed on the file'));
@@ -106,7 +118,7 @@ export class DicomSegReader {
         settle(() => reject(this.refusalOfEndedWorker(hasTimedOut, crash))),
       );
       const buffer = ownBuffer(file);
-      const request: SegReadRequest = { file: buffer, series };
+      const request: SegReadRequest = { file: buffer, series, kindHints };
       try {
         worker.postMessage(request, [buffer]);
       } catch {

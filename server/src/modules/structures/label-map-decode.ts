@@ -4,13 +4,14 @@
  * label map (.nii, or gzip-compressed .nii.gz). Both are refused unless they lie on the series'
  * grid; nothing is resampled.
  */
-import type { StructureSource, VolumeGeometry } from '@emberline/shared';
+import type { SegmentOverlap, StructureSource, VolumeGeometry } from '@emberline/shared';
 import type { ImageSeries } from '../imaging/image-series.entity';
 import type { DicomSegment } from './dicom-seg-label-map';
 import { isDicomPart10 } from './dicom-seg-label-map';
 import type { DicomSegReader } from './dicom-seg-reader';
 import { assertSameGrid } from './grid-match';
 import { inflateIfGzip, readNiftiLabelMap } from './nifti-label-map';
+import type { SegmentKindHints } from './segment-overlap';
 
 /** Room a NIfTI file takes beyond its voxels: header, extensions (generous). */
 const niftiOverheadBytes = 1_048_576;
@@ -23,6 +24,8 @@ export interface DecodedLabelMap {
   labels: Uint16Array;
   /** A SEG's segments by number (names and suggested kinds); null for NIfTI. */
   segments: ReadonlyMap<number, DicomSegment> | null;
+  /** A SEG's overlapping segments as resolved; empty for NIfTI (one label a voxel). */
+  overlaps: SegmentOverlap[];
 }
 
 export function seriesGeometry(series: ImageSeries): VolumeGeometry {
@@ -39,19 +42,21 @@ export async function decodeLabelMap(
   file: Uint8Array,
   series: ImageSeries,
   segmentationReader: DicomSegReader,
+  kindHints: SegmentKindHints,
 ): Promise<DecodedLabelMap> {
   const geometry = seriesGeometry(series);
   if (isDicomPart10(file)) {
-    const read = await segmentationReader.read(file, geometry);
+    const read = await segmentationReader.read(file, geometry, kindHints);
     return {
       source: 'dicom-seg',
       labels: read.labels,
       segments: new Map(read.segments.map((segment) => [segment.segmentNumber, segment])),
+      overlaps: read.overlaps,
     };
   }
   const [nx, ny, nz] = series.dimensions;
   const inflated = inflateIfGzip(file, niftiOverheadBytes + nx * ny * nz * maxBytesPerVoxel);
   const labelMap = readNiftiLabelMap(inflated);
   assertSameGrid(labelMap.geometry, geometry);
-  return { source: 'nifti', labels: labelMap.labels, segments: null };
+  return { source: 'nifti', labels: labelMap.labels, segments: null, overlaps: [] };
 }

@@ -17,10 +17,11 @@ export function labelMapStore(settings: StructuresSettings): FileStore {
 
 /**
  * Structure routes, mounted at /api:
- *   POST  /series/:id/structures   multipart (field `file`, optional `labels`) → 201, all of them
+ *   POST  /series/:id/structures   multipart (field `file`, optional `labels`) → 201
+ *                                  { structures: all of them, overlaps: SEG overlaps resolved }
  *   GET   /series/:id/structures   the series' structures, by label value
  *   GET   /series/:id/label-map    the label map body (`decodeLabelMapFile` of shared/ reads it)
- *   PATCH /structures/:id          { kind, name? } → the structure
+ *   PATCH /structures/:id          { kind?, name?, lesionId?, isLesionConfirmed? } → the structure
  */
 export function structuresRoutes(
   orm: MikroORM,

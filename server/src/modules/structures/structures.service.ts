@@ -1,14 +1,11 @@
-import { endianness } from 'node:os';
 import type { ReadStream } from 'node:fs';
 import type { Request, Response } from 'express';
 import type { EntityManager } from '@mikro-orm/postgresql';
 import {
   encodeLabelMapFilePreamble,
-  maxLabelValue,
   structureKindLabels,
-  structureLabelsSchema,
+  type StructureImportResult,
   type StructureKind,
-  type StructureLabels,
   type StructureView,
   type UpdateStructure,
 } from '@emberline/shared';
@@ -17,15 +14,27 @@ import { ForbiddenError, NotFoundError } from '../../common/errors';
 import type { Actor, SignedInUser } from '../../common/request-context';
 import { recordAudit, writeAudit } from '../audit/audit.service';
 import { visibilityFilter } from '../cases/case.service';
+import { Lesion } from '../cases/lesion.entity';
 import type { FileStore } from '../imaging/file-store';
 import { ImageSeries } from '../imaging/image-series.entity';
 import { User } from '../users/user.entity';
 import { DicomSegReader } from './dicom-seg-reader';
-import { decodeLabelMap } from './label-map-decode';
+import { decodeLabelMap, seriesGeometry } from './label-map-decode';
 import { LabelMap } from './label-map.entity';
+import { parseLabels } from './labels-field';
+import {
+  applyLesionSuggestions,
+  loadSuggestionTargets,
+  refreshLesionSuggestions,
+  type SuggestionChange,
+} from './lesion-link-suggestions';
+import { kindOfSegment } from './segment-overlap';
+import { changeLesionLink } from './structure-lesion-link';
 import { Structure } from './structure.entity';
 import { StructureRefusal } from './structure-refusal';
+import { storedVoxels } from './stored-label-voxels';
 import { receiveImport } from './structure-upload';
+import { toStructureView } from './structure-view';
 import type { StructuresSettings } from './structures-settings';
 
 export interface StructuresDependencies {
@@ -48,63 +57,14 @@ function volumeMlOf(voxelCount: number, series: ImageSeries): number {
 const defaultName = (labelValue: number, kind: StructureKind | null) =>
   kind ? `${structureKindLabels[kind]} (label ${labelValue})` : `Label ${labelValue}`;
 
-/** The `labels` field parsed; a 400 naming `labels` and what is wrong otherwise. */
-export function parseLabels(text: string | undefined): StructureLabels {
-  if (text === undefined || text.trim() === '') return {};
-  let parsed: unknown;
-  try {
-    parsed = JSON.parse(text);
-  } catch {
-    throw new StructureRefusal(
-      400,
-      'labels',
-      'The field "labels" is not JSON; send an object of label value → structure kind, ' +
-        'e.g. {"1":"liver","2":"tumour"}.',
-    );
-  }
-  const result = structureLabelsSchema.safeParse(parsed);
-  if (result.success) return result.data;
-  const issue = result.error.issues[0];
-  const key = issue?.path[0];
-  const detail =
-    typeof key === 'string' && issue?.code === 'invalid_value'
-      ? `maps ${key} to ${JSON.stringify((parsed as Record<string, unknown>)[key])}, which is ` +
-        'not a structure kind (tumour, liver, portal-vein, hepatic-vein, hepatic-artery, ' +
-        'bile-duct, gallbladder, bowel, stomach, lung, heart, kidney, bone, skin)'
-      : typeof key === 'string'
-        ? `has the key ${JSON.stringify(key)}, which is not a label value from 1 to ${maxLabelValue}`
-        : 'is not an object of label value → structure kind, e.g. {"1":"liver","2":"tumour"}';
-  throw new StructureRefusal(400, 'labels', `The field "labels" ${detail}.`);
-}
-
-/** The labels as little-endian bytes of the narrowest type that holds them. */
-function storedVoxels(
-  labels: Uint16Array,
-  largest: number,
-): {
-  dataType: 'uint8' | 'uint16';
-  bytes: Uint8Array;
-} {
-  if (largest <= 255) return { dataType: 'uint8', bytes: Uint8Array.from(labels) };
-  if (endianness() === 'LE') {
-    return {
-      dataType: 'uint16',
-      bytes: new Uint8Array(labels.buffer, labels.byteOffset, labels.byteLength),
-    };
-  }
-  const bytes = new Uint8Array(labels.byteLength);
-  const view = new DataView(bytes.buffer);
-  labels.forEach((value, index) => view.setUint16(index * 2, value, true));
-  return { dataType: 'uint16', bytes };
-}
-
 /**
  * Structures of a series, from a label map on the series' own grid (README.md here). Seen by
  * whoever sees the series' case (404 otherwise); imported and renamed by the case's presenting
  * physician only (403 for anyone else who sees it). An import is checked whole before anything
  * is written; then the label map goes to the file store (atomically) and the rows and the
  * audit event in one flush. A second import replaces the first (kinds and names of label values
- * it keeps stay, unless `labels` names them anew).
+ * it keeps stay, unless `labels` names them anew). Tumours get a suggested lesion of the case on
+ * import; the presenter confirms or changes it (`structure-lesion-link.ts`).
  */
 export class StructuresService {
   constructor(
@@ -119,7 +79,7 @@ export class StructuresService {
     seriesId: string,
     request: Request,
     response: Response,
-  ): Promise<StructureView[]> {
+  ): Promise<StructureImportResult> {
     const series = await this.findSeriesToChange(user, seriesId);
     return this.audited(actor, series, async () => {
       const received = await receiveImport(
@@ -138,7 +98,7 @@ export class StructuresService {
     seriesId: string,
     file: Uint8Array,
     labelsText: string | undefined,
-  ): Promise<StructureView[]> {
+  ): Promise<StructureImportResult> {
     const series = await this.findSeriesToChange(user, seriesId);
     return this.audited(actor, series, () => this.ingest(user, actor, series, file, labelsText));
   }
@@ -152,9 +112,14 @@ export class StructuresService {
       entityId: series.id,
       detail: { caseId: series.clinicalCase.id, structureCount: structures.length },
     });
-    return structures.map(toView);
+    return structures.map(toStructureView);
   }
 
+  /**
+   * PATCH /structures/:id: kind, name and lesion link (see `updateStructureSchema`). A change of
+   * the link, or of a structure to or from a tumour, refreshes the series' other suggestions in
+   * the same flush.
+   */
   async update(
     user: SignedInUser,
     actor: Actor,
@@ -164,30 +129,71 @@ export class StructuresService {
     const structure = await this.em.findOne(
       Structure,
       { id: structureId, series: { clinicalCase: visibilityFilter(user) } },
-      { populate: ['series.clinicalCase'] },
+      { populate: ['series.clinicalCase', 'lesion'] },
     );
     if (!structure) throw new NotFoundError('The structure');
-    const found = structure.series.getEntity().clinicalCase.getEntity();
+    const series = structure.series.getEntity();
+    const found = series.clinicalCase.getEntity();
     if (!hasRole(user, 'presenting-physician') || found.presenter.id !== user.id) {
       throw new ForbiddenError(
         'Only the presenting physician of this case changes its structures.',
       );
     }
+    const wasTumour = structure.kind === 'tumour';
+    const isTumourAfter = body.kind === undefined ? wasTumour : body.kind === 'tumour';
+    const touchesLinks = body.isLesionConfirmed !== undefined || wasTumour !== isTumourAfter;
+    // Loaded before anything changes: a query of a changed entity type would flush it early.
+    const targets = touchesLinks
+      ? await loadSuggestionTargets(this.em, { seriesId: series.id })
+      : [];
+    const lesions = touchesLinks
+      ? await this.em.find(Lesion, { clinicalCase: found.id }, { orderBy: { createdAt: 'asc' } })
+      : [];
+
     const changed: string[] = [];
-    if (body.kind !== structure.kind) changed.push('kind');
-    structure.kind = body.kind;
+    if (body.kind !== undefined && body.kind !== structure.kind) {
+      changed.push('kind');
+      structure.kind = body.kind;
+    }
     if (body.name !== undefined && body.name !== structure.name) {
       changed.push('name');
       structure.name = body.name;
     }
-    recordAudit(this.em, actor, {
-      action: 'structure.update',
-      entityType: 'structure',
-      entityId: structure.id,
-      detail: { seriesId: structure.series.id, changed, kind: structure.kind },
-    });
+    const siblings = targets.find((target) => target.series.id === series.id)?.structures ?? [];
+    const link = changeLesionLink(structure, siblings, lesions, body);
+    let suggestions: SuggestionChange[] = [];
+    if (link.needsSuggestion || wasTumour !== isTumourAfter) {
+      suggestions = await refreshLesionSuggestions(this.dependencies.store, targets, lesions);
+    }
+    if (link.isChanged) {
+      recordAudit(this.em, actor, {
+        action: 'structure.lesion-link',
+        entityType: 'structure',
+        entityId: structure.id,
+        detail: {
+          seriesId: series.id,
+          caseId: found.id,
+          lesionId: structure.lesion?.id ?? null,
+          isLesionConfirmed: structure.isLesionConfirmed,
+          suggestionsChanged: suggestions.length,
+        },
+      });
+    }
+    if (changed.length > 0 || !link.isChanged) {
+      recordAudit(this.em, actor, {
+        action: 'structure.update',
+        entityType: 'structure',
+        entityId: structure.id,
+        detail: {
+          seriesId: series.id,
+          changed,
+          kind: structure.kind,
+          suggestionsChanged: link.isChanged ? 0 : suggestions.length,
+        },
+      });
+    }
     await this.em.flush();
-    return toView(structure);
+    return toStructureView(structure);
   }
 
   /** The stored label map body of a series the user may see, opened for streaming. */
@@ -238,15 +244,28 @@ export class StructuresService {
     series: ImageSeries,
     file: Uint8Array,
     labelsText: string | undefined,
-  ): Promise<StructureView[]> {
+  ): Promise<StructureImportResult> {
     const labels = parseLabels(labelsText);
     const { store, settings } = this.dependencies;
+    // Read before anything changes (a query of a changed entity type would flush it early);
+    // their kinds also decide which of two overlapping SEG segments keeps a voxel.
+    const previousRows = await this.structuresOf(series.id);
+    const lesions = await this.em.find(
+      Lesion,
+      { clinicalCase: series.clinicalCase.id },
+      { orderBy: { createdAt: 'asc' } },
+    );
+    const kindHints = {
+      named: labels,
+      previous: Object.fromEntries(previousRows.map((row) => [String(row.labelValue), row.kind])),
+    };
     const labelMap = await decodeLabelMap(
       file,
       series,
       this.dependencies.segmentationReader ?? new DicomSegReader(settings.segmentationRead),
+      kindHints,
     );
-    const { source, segments } = labelMap;
+    const { source, segments, overlaps } = labelMap;
 
     const counts = new Map<number, number>();
     let largest = 0;
@@ -302,12 +321,11 @@ export class StructuresService {
     else this.em.persist(new LabelMap({ series: seriesRef, ...fields }));
 
     // Rows of kept label values are updated in place (ids stay); the rest go or come.
-    const previous = new Map(
-      (await this.structuresOf(series.id)).map((row) => [row.labelValue, row]),
-    );
+    const previous = new Map(previousRows.map((row) => [row.labelValue, row]));
     for (const [labelValue, row] of previous) {
       if (!counts.has(labelValue)) this.em.remove(row);
     }
+    const rows: Structure[] = [];
     for (const labelValue of labelValues) {
       const voxelCount = counts.get(labelValue) ?? 0;
       const volumeMl = volumeMlOf(voxelCount, series);
@@ -317,9 +335,10 @@ export class StructuresService {
       // else the kind the row had; the name is always the segment's label.
       const segment = segments?.get(labelValue);
       if (row) {
+        rows.push(row);
         Object.assign(row, { voxelCount, volumeMl, source });
         if (segment) {
-          row.kind = namedKind ?? segment.suggestedKind ?? row.kind;
+          row.kind = kindOfSegment(labelValue, segment.suggestedKind, kindHints);
           row.name = segment.name ?? defaultName(labelValue, row.kind);
         } else if (namedKind) {
           row.kind = namedKind;
@@ -327,19 +346,22 @@ export class StructuresService {
         }
       } else {
         const kind = namedKind ?? segment?.suggestedKind ?? null;
-        this.em.persist(
-          new Structure({
-            series: seriesRef,
-            labelValue,
-            kind,
-            name: segment?.name ?? defaultName(labelValue, kind),
-            voxelCount,
-            volumeMl,
-            source,
-          }),
-        );
+        const created = new Structure({
+          series: seriesRef,
+          labelValue,
+          kind,
+          name: segment?.name ?? defaultName(labelValue, kind),
+          voxelCount,
+          volumeMl,
+          source,
+        });
+        rows.push(created);
+        this.em.persist(created);
       }
     }
+    // Confirmed links of kept label values stay (as their kinds and names do); every other
+    // tumour gets the suggestion measured on the new voxels.
+    applyLesionSuggestions(rows, lesions, labelMap.labels, seriesGeometry(series));
     recordAudit(this.em, actor, {
       action: 'structures.import',
       entityType: 'series',
@@ -349,6 +371,8 @@ export class StructuresService {
         source,
         structureCount: labelValues.length,
         isReplacement: previousMap !== null,
+        suggestedLinks: rows.filter((row) => row.lesion && !row.isLesionConfirmed).length,
+        overlapCount: overlaps.length,
       },
     });
     try {
@@ -360,11 +384,15 @@ export class StructuresService {
       throw error;
     }
     if (previousKey) await store.remove(previousKey);
-    return (await this.structuresOf(series.id)).map(toView);
+    return { structures: (await this.structuresOf(series.id)).map(toStructureView), overlaps };
   }
 
   private async structuresOf(seriesId: string): Promise<Structure[]> {
-    return this.em.find(Structure, { series: seriesId }, { orderBy: { labelValue: 'asc' } });
+    return this.em.find(
+      Structure,
+      { series: seriesId },
+      { orderBy: { labelValue: 'asc' }, populate: ['lesion'] },
+    );
   }
 
   private async findVisibleSeries(user: SignedInUser, seriesId: string): Promise<ImageSeries> {
@@ -387,17 +415,4 @@ export class StructuresService {
     }
     return series;
   }
-}
-
-function toView(structure: Structure): StructureView {
-  return {
-    id: structure.id,
-    seriesId: structure.series.id,
-    labelValue: structure.labelValue,
-    kind: structure.kind,
-    name: structure.name,
-    voxelCount: structure.voxelCount,
-    volumeMl: structure.volumeMl,
-    source: structure.source,
-  };
 }

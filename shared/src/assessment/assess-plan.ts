@@ -5,9 +5,10 @@
  * in a server worker. Positions LPS, millimetres; volumes millilitres.
  *
  * Everything is computed on one crop of the series grid around the plan (plan-crop.ts); the
- * figures of the zone the verdict uses come from the bioheat model when it ran, else from the
- * table. What it shows is decision support: the treating team, local protocols and licensed
- * practice decide (`clinicalCaution`).
+ * figures of the zone the verdict uses come from the bioheat model when it ran and its
+ * calibrations passed their leave-one-out test (physics-acceptance.ts), else from the table.
+ * What it shows is decision support: the treating team, local protocols and licensed practice
+ * decide (`clinicalCaution`).
  */
 import type { AssessmentResult, ZoneModel } from '../api/assessments';
 import { clinicalCaution } from '../api/caution';
@@ -26,6 +27,7 @@ import {
   type AssessmentProgress,
   type AssessmentStage,
 } from './assessment-stages';
+import type { ApplicatorCalibration } from '../bioheat/calibration';
 import { runBioheatZone, type BioheatZoneModel } from './bioheat-zone';
 import { assessCoverage, type TumourMarginSamples } from './coverage';
 import type { DistanceFieldCache } from './distance-field-cache';
@@ -45,6 +47,7 @@ import {
   type CropContext,
 } from './kind-fields';
 import { kindCode, takeLabelInventory } from './label-inventory';
+import { judgePhysicsZone, physicsToleranceMm } from './physics-acceptance';
 import { planCrops } from './plan-crops';
 import { assessTrajectory, type TrajectoryFigures } from './trajectory-safety';
 import { treatedTumours } from './treated-tumours';
@@ -199,7 +202,7 @@ export async function assessPlan(
       zoneCrop.geometry,
       plan.bioheatBox,
       vessels,
-      calibrationsOf(input.applicators),
+      calibrationsOf(input.applicators).map((calibration) => calibration.parameters),
       {
         model: options.bioheat,
         onProgress: onFraction,
@@ -213,7 +216,12 @@ export async function assessPlan(
     doneShare += shares['bioheat-zone'];
     report('bioheat-zone', doneShare);
   }
-  const primaryZoneModel: ZoneModel = zoneMasks.has('bioheat') ? 'bioheat' : 'table';
+  // The physics zone decides only when its calibrations passed their leave-one-out test.
+  const physics = withBioheat
+    ? judgePhysicsZone(calibrationsOf(input.applicators), physicsToleranceMm(safetyProfile))
+    : null;
+  const primaryZoneModel: ZoneModel =
+    zoneMasks.has('bioheat') && physics?.isAccepted ? 'bioheat' : 'table';
 
   const treated = treatedTumours(
     input.structures,
@@ -278,7 +286,17 @@ export async function assessPlan(
     result: {
       engineVersion: ENGINE_VERSION,
       applicators,
-      zones: coverage.map((entry) => entry.figures.zone),
+      zones: coverage.map((entry) =>
+        entry.model === 'bioheat' && physics
+          ? {
+              ...entry.figures.zone,
+              boundaryErrorMm: entry.figures.zone.boundaryErrorMm ?? physics.boundaryErrorMm,
+              ...(physics.isAccepted
+                ? {}
+                : { isAdvisory: true, advisoryReason: physics.advisoryReason }),
+            }
+          : entry.figures.zone,
+      ),
       primaryZoneModel,
       heatSinks,
       verdict,
@@ -304,14 +322,14 @@ function tableZoneOf(applicator: AssessmentApplicator, index: number): Ellipsoid
 }
 
 /** Each applicator's calibration; refuses a run of the physics model without one. */
-function calibrationsOf(applicators: readonly AssessmentApplicator[]): number[] {
+function calibrationsOf(applicators: readonly AssessmentApplicator[]): ApplicatorCalibration[] {
   return applicators.map((applicator, index) => {
     if (applicator.calibration === undefined) {
       throw new EngineRefusal(
         'invalid-input',
         `applicators[${index}].calibration`,
-        `Applicator ${index + 1}: the bioheat zone needs the profile's calibrated coupling ` +
-          'efficiency (calibration); none was given.',
+        `Applicator ${index + 1}: the bioheat zone needs the heating model calibrated to ` +
+          'its profile (calibration); none was given.',
       );
     }
     return applicator.calibration;

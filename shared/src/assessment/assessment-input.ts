@@ -4,6 +4,8 @@
  * Positions LPS, millimetres (DICOM PS3.3 C.7.6.2.1.1); the label map lies on the series grid.
  */
 import { zoneTableSchema, type ZoneTableRow } from '../api/applicator-profiles';
+import type { ApplicatorCalibration } from '../bioheat/calibration';
+import { checkHeatingParameters } from '../bioheat/heating-parameters';
 import { zoneModels, type ZoneModel } from '../api/assessments';
 import { maximumApplicatorsPerPlan, minimumApplicatorPathMm } from '../api/plans';
 import { safetyProfileBodySchema, type SafetyProfileBody } from '../api/safety-profiles';
@@ -39,10 +41,11 @@ export interface AssessmentApplicator {
   powerW: number;
   timeS: number;
   /**
-   * Multiplier of the delivered power for the bioheat model (no unit, default 1): how much of
-   * the generator's power the tissue absorbs for this applicator. The zone table ignores it.
+   * The heating model calibrated to this applicator's profile (`calibrateApplicatorProfile`):
+   * needed for the physics zone, which it heats and judges (`physics-acceptance.ts`). The zone
+   * table ignores it.
    */
-  calibration?: number;
+  calibration?: ApplicatorCalibration;
 }
 
 /** Options of one run. */
@@ -209,8 +212,13 @@ function checkApplicators(applicators: readonly AssessmentApplicator[]): void {
     if (!positive(applicator.timeS)) {
       refuse(`${field}.timeS`, `${name}: the time must be a positive number of seconds.`);
     }
-    if (applicator.calibration !== undefined && !positive(applicator.calibration)) {
-      refuse(`${field}.calibration`, `${name}: the calibration must be a positive number.`);
+    if (applicator.calibration !== undefined) {
+      try {
+        checkHeatingParameters(applicator.calibration.parameters, 'parameters');
+      } catch (error) {
+        const reason = error instanceof Error ? error.message : String(error);
+        refuse(`${field}.calibration`, `${name}: the calibration is malformed (${reason}).`);
+      }
     }
     const { profile } = applicator;
     if (!positive(profile.workingLengthMm)) {

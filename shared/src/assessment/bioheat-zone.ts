@@ -2,16 +2,24 @@
  * The one place the assessment calls the physics zone model (shared/src/bioheat): the Pennes
  * bioheat equation with Arrhenius damage on a sub-box of the assessment's crop, large vessels
  * held at blood temperature. The model runs on a grid of the series' axes at the calibration
- * spacing (`CALIBRATION_SPACING_MM`, 2 mm isotropic): the coupling efficiency was fitted on that
- * grid, and at a series' own thin spacing the explicit solve costs ~40× more (the stable step
- * shrinks with the spacing squared). The heat-sink mask goes onto it and the damage mask comes
- * back onto the crop by nearest voxel centre.
+ * spacing (`CALIBRATION_SPACING_MM`, 2 mm isotropic): the heating was calibrated on that grid,
+ * and at a series' own thin spacing the explicit solve costs ~40× more (the stable step shrinks
+ * with the spacing squared). The heat-sink mask goes onto it by nearest voxel; the damage Ω
+ * comes back onto the crop by trilinear interpolation of ln Ω, thresholded at Ω = 1
+ * (`resampleDamageMask`), so the zone's edge is not moved by half a model voxel.
+ *
+ * A vessel held at blood temperature is the strongest heat sink the model allows (as if its
+ * flow were unlimited): real vessels cool less, so beside a vessel the physics zone is the
+ * model's smallest.
  */
 import {
   CALIBRATION_SPACING_MM,
+  resampleDamageMask,
   simulateAblationZone,
+  zoneApplicatorOf,
   type AblationZoneInput,
   type AblationZoneResult,
+  type HeatingParameters,
 } from '../bioheat';
 import {
   lpsToVoxel,
@@ -39,19 +47,22 @@ export const defaultBioheatZoneModel: BioheatZoneModel = (input) => simulateAbla
 export const BIOHEAT_GRID_MARGIN_MM = 30;
 
 /**
- * The model's damage mask (Ω ≥ 1) on the crop grid, by nearest voxel of the model's grid; and
+ * The model's damage zone (Ω ≥ 1) on the crop grid, Ω interpolated from the model's grid; and
  * whether the damage reaches the outer layer of the model's grid, so that the zone may be cut.
  */
 export function damageOnCrop(
-  result: Pick<AblationZoneResult, 'damageMask' | 'geometry'>,
+  result: Pick<AblationZoneResult, 'damageMask' | 'omega' | 'geometry'>,
   cropGeometry: VolumeGeometry,
 ): { mask: Uint8Array; isCut: boolean } {
   const model = result.geometry;
-  if (result.damageMask.length !== voxelCount(model.dimensions)) {
-    throw new RangeError('the bioheat damage mask does not match its grid');
+  if (
+    result.damageMask.length !== voxelCount(model.dimensions) ||
+    result.omega.length !== voxelCount(model.dimensions)
+  ) {
+    throw new RangeError('the bioheat damage fields do not match their grid');
   }
   const [mx, my, mz] = model.dimensions;
-  const mask = sampleNearest(result.damageMask, model, cropGeometry);
+  const mask = resampleDamageMask(result.omega, model, cropGeometry);
   let isCut = false;
   let index = 0;
   for (let z = 0; z < mz && !isCut; z++) {
@@ -116,14 +127,15 @@ export interface BioheatRunOptions {
 /**
  * The physics zone on the crop (`box` in its voxel indices is the model's grid), vessels of the
  * heat-sink kinds at least the heat-sink diameter wide held at blood temperature, read back
- * onto the crop.
+ * onto the crop; each applicator heated as its profile's calibration says (`heatings`, in plan
+ * order).
  */
 export async function runBioheatZone(
   input: AssessmentInput,
   cropGeometry: VolumeGeometry,
   box: VoxelBox,
   vessels: readonly { diametersMm: Float32Array }[],
-  calibrations: readonly number[],
+  heatings: readonly HeatingParameters[],
   options: BioheatRunOptions,
 ): Promise<{ mask: Uint8Array; isCut: boolean }> {
   const model = options.model ?? defaultBioheatZoneModel;
@@ -136,14 +148,14 @@ export async function runBioheatZone(
       boxGrid,
       modelGrid,
     ),
-    applicators: input.applicators.map((applicator, index) => ({
-      entryLps: applicator.entry,
-      tipLps: applicator.target,
-      activeLengthMm: applicator.profile.activeLengthMm,
-      powerW: applicator.powerW,
-      timeS: applicator.timeS,
-      calibration: calibrations[index],
-    })),
+    applicators: input.applicators.map((applicator, index) =>
+      zoneApplicatorOf(heatings[index], {
+        entryLps: applicator.entry,
+        tipLps: applicator.target,
+        powerW: applicator.powerW,
+        timeS: applicator.timeS,
+      }),
+    ),
     onProgress: options.onProgress,
     shouldAbort: options.shouldAbort,
     timeLimitMs: options.timeLimitMs,

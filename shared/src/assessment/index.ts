@@ -15,5 +15,6 @@ export * from './vessel-calibre';
 export * from './heat-sinks';
 export * from './verdict';
 export * from './bioheat-zone';
+export * from './physics-acceptance';
 export * from './zone-display';
 export * from './assess-plan';

@@ -1,193 +1,212 @@
 /**
- * Calibration of the zone model to an applicator profile's zone table: the one free parameter
- * of the heating model (the coupling efficiency η, `applicator-heating.ts`) chosen so that the
- * simulated zones in homogeneous liver best match the table's, by least squares on length and
- * width over all rows.
+ * Calibration of the zone model to an applicator profile's zone table, and how well it holds.
  *
- * Zone sizes grow smoothly and monotonically with η and almost linearly with ln η, so the
- * search runs on x = ln η by Gauss–Newton with a secant derivative (the last two evaluations),
- * halving a step that fails to lower the sum of squares; it ends when a step moves η by less
- * than 0.2 %. Each evaluation simulates every power of the table once (`homogeneous-zone.ts`).
+ * Four parameters of the heating (`heating-parameters.ts`) are fitted so that the model's zones
+ * in homogeneous liver match the table's length, width and centre behind the tip, by least
+ * squares over all rows (`calibration-fit.ts`): the coupling efficiency η, its power exponent γ
+ * (when the table holds more than one power), the heating length and the segment's offset from
+ * the tip. Every row's residual is reported.
+ *
+ * A fit to the same rows it is judged on flatters any model, so each row is also predicted by
+ * the model refitted without it (leave-one-out): its error says how well the model predicts a
+ * heating it was not told about, which is what a plan asks of it. The physics zone may decide a
+ * verdict only when that error is within the safety profile's tolerance
+ * (`assessment/physics-acceptance.ts`).
+ *
+ * The result is plain data: the server stores it per profile version and hands it back to the
+ * workers. `CALIBRATION_MODEL_VERSION` names the model; a stored calibration of another version
+ * is fitted again.
  */
 import type { ZoneTableRow } from '../api/applicator-profiles';
 import { clinicalCaution } from '../api/caution';
-import { homogeneousZoneSizes, type HomogeneousZoneOptions } from './homogeneous-zone';
-import type { ShaftZoneSize } from './zone-measurement';
+import { fitRows, type FitResult } from './calibration-fit';
+import { CalibrationModel, SEGMENT_OFFSET, type ParameterVector } from './calibration-model';
+import { implausibilityReasons, isAtRangeLimit } from './calibration-plausibility';
+import type { HeatingParameters } from './heating-parameters';
+import type { HomogeneousZoneOptions } from './homogeneous-zone';
+
+/**
+ * Names the zone model and its calibration (grid, solver, parameters, fit). Change it whenever
+ * a change would give another calibration for the same table, so that stored ones are redone.
+ */
+export const CALIBRATION_MODEL_VERSION = 'bioheat-2: 2 mm Pennes, η γ length offset, LOO';
+
+/** Fewest rows for a leave-one-out check: two left to refit four parameters to six sizes. */
+export const MIN_ROWS_FOR_LEAVE_ONE_OUT = 3;
 
 /** What the calibration reads of a profile. */
 export interface CalibrationProfile {
-  /** Length of the heating segment that ends at the tip, millimetres. */
+  /** Length of the profile's radiating segment behind the tip, millimetres (the start value). */
   activeLengthMm: number;
   zoneTable: readonly ZoneTableRow[];
 }
 
 export interface CalibrationOptions extends HomogeneousZoneOptions {
-  /** Lowest and highest η tried (default 0.01 and 4). */
-  parameterRange?: readonly [number, number];
-  /** First η tried (default 0.3). */
-  startParameter?: number;
-  /** Called after every evaluation with an estimate of the fraction done, 0–1. */
+  /** Called now and then with an estimate of the fraction done, 0–1. */
   onProgress?: (fraction: number) => void;
 }
 
-/** One table row against the model at the calibrated parameter; millimetres. */
+/** Model − table of one quantity of a row, millimetres. */
+export interface RowErrors {
+  lengthMm: number;
+  widthMm: number;
+  tipOffsetMm: number;
+}
+
+/** One table row against the calibrated model; millimetres. */
 export interface CalibrationRow {
   powerW: number;
   timeS: number;
   tableLengthMm: number;
   tableWidthMm: number;
+  /** Centre of the zone behind the tip. */
+  tableTipOffsetMm: number;
   modelLengthMm: number;
   modelWidthMm: number;
+  /** Null when the model gives no zone for the row. */
+  modelTipOffsetMm: number | null;
   /** Model − table. */
   residualLengthMm: number;
   residualWidthMm: number;
-  /** Centre of the zone behind the tip: the table's, and the model's (not fitted). */
-  tableTipOffsetMm: number;
-  modelTipOffsetMm: number | null;
+  residualTipOffsetMm: number;
+  /** Prediction of the model fitted without this row, minus the table; null with too few rows. */
+  leaveOneOut: RowErrors | null;
 }
 
 export interface ApplicatorCalibration {
-  /** The coupling efficiency η (no unit): the `calibration` of a `ZoneApplicator`. */
-  parameter: number;
+  /** `CALIBRATION_MODEL_VERSION` of the model that made it. */
+  modelVersion: string;
+  parameters: HeatingParameters;
   rows: CalibrationRow[];
-  /** Root mean square of all length and width residuals, millimetres. */
+  /** Root mean square of all length, width and centre residuals, millimetres. */
   rmsResidualMm: number;
-  /** Model evaluations used (each simulates every power of the table once). */
-  evaluations: number;
-  /** Whether η ended at an end of `parameterRange` (the table is out of the model's reach). */
+  /** Largest of them in size, millimetres. */
+  maxResidualMm: number;
+  /** Root mean square and largest of the leave-one-out errors, millimetres; null: too few rows. */
+  leaveOneOutRmsMm: number | null;
+  leaveOneOutMaxMm: number | null;
+  /**
+   * Largest move of the zone's surface the leave-one-out errors imply, millimetres: an end of
+   * the zone moves by |Δcentre| + |Δlength|/2, a side by |Δwidth|/2; the worst row's worse.
+   */
+  leaveOneOutBoundaryMm: number | null;
+  /** Whether a fitted parameter ended at an end of its range. */
   isAtRangeLimit: boolean;
+  isImplausible: boolean;
+  /** Why, in words, when implausible. */
+  implausibleReason?: string;
+  /** Runs of one power of the table in homogeneous liver that the fits needed. */
+  simulations: number;
   caution: string;
 }
 
-const STEP_TOLERANCE = 0.002;
-const MAX_EVALUATIONS = 30;
-/** Largest step in ln η (a factor of 4), so that one poor secant cannot throw the search far. */
-const MAX_LOG_STEP = Math.log(4);
-/** Evaluations a typical calibration needs, for the progress estimate. */
-const TYPICAL_EVALUATIONS = 7;
-
-interface Evaluation {
-  logParameter: number;
-  residuals: number[];
-  sumOfSquares: number;
-  sizes: ShaftZoneSize[];
-}
+const FULL_FIT = { toleranceMm: 0.01, maxIterations: 25, refreshOnAccept: true };
+const LEAVE_ONE_OUT_FIT = { toleranceMm: 0.02, maxIterations: 8, refreshOnAccept: false };
+/** The coupling efficiency the full fit starts from. */
+const START_EFFICIENCY = 0.3;
 
 /**
- * Finds the coupling efficiency η for which the model's zones in homogeneous liver best match
- * the profile's zone table (least squares on length and width, millimetres, all rows weighted
- * alike), and reports every row's residual. Throws a RangeError for a malformed profile or
- * options, and a `BioheatAbortedError` when `shouldAbort` answers true.
+ * Fits the heating parameters to the profile's zone table (lengths, widths and centres in
+ * millimetres, all rows alike), reports every row's residual and leave-one-out error and
+ * whether the result is plausible. Throws a RangeError for a malformed profile and a
+ * `BioheatAbortedError` when `shouldAbort` answers true.
  */
 export function calibrateApplicatorProfile(
   profile: Readonly<CalibrationProfile>,
   options: Readonly<CalibrationOptions> = {},
 ): ApplicatorCalibration {
   checkProfile(profile);
-  const [lowest, highest] = options.parameterRange ?? [0.01, 4];
-  if (!(lowest > 0 && highest > lowest && Number.isFinite(highest))) {
-    throw new RangeError('parameterRange must be two positive numbers, the lower first');
-  }
-  const start = options.startParameter ?? 0.3;
-  if (!(start >= lowest && start <= highest)) {
-    throw new RangeError('startParameter must lie within parameterRange');
-  }
-  const lowX = Math.log(lowest);
-  const highX = Math.log(highest);
-  const clampX = (x: number) => Math.min(highX, Math.max(lowX, x));
   const table = profile.zoneTable;
-  const rows = table.map((row) => ({
-    powerW: row.powerW,
-    timeS: row.timeS,
-    expectedLengthMm: row.zoneLengthMm,
-    expectedWidthMm: row.zoneWidthMm,
-    expectedTipOffsetMm: row.tipOffsetMm,
-  }));
+  const model = new CalibrationModel(table, profile.activeLengthMm, options);
+  const all = table.map((_, index) => index);
+  const start: ParameterVector = [Math.log(START_EFFICIENCY), 0, profile.activeLengthMm, 0];
+  const full = fitRows(model, start, all, FULL_FIT);
+  options.onProgress?.(0.4);
 
-  const evaluations: Evaluation[] = [];
-  const evaluate = (logParameter: number): Evaluation => {
-    const sizes = homogeneousZoneSizes(
-      profile.activeLengthMm,
-      rows,
-      Math.exp(logParameter),
-      options,
-    );
-    const residuals = sizes.flatMap((size, index) => [
-      size.lengthMm - table[index].zoneLengthMm,
-      size.widthMm - table[index].zoneWidthMm,
-    ]);
-    const evaluation = {
-      logParameter,
-      residuals,
-      sumOfSquares: residuals.reduce((sum, residual) => sum + residual * residual, 0),
-      sizes,
-    };
-    evaluations.push(evaluation);
-    options.onProgress?.(Math.min(0.95, evaluations.length / TYPICAL_EVALUATIONS));
-    return evaluation;
-  };
-
-  let previous = evaluate(clampX(Math.log(start)));
-  let current = evaluate(clampX(previous.logParameter + Math.LN2));
-  let best = current.sumOfSquares < previous.sumOfSquares ? current : previous;
-  while (evaluations.length < MAX_EVALUATIONS) {
-    const proposed = clampX(best.logParameter + gaussNewtonStep(previous, current, best));
-    if (Math.abs(proposed - best.logParameter) < STEP_TOLERANCE) break;
-    let trial = evaluate(proposed);
-    // A step that fails to lower the sum of squares is halved until it does, or is tiny.
-    while (trial.sumOfSquares >= best.sumOfSquares && evaluations.length < MAX_EVALUATIONS) {
-      const halfway = (best.logParameter + trial.logParameter) / 2;
-      if (Math.abs(halfway - best.logParameter) < STEP_TOLERANCE) break;
-      trial = evaluate(halfway);
-    }
-    previous = current;
-    current = trial;
-    if (trial.sumOfSquares < best.sumOfSquares) best = trial;
-    else break;
-  }
+  const leaveOneOut =
+    table.length >= MIN_ROWS_FOR_LEAVE_ONE_OUT
+      ? all.map((index) => {
+          const errors = leaveOneOutErrors(model, full, all, index);
+          options.onProgress?.(0.4 + (0.6 * (index + 1)) / table.length);
+          return errors;
+        })
+      : null;
   options.onProgress?.(1);
 
-  const parameter = Math.exp(best.logParameter);
+  const residuals = all.map((index) =>
+    model.rowResiduals(index, full.sizes, full.x[SEGMENT_OFFSET]),
+  );
+  const reasons = implausibilityReasons(model, full.x, full.sizes, table);
+  const looValues = leaveOneOut?.flatMap((row) => [row.lengthMm, row.widthMm, row.tipOffsetMm]);
   return {
-    parameter,
+    modelVersion: CALIBRATION_MODEL_VERSION,
+    parameters: model.heatingOf(full.x),
     rows: table.map((row, index) => ({
       powerW: row.powerW,
       timeS: row.timeS,
       tableLengthMm: row.zoneLengthMm,
       tableWidthMm: row.zoneWidthMm,
-      modelLengthMm: best.sizes[index].lengthMm,
-      modelWidthMm: best.sizes[index].widthMm,
-      residualLengthMm: best.residuals[2 * index],
-      residualWidthMm: best.residuals[2 * index + 1],
       tableTipOffsetMm: row.tipOffsetMm,
-      modelTipOffsetMm: best.sizes[index].tipOffsetMm,
+      modelLengthMm: full.sizes[index].lengthMm,
+      modelWidthMm: full.sizes[index].widthMm,
+      modelTipOffsetMm: full.sizes[index].hasZone
+        ? full.sizes[index].centreMm + full.x[SEGMENT_OFFSET]
+        : null,
+      residualLengthMm: residuals[index][0],
+      residualWidthMm: residuals[index][1],
+      residualTipOffsetMm: residuals[index][2],
+      leaveOneOut: leaveOneOut?.[index] ?? null,
     })),
-    rmsResidualMm: Math.sqrt(best.sumOfSquares / best.residuals.length),
-    evaluations: evaluations.length,
-    isAtRangeLimit:
-      Math.abs(best.logParameter - lowX) < STEP_TOLERANCE ||
-      Math.abs(best.logParameter - highX) < STEP_TOLERANCE,
+    rmsResidualMm: rootMeanSquare(residuals.flat()),
+    maxResidualMm: largestMagnitude(residuals.flat()),
+    leaveOneOutRmsMm: looValues ? rootMeanSquare(looValues) : null,
+    leaveOneOutMaxMm: looValues ? largestMagnitude(looValues) : null,
+    leaveOneOutBoundaryMm: leaveOneOut
+      ? Math.max(
+          ...leaveOneOut.map((row) =>
+            Math.max(
+              Math.abs(row.tipOffsetMm) + Math.abs(row.lengthMm) / 2,
+              Math.abs(row.widthMm) / 2,
+            ),
+          ),
+        )
+      : null,
+    isAtRangeLimit: isAtRangeLimit(model, full.x),
+    isImplausible: reasons.length > 0,
+    ...(reasons.length > 0 ? { implausibleReason: sentence(reasons) } : {}),
+    simulations: model.simulations,
     caution: clinicalCaution,
   };
 }
 
-/**
- * The Gauss–Newton step in ln η from `best`, −(J·r)/(J·J), with the Jacobian J of the residuals
- * r estimated by the secant through the last two evaluations; at most `MAX_LOG_STEP` long.
- * Without any sensitivity (no zone at either η) the step goes up by the largest step.
- */
-function gaussNewtonStep(previous: Evaluation, current: Evaluation, best: Evaluation): number {
-  const spacing = current.logParameter - previous.logParameter;
-  let gradient = 0;
-  let curvature = 0;
-  for (let index = 0; index < best.residuals.length; index++) {
-    const slope =
-      spacing === 0 ? 0 : (current.residuals[index] - previous.residuals[index]) / spacing;
-    gradient += slope * best.residuals[index];
-    curvature += slope * slope;
-  }
-  if (!(curvature > 1e-12)) return MAX_LOG_STEP;
-  return Math.max(-MAX_LOG_STEP, Math.min(MAX_LOG_STEP, -gradient / curvature));
+/** Row `index` predicted by the model refitted, from the full fit, to the other rows. */
+function leaveOneOutErrors(
+  model: CalibrationModel,
+  full: FitResult,
+  all: readonly number[],
+  index: number,
+): RowErrors {
+  const others = all.filter((other) => other !== index);
+  const refit = fitRows(model, full.x, others, LEAVE_ONE_OUT_FIT, full.rowJacobians);
+  const [lengthMm, widthMm, tipOffsetMm] = model.rowResiduals(
+    index,
+    refit.sizes,
+    refit.x[SEGMENT_OFFSET],
+  );
+  return { lengthMm, widthMm, tipOffsetMm };
+}
+
+function rootMeanSquare(values: readonly number[]): number {
+  return Math.sqrt(values.reduce((sum, value) => sum + value * value, 0) / values.length);
+}
+
+function largestMagnitude(values: readonly number[]): number {
+  return values.reduce((largest, value) => Math.max(largest, Math.abs(value)), 0);
+}
+
+function sentence(reasons: readonly string[]): string {
+  const text = reasons.join('; ');
+  return `${text.charAt(0).toUpperCase()}${text.slice(1)}.`;
 }
 
 function checkProfile(profile: Readonly<CalibrationProfile>): void {

@@ -17,4 +17,6 @@ export * from './zone-measurement';
 export * from './zone-crop';
 export * from './simulate-zone';
 export * from './homogeneous-zone';
+export * from './heating-parameters';
 export * from './calibration';
+export * from './damage-resampling';

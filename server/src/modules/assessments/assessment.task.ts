@@ -1,15 +1,19 @@
 /**
- * The pool thread's task: decode the label map, calibrate the bioheat model of each applicator
- * profile (kept per thread: a profile's table does not change under the same id and content),
- * run the engine, encode the display data. Progress goes back through the task's MessagePort.
+ * The pool thread's task: decode the label map, take each applicator profile's heating-model
+ * calibration as stored with its version (fitting it when none of the current model version is
+ * stored, and handing those back for the server to store), run the engine, encode the display
+ * data. Progress goes back through the task's MessagePort.
  */
 import type { MessagePort } from 'node:worker_threads';
 import {
   type ApplicatorCalibration,
   type ProfileCalibration,
+  CALIBRATION_MODEL_VERSION,
   EngineRefusal,
   assessPlan,
   calibrateApplicatorProfile,
+  physicsToleranceMm,
+  profileCalibrationSummary,
   decodeLabelMapFile,
   encodeAssessmentDisplay,
   DEFAULT_ASSESSMENT_CROP_MARGIN_MM,
@@ -23,41 +27,39 @@ import type {
   TaskProgress,
 } from './assessment-task-protocol';
 
+/**
+ * Calibrations this thread fitted, by profile content: a fallback for a calibration the server
+ * has not stored yet (another job of the same profile version may still be running).
+ */
 const calibrations = new Map<string, ApplicatorCalibration>();
 /** Distance fields of the series this thread assessed lately (an LRU of crops). */
 const distanceFields = createDistanceFieldCache();
 
+type TaskProfile = AssessmentTaskInput['applicators'][number]['profile'];
+
+/** Whether the profile carries a stored calibration of the current model version. */
+function hasCurrentCalibration(profile: TaskProfile): boolean {
+  return profile.storedCalibration?.modelVersion === CALIBRATION_MODEL_VERSION;
+}
+
+/** The stored calibration when current, else one fitted here (`isNew`: the server stores it). */
 function calibrationOf(
-  profile: AssessmentTaskInput['applicators'][number]['profile'],
-): ApplicatorCalibration {
+  profile: TaskProfile,
+  onProgress: (fraction: number) => void,
+): { calibration: ApplicatorCalibration; isNew: boolean } {
+  if (profile.storedCalibration && hasCurrentCalibration(profile)) {
+    return { calibration: profile.storedCalibration, isNew: false };
+  }
   const key = JSON.stringify([profile.activeLengthMm, profile.zoneTable]);
   let calibration = calibrations.get(key);
   if (calibration === undefined) {
-    calibration = calibrateApplicatorProfile({
-      activeLengthMm: profile.activeLengthMm,
-      zoneTable: profile.zoneTable,
-    });
+    calibration = calibrateApplicatorProfile(
+      { activeLengthMm: profile.activeLengthMm, zoneTable: profile.zoneTable },
+      { onProgress },
+    );
     calibrations.set(key, calibration);
   }
-  return calibration;
-}
-
-function calibrationSummary(
-  profileId: string,
-  calibration: ApplicatorCalibration,
-): ProfileCalibration {
-  return {
-    profileId,
-    parameter: calibration.parameter,
-    rmsResidualMm: calibration.rmsResidualMm,
-    isAtRangeLimit: calibration.isAtRangeLimit,
-    rows: calibration.rows.map((row) => ({
-      powerW: row.powerW,
-      timeS: row.timeS,
-      residualLengthMm: row.residualLengthMm,
-      residualWidthMm: row.residualWidthMm,
-    })),
-  };
+  return { calibration, isNew: true };
 }
 
 export default async function runAssessmentTask(task: {
@@ -83,17 +85,30 @@ async function assess({
 }): Promise<AssessmentTaskOutput> {
   const report = (progress: TaskProgress) => port.postMessage(progress);
   const { labels } = decodeLabelMapFile(input.labelMap.buffer);
-  const calibrationShare = input.isBioheatRequested ? 0.15 : 0;
+  // A calibration to fit takes a few seconds, longer than the rest of the assessment.
+  const mustFit = input.applicators.some(
+    (applicator) => !hasCurrentCalibration(applicator.profile),
+  );
+  const calibrationShare = input.isBioheatRequested ? (mustFit ? 0.6 : 0.02) : 0;
   report({ fraction: 0.01, stage: taskStageLabels['reading-structures'] });
+  const toleranceMm = physicsToleranceMm(input.safetyProfile);
   const used = new Map<string, ProfileCalibration>();
+  const fittedHere = new Map<string, ApplicatorCalibration>();
   const applicators = input.applicators.map((applicator, index) => {
-    const fitted = input.isBioheatRequested ? calibrationOf(applicator.profile) : undefined;
-    if (fitted) used.set(applicator.profile.id, calibrationSummary(applicator.profile.id, fitted));
-    const calibration = fitted?.parameter;
-    report({
-      fraction: (calibrationShare * (index + 1)) / input.applicators.length,
-      stage: taskStageLabels['calibrating-heating'],
-    });
+    const stage = taskStageLabels['calibrating-heating'];
+    const share = (fraction: number) =>
+      report({
+        fraction: (calibrationShare * (index + fraction)) / input.applicators.length,
+        stage,
+      });
+    const { id } = applicator.profile;
+    const found = input.isBioheatRequested ? calibrationOf(applicator.profile, share) : undefined;
+    if (found) {
+      used.set(id, profileCalibrationSummary(id, found.calibration, toleranceMm));
+      if (found.isNew) fittedHere.set(id, found.calibration);
+    }
+    const calibration = found?.calibration;
+    share(1);
     return {
       entry: applicator.entry,
       target: applicator.target,
@@ -140,6 +155,14 @@ async function assess({
   });
   return {
     result: used.size ? { ...run.result, calibrations: [...used.values()] } : run.result,
+    ...(fittedHere.size
+      ? {
+          newCalibrations: [...fittedHere].map(([profileId, calibration]) => ({
+            profileId,
+            calibration,
+          })),
+        }
+      : {}),
     timingsMs: run.timingsMs,
     display: display.buffer.slice(
       display.byteOffset,

@@ -23,6 +23,7 @@ import { HttpSession } from './modules/sessions/http-session.entity';
 import { RolePolicy } from './modules/users/role-policy.entity';
 import { User } from './modules/users/user.entity';
 import { databaseUrl } from './database-url';
+import { NotFoundError } from './common/errors';
 
 const migrationsPath = fileURLToPath(new URL('../migrations', import.meta.url));
 
@@ -50,6 +51,11 @@ export const entities = [
   Assessment,
 ];
 
+/** "NeedlePlan" → "The needle plan": how a miss names what was looked for. */
+function recordNameOf(entityName: string): string {
+  return `The ${entityName.replace(/(?<=[a-z])(?=[A-Z])/g, ' ').toLowerCase()}`;
+}
+
 /** MikroORM settings; `clientUrl` decides the database (tests pass their own). */
 export function ormConfig(clientUrl = databaseUrl()) {
   return defineConfig({
@@ -58,6 +64,8 @@ export function ormConfig(clientUrl = databaseUrl()) {
     extensions: [Migrator],
     // Explicit property types everywhere: tsx/esbuild emits no decorator metadata.
     discovery: { requireEntitiesArray: true },
+    // A `findOneOrFail` miss is the product's own 404, never the ORM's message with the query.
+    findOneOrFailHandler: (entityName: string) => new NotFoundError(recordNameOf(entityName)),
     migrations: {
       path: migrationsPath,
       pathTs: migrationsPath,

@@ -1,6 +1,6 @@
 import { createHmac, randomBytes, timingSafeEqual } from 'node:crypto';
 import type { Request, RequestHandler, Response } from 'express';
-import { AppError } from './errors';
+import { ForbiddenError } from './errors';
 
 /**
  * CSRF protection by Angular's own convention: the server sets a readable `XSRF-TOKEN` cookie and
@@ -70,9 +70,7 @@ export function csrfProtection(options: {
       !isValid(options.secret, request, headerToken)
     ) {
       issueCsrfToken(options.secret, request, response, options.isSecure);
-      throw new AppError(
-        403,
-        'Forbidden',
+      throw new ForbiddenError(
         'The request lacks a valid CSRF token; reload the page and try again.',
         'urn:emberline:problem:csrf',
       );

@@ -1,6 +1,9 @@
 import type { ErrorRequestHandler, RequestHandler } from 'express';
 import type { ProblemDetails } from '@emberline/shared';
-import { UniqueConstraintViolationException } from '@mikro-orm/core';
+import {
+  NotFoundError as OrmNotFoundError,
+  UniqueConstraintViolationException,
+} from '@mikro-orm/core';
 import { AppError, ValidationError } from './errors';
 
 /** Maps typed errors to problem details (RFC 9457); anything else is logged and answered 500. */
@@ -21,6 +24,14 @@ export function errorMiddleware(
         detail: error.message,
       };
       if (error instanceof ValidationError) problem.errors = error.errors;
+    } else if (error instanceof OrmNotFoundError) {
+      // A lookup that bypassed the configured handler: still a 404, without the ORM's message.
+      problem = {
+        type: 'about:blank',
+        title: 'Not found',
+        status: 404,
+        detail: 'The record was not found.',
+      };
     } else if (error instanceof UniqueConstraintViolationException) {
       problem = {
         type: 'about:blank',

@@ -17,8 +17,8 @@ export class NotFoundError extends AppError {
 }
 
 export class ForbiddenError extends AppError {
-  constructor(message = 'Your role does not allow this action.') {
-    super(403, 'Forbidden', message);
+  constructor(message = 'Your role does not allow this action.', type = 'about:blank') {
+    super(403, 'Forbidden', message, type);
   }
 }
 

@@ -15,7 +15,7 @@ import { hasRole } from '../../common/auth-middleware';
 import { AppError, ConflictError, ForbiddenError, NotFoundError } from '../../common/errors';
 import type { Actor, SignedInUser } from '../../common/request-context';
 import { recordAudit } from '../audit/audit.service';
-import { visibilityFilter } from '../cases/case.service';
+import { visibilityFilter } from '../cases/case-visibility';
 import { NeedlePlan } from '../plans/needle-plan.entity';
 import { SafetyProfile } from '../plans/safety-profile.entity';
 import { User } from '../users/user.entity';
@@ -268,14 +268,10 @@ export class AssessmentService {
     return toProgressEvent(await this.findVisible(user, id));
   }
 
-  private async findVisiblePlan(user: SignedInUser, planId: string): Promise<NeedlePlan> {
-    const plan = await this.em.findOne(
-      NeedlePlan,
-      { id: planId, clinicalCase: visibilityFilter(user) },
-      { populate: ['clinicalCase', 'series'] },
-    );
-    if (!plan) throw new NotFoundError('The plan');
-    return plan;
+  private findVisiblePlan(user: SignedInUser, planId: string): Promise<NeedlePlan> {
+    return this.em
+      .getRepository(NeedlePlan)
+      .findVisibleOrFail(user, planId, ['clinicalCase', 'series']);
   }
 
   private async findVisible(user: SignedInUser, id: string): Promise<Assessment> {

@@ -4,7 +4,7 @@ import type { MikroORM } from '@mikro-orm/postgresql';
 import { loginRequestSchema, totpConfirmSchema, type ProblemDetails } from '@emberline/shared';
 import type { AppConfig } from '../../config';
 import { actorOf, signedInUser } from '../../common/auth-middleware';
-import { AppError, UnauthenticatedError, ValidationError } from '../../common/errors';
+import { ConflictError, UnauthenticatedError, ValidationError } from '../../common/errors';
 import { issueCsrfToken } from '../../common/csrf';
 import { parse } from '../../common/validate';
 import { recordAudit, writeAudit } from '../audit/audit.service';
@@ -110,13 +110,11 @@ export function authRoutes(orm: MikroORM, config: AppConfig): Router {
   router.post('/totp/setup', async (request, response) => {
     const user = signedInUser(request);
     if (user.signInMethod !== 'local') {
-      throw new AppError(
-        409,
-        'Conflict',
+      throw new ConflictError(
         "Single sign-on accounts use the hospital identity provider's second factor.",
       );
     }
-    if (user.hasTotp) throw new AppError(409, 'Conflict', 'A second factor is set up already.');
+    if (user.hasTotp) throw new ConflictError('A second factor is set up already.');
     const secret = newTotpSecret();
     request.session.pendingTotpSecret = secret;
     response.json({ secret, otpauthUri: totpUri(secret, user.email) });
@@ -126,7 +124,7 @@ export function authRoutes(orm: MikroORM, config: AppConfig): Router {
     const current = signedInUser(request);
     const { code } = parse(totpConfirmSchema, request.body);
     const secret = request.session.pendingTotpSecret;
-    if (!secret) throw new AppError(409, 'Conflict', 'Start the set-up first.');
+    if (!secret) throw new ConflictError('Start the set-up first.');
     if (!isTotpCodeValid(secret, code)) {
       throw new ValidationError('code: the code does not match; check the clock of the device', [
         { path: 'code', message: 'does not match' },

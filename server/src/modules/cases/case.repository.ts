@@ -1,13 +1,16 @@
 import { EntityRepository } from '@mikro-orm/postgresql';
-import type { FilterQuery, QueryOrderMap } from '@mikro-orm/core';
+import type { FilterQuery, Populate, QueryOrderMap } from '@mikro-orm/core';
 import {
   primaryDiagnosisLabels,
   type CaseListQuery,
   type CaseSortField,
   type PrimaryDiagnosis,
 } from '@emberline/shared';
+import { NotFoundError } from '../../common/errors';
+import type { SignedInUser } from '../../common/request-context';
 import { escapeLike } from '../audit/audit.service';
 import type { ClinicalCase } from './case.entity';
+import { visibilityFilter } from './case-visibility';
 
 const orderByField: Record<
   CaseSortField,
@@ -22,6 +25,18 @@ const orderByField: Record<
 };
 
 export class CaseRepository extends EntityRepository<ClinicalCase> {
+  /** The case if the user may see it; otherwise a NotFoundError (404), never a 403 that leaks it. */
+  findVisibleOrFail<Hint extends string = never>(
+    user: SignedInUser,
+    id: string,
+    populate?: Populate<ClinicalCase, Hint>,
+  ): Promise<ClinicalCase> {
+    return this.findOneOrFail(
+      { $and: [{ id }, visibilityFilter(user)] },
+      { populate, failHandler: () => new NotFoundError('The case') },
+    ) as Promise<ClinicalCase>;
+  }
+
   /** One page of the cases the filter allows, searched by code, board, presenter or diagnosis. */
   async findVisiblePage(
     visible: FilterQuery<ClinicalCase>,

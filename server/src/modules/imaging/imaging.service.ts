@@ -14,7 +14,7 @@ import { ForbiddenError, NotFoundError } from '../../common/errors';
 import type { Actor, SignedInUser } from '../../common/request-context';
 import { recordAudit, writeAudit } from '../audit/audit.service';
 import { ClinicalCase } from '../cases/case.entity';
-import { visibilityFilter } from '../cases/case.service';
+import { visibilityFilter } from '../cases/case-visibility';
 import { User } from '../users/user.entity';
 import { CaseDeidentificationKeys } from './case-deidentification-keys';
 import { deidentificationMethod, deidentifyHeader, uidsToReplace } from './deidentify';
@@ -161,10 +161,8 @@ export class ImagingService {
     return series;
   }
 
-  private async findVisibleCase(user: SignedInUser, id: string): Promise<ClinicalCase> {
-    const found = await this.em.findOne(ClinicalCase, { $and: [{ id }, visibilityFilter(user)] });
-    if (!found) throw new NotFoundError('The case');
-    return found;
+  private findVisibleCase(user: SignedInUser, id: string): Promise<ClinicalCase> {
+    return this.em.getRepository(ClinicalCase).findVisibleOrFail(user, id);
   }
 
   private async ingest(

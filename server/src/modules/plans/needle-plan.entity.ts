@@ -1,9 +1,17 @@
-import { Entity, Index, ManyToOne, Property, type Ref } from '@mikro-orm/core';
+import {
+  Entity,
+  EntityRepositoryType,
+  Index,
+  ManyToOne,
+  Property,
+  type Ref,
+} from '@mikro-orm/core';
 import type { PlanStatus, Vec3 } from '@emberline/shared';
 import { BaseEntity } from '../../common/base.entity';
 import { ClinicalCase } from '../cases/case.entity';
 import { ImageSeries } from '../imaging/image-series.entity';
 import { User } from '../users/user.entity';
+import { PlanRepository } from './plan.repository';
 
 /** One applicator of a plan as stored: points in patient LPS, millimetres, on the plan's series. */
 export interface StoredApplicator {
@@ -18,8 +26,10 @@ export interface StoredApplicator {
  * A needle plan of a case: one or more applicators drafted on one series.
  * It goes with its case (and its series) when either is deleted.
  */
-@Entity({ tableName: 'needle_plan' })
+@Entity({ tableName: 'needle_plan', repository: () => PlanRepository })
 export class NeedlePlan extends BaseEntity {
+  [EntityRepositoryType]?: PlanRepository;
+
   @ManyToOne(() => ClinicalCase, { ref: true, deleteRule: 'cascade' })
   @Index()
   clinicalCase: Ref<ClinicalCase>;

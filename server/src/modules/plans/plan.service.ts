@@ -1,11 +1,10 @@
 import type { EntityManager } from '@mikro-orm/postgresql';
 import type { CreatePlan, PlanView, UpdatePlan } from '@emberline/shared';
 import { hasRole } from '../../common/auth-middleware';
-import { ConflictError, ForbiddenError, NotFoundError, ValidationError } from '../../common/errors';
+import { ConflictError, ForbiddenError, ValidationError } from '../../common/errors';
 import type { Actor, SignedInUser } from '../../common/request-context';
 import { recordAudit, writeAudit } from '../audit/audit.service';
 import { ClinicalCase } from '../cases/case.entity';
-import { visibilityFilter } from '../cases/case.service';
 import { ImageSeries } from '../imaging/image-series.entity';
 import { User } from '../users/user.entity';
 import { ApplicatorProfile } from './applicator-profile.entity';
@@ -214,22 +213,14 @@ export class PlanService {
     if (first) throw new ValidationError(`${first.path}: ${first.message}`, errors);
   }
 
-  private async findVisibleCase(user: SignedInUser, caseId: string): Promise<ClinicalCase> {
-    const found = await this.em.findOne(ClinicalCase, {
-      $and: [{ id: caseId }, visibilityFilter(user)],
-    });
-    if (!found) throw new NotFoundError('The case');
-    return found;
+  private findVisibleCase(user: SignedInUser, caseId: string): Promise<ClinicalCase> {
+    return this.em.getRepository(ClinicalCase).findVisibleOrFail(user, caseId);
   }
 
-  private async findVisiblePlan(user: SignedInUser, planId: string): Promise<NeedlePlan> {
-    const plan = await this.em.findOne(
-      NeedlePlan,
-      { id: planId, clinicalCase: visibilityFilter(user) },
-      { populate: ['clinicalCase', 'author'] },
-    );
-    if (!plan) throw new NotFoundError('The plan');
-    return plan;
+  private findVisiblePlan(user: SignedInUser, planId: string): Promise<NeedlePlan> {
+    return this.em
+      .getRepository(NeedlePlan)
+      .findVisibleOrFail(user, planId, ['clinicalCase', 'author']);
   }
 
   private async findDraftToChange(

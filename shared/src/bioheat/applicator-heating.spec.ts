@@ -109,6 +109,32 @@ describe('power density of an applicator (Gaussian about the active segment)', (
     const axis = normalize(subtract(applicator.entryLps, applicator.tipLps));
     expect(distance(centroid, addScaled(applicator.tipLps, axis, 12.5))).toBeLessThan(0.05);
   });
+
+  it.each([4, -3])(
+    'moves the segment %s mm behind the tip with its offset, power unchanged',
+    (offsetMm) => {
+      const moved: ZoneApplicator = { ...applicator, segmentOffsetMm: offsetMm };
+      const geometry = zoneCropGeometry([moved], IDENTITY, [1.5, 1.5, 1.5], 20);
+      const density = applicatorPowerDensity(geometry, moved);
+      const [nx, ny] = geometry.dimensions;
+      let weight = 0;
+      let centroid: Vec3 = [0, 0, 0];
+      density.powerDensityWPerM3.forEach((value, index) => {
+        const voxel: Vec3 = [
+          index % nx,
+          Math.floor(index / nx) % ny,
+          Math.floor(index / (nx * ny)),
+        ];
+        centroid = addScaled(centroid, voxelToLps(geometry, voxel), value);
+        weight += value;
+      });
+      centroid = centroid.map((value) => value / weight) as Vec3;
+      const axis = normalize(subtract(moved.entryLps, moved.tipLps));
+      expect(distance(centroid, addScaled(moved.tipLps, axis, offsetMm + 12.5))).toBeLessThan(0.05);
+      // The crop follows the segment, so it still holds η·P within the 5e-4 of the grid.
+      expect(Math.abs(density.depositedPowerW / density.absorbedPowerW - 1)).toBeLessThan(5e-4);
+    },
+  );
 });
 
 describe('heating phases of several applicators', () => {

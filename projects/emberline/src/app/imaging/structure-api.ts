@@ -1,10 +1,15 @@
 import { HttpClient, HttpContext, httpResource, type HttpResourceRef } from '@angular/common/http';
 import { Injectable, inject } from '@angular/core';
-import type { StructureKind, StructureLabels, StructureView } from '@emberline/shared';
+import type {
+  StructureImportResult,
+  StructureKind,
+  StructureLabels,
+  StructureView,
+} from '@emberline/shared';
 import type { Observable } from 'rxjs';
 import { SHOWS_OWN_ERRORS } from '../core/http-context-tokens';
 
-/** The structures of a series: list as a resource, import and remap as requests. */
+/** The structures of a series: list as a resource; import, remap and lesion links as requests. */
 @Injectable({ providedIn: 'root' })
 export class StructureApi {
   private readonly http = inject(HttpClient);
@@ -17,16 +22,19 @@ export class StructureApi {
     });
   }
 
-  /** Imports a NIfTI-1 label map; `labels` is left out when no label is mapped. */
+  /**
+   * Imports a label map (NIfTI-1 or DICOM SEG); `labels` is left out when no label is mapped.
+   * Answers the series' structures and the SEG overlaps the server resolved.
+   */
   importLabelMap(
     seriesId: string,
     file: File,
     labels: StructureLabels,
-  ): Observable<StructureView[]> {
+  ): Observable<StructureImportResult> {
     const body = new FormData();
     body.append('file', file, file.name);
     if (Object.keys(labels).length) body.append('labels', JSON.stringify(labels));
-    return this.http.post<StructureView[]>(
+    return this.http.post<StructureImportResult>(
       `/api/series/${encodeURIComponent(seriesId)}/structures`,
       body,
       { context: shownBeside() },
@@ -37,6 +45,24 @@ export class StructureApi {
     return this.http.patch<StructureView>(
       `/api/structures/${encodeURIComponent(structureId)}`,
       name === undefined ? { kind } : { kind, name },
+      { context: shownBeside() },
+    );
+  }
+
+  /** Confirms a tumour's lesion: a lesion of the case, or null for none of them. */
+  confirmLesion(structureId: string, lesionId: string | null): Observable<StructureView> {
+    return this.http.patch<StructureView>(
+      `/api/structures/${encodeURIComponent(structureId)}`,
+      { lesionId, isLesionConfirmed: true },
+      { context: shownBeside() },
+    );
+  }
+
+  /** Releases a confirmed link: the tumour takes the server's suggestion again. */
+  releaseLesion(structureId: string): Observable<StructureView> {
+    return this.http.patch<StructureView>(
+      `/api/structures/${encodeURIComponent(structureId)}`,
+      { isLesionConfirmed: false },
       { context: shownBeside() },
     );
   }

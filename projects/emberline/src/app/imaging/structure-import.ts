@@ -30,7 +30,8 @@ import { StructureApi } from './structure-api';
  * Import of a label map for one series — NIfTI-1 (.nii or .nii.gz) or DICOM SEG (.dcm, whose
  * segment descriptions name the structures and suggest their kinds) — with the kinds of its
  * labels given row by row. Labels left out keep the suggested kind or none, to be mapped
- * afterwards.
+ * afterwards. Segments of a SEG that overlapped are listed after the import, with the structure
+ * that kept the voxels.
  */
 @Component({
   selector: 'em-structure-import',
@@ -72,6 +73,8 @@ export class StructureImport {
   protected readonly isImporting = signal(false);
   protected readonly errorText = signal('');
   protected readonly doneText = signal('');
+  /** What the server resolved of overlapping SEG segments in the last import, in words. */
+  protected readonly overlapMessages = signal<readonly string[]>([]);
 
   protected readonly rows = this.formBuilder.array([this.row()]);
 
@@ -80,6 +83,7 @@ export class StructureImport {
     this.file.set(file);
     this.errorText.set('');
     this.doneText.set('');
+    this.overlapMessages.set([]);
   }
 
   protected addRow(): void {
@@ -112,8 +116,9 @@ export class StructureImport {
     this.isImporting.set(true);
     this.errorText.set('');
     this.doneText.set('');
+    this.overlapMessages.set([]);
     this.api.importLabelMap(this.seriesId(), file, labels).subscribe({
-      next: (structures) => {
+      next: ({ structures, overlaps }) => {
         this.isImporting.set(false);
         picker.value = '';
         this.file.set(null);
@@ -121,6 +126,7 @@ export class StructureImport {
         this.rows.push(this.row());
         const count = structures.length === 1 ? '1 structure' : `${structures.length} structures`;
         this.doneText.set(`${count} imported.`);
+        this.overlapMessages.set(overlaps.map((overlap) => overlap.message));
         this.imported.emit(structures);
       },
       error: (error: unknown) => {

@@ -3,7 +3,7 @@ import { HttpTestingController, provideHttpClientTesting } from '@angular/common
 import { provideZonelessChangeDetection } from '@angular/core';
 import axe from 'axe-core';
 import { TestBed, type ComponentFixture } from '@angular/core/testing';
-import type { ProblemDetails, StructureView } from '@emberline/shared';
+import type { LesionView, ProblemDetails, StructureView } from '@emberline/shared';
 import { element, submit, textOf, typeInto } from '../../testing/dom';
 import { StructurePanel } from './structure-panel';
 
@@ -20,9 +20,27 @@ function structure(overrides: Partial<StructureView>): StructureView {
     voxelCount: 12_345,
     volumeMl: 24.6813,
     source: 'nifti',
+    lesionId: null,
+    lesionLabel: null,
+    isLesionConfirmed: false,
     ...overrides,
   };
 }
+
+const lesions: LesionView[] = [
+  { id: 'lesion-viii', segment: 'VIII', diameterMm: 24, kind: 'hcc' },
+  { id: 'lesion-vi', segment: 'VI', diameterMm: 18, kind: 'hcc' },
+];
+
+/** A tumour the server linked to the segment VIII lesion, not yet confirmed. */
+const suggestedTumour = structure({
+  id: 'structure-2',
+  labelValue: 2,
+  kind: 'tumour',
+  name: 'Tumour 1',
+  lesionId: 'lesion-viii',
+  lesionLabel: 'segment VIII, 24 mm',
+});
 
 describe('StructurePanel', () => {
   let fixture: ComponentFixture<StructurePanel>;
@@ -63,9 +81,15 @@ describe('StructurePanel', () => {
     fixture = TestBed.createComponent(StructurePanel);
     fixture.componentRef.setInput('seriesId', seriesId);
     fixture.componentRef.setInput('canEdit', true);
+    fixture.componentRef.setInput('lesions', lesions);
   });
 
   afterEach(() => http.verify());
+
+  /** The button whose accessible name (aria-label) is `label`. */
+  function buttonLabelled(label: string): HTMLButtonElement {
+    return element<HTMLButtonElement>(fixture, `button[aria-label="${label}"]`);
+  }
 
   it('lists the structures with their volume to one decimal and their voxel count', async () => {
     await open([structure({ kind: 'liver', name: 'Liver' })]);
@@ -95,12 +119,54 @@ describe('StructurePanel', () => {
     const body = request.request.body as FormData;
     expect((body.get('file') as File).name).toBe('labels.nii.gz');
     expect(JSON.parse(body.get('labels') as string)).toEqual({ '1': 'liver', '2': 'tumour' });
-    request.flush([structure({ kind: 'liver' })], { status: 201, statusText: 'Created' });
+    request.flush(
+      { structures: [structure({ kind: 'liver' })], overlaps: [] },
+      { status: 201, statusText: 'Created' },
+    );
     TestBed.tick();
 
     http.expectOne({ method: 'GET', url: listUrl }).flush([structure({ kind: 'liver' })]);
     await fixture.whenStable();
     expect(textOf(fixture)).toContain('1 structure imported.');
+  });
+
+  it('lists the overlapping segments the server resolved after a SEG import', async () => {
+    await open([]);
+    const prefix = `#structure-import-${seriesId}`;
+    const picker = element<HTMLInputElement>(fixture, `${prefix}-file`);
+    Object.defineProperty(picker, 'files', {
+      value: [new File([new Uint8Array(8)], 'segmentation.dcm')],
+      configurable: true,
+    });
+    picker.dispatchEvent(new Event('change'));
+    submit(fixture);
+    const message =
+      'Segment “Tumour 1” overlapped “Liver” in 3,412 voxels; tumour kept (it ranks before liver).';
+    http.expectOne({ method: 'POST', url: listUrl }).flush(
+      {
+        structures: [suggestedTumour],
+        overlaps: [
+          {
+            keptSegment: 2,
+            keptName: 'Tumour 1',
+            keptKind: 'tumour',
+            lostSegment: 1,
+            lostName: 'Liver',
+            lostKind: 'liver',
+            voxelCount: 3412,
+            message,
+          },
+        ],
+      },
+      { status: 201, statusText: 'Created' },
+    );
+    TestBed.tick();
+    http.expectOne({ method: 'GET', url: listUrl }).flush([suggestedTumour]);
+    await fixture.whenStable();
+
+    const text = textOf(fixture);
+    expect(text).toContain('Overlapping segments were resolved');
+    expect(text).toContain(message);
   });
 
   it('shows the refusal of an import and keeps the file and the rows', async () => {
@@ -165,8 +231,84 @@ describe('StructurePanel', () => {
     expect(textOf(fixture)).toContain('Not saved');
   });
 
+  describe("a tumour's lesion", () => {
+    const linkSelector = '[data-lesion-link="structure-2"] mat-select';
+
+    it('shows the suggested lesion and confirms it with a PATCH, then lists again', async () => {
+      await open([suggestedTumour]);
+      expect(element(fixture, linkSelector).textContent).toContain('segment VIII, 24 mm');
+      expect(textOf(fixture)).toContain('Suggested');
+      expect(textOf(fixture)).toContain('only suggested');
+
+      buttonLabelled('Confirm the lesion of label 2').click();
+      const request = http.expectOne('/api/structures/structure-2');
+      expect(request.request.method).toBe('PATCH');
+      expect(request.request.body).toEqual({ lesionId: 'lesion-viii', isLesionConfirmed: true });
+      const confirmed = { ...suggestedTumour, isLesionConfirmed: true };
+      request.flush(confirmed);
+      TestBed.tick();
+      // Other tumours' suggestions may follow the confirmation: the list is asked again.
+      http.expectOne({ method: 'GET', url: listUrl }).flush([confirmed]);
+      await fixture.whenStable();
+
+      expect(textOf(fixture)).toContain('Confirmed');
+      expect(buttonLabelled('Release the confirmed lesion of label 2')).toBeTruthy();
+    });
+
+    it('confirms another lesion chosen in the select', async () => {
+      await open([suggestedTumour]);
+      await pick(linkSelector, 'segment VI, 18 mm');
+      buttonLabelled('Confirm the lesion of label 2').click();
+      const request = http.expectOne('/api/structures/structure-2');
+      expect(request.request.body).toEqual({ lesionId: 'lesion-vi', isLesionConfirmed: true });
+      request.flush({ ...suggestedTumour, lesionId: 'lesion-vi', isLesionConfirmed: true });
+      TestBed.tick();
+      http.expectOne({ method: 'GET', url: listUrl }).flush([]);
+      await fixture.whenStable();
+    });
+
+    it("confirms that the tumour shows none of the Summary's lesions (lesionId null)", async () => {
+      await open([suggestedTumour]);
+      await pick(linkSelector, 'None of the Summary’s lesions');
+      buttonLabelled('Confirm the lesion of label 2').click();
+      const request = http.expectOne('/api/structures/structure-2');
+      expect(request.request.body).toEqual({ lesionId: null, isLesionConfirmed: true });
+      request.flush({ ...suggestedTumour, lesionId: null, isLesionConfirmed: true });
+      TestBed.tick();
+      http.expectOne({ method: 'GET', url: listUrl }).flush([]);
+      await fixture.whenStable();
+    });
+
+    it('keeps the choice and shows the refusal when the link is not saved', async () => {
+      await open([suggestedTumour]);
+      await pick(linkSelector, 'segment VI, 18 mm');
+      buttonLabelled('Confirm the lesion of label 2').click();
+      const detail = 'The lesion segment VI, 18 mm is already confirmed for label 3.';
+      http
+        .expectOne('/api/structures/structure-2')
+        .flush(
+          { type: 'about:blank', title: 'Conflict', status: 409, detail },
+          { status: 409, statusText: 'Conflict' },
+        );
+      await fixture.whenStable();
+
+      expect(element(fixture, '[role="alert"]').textContent).toContain(detail);
+      expect(element(fixture, linkSelector).textContent).toContain('segment VI, 18 mm');
+      expect(buttonLabelled('Confirm the lesion of label 2').disabled).toBe(false);
+    });
+
+    it('is read-only for those who may not change it', async () => {
+      fixture.componentRef.setInput('canEdit', false);
+      await open([suggestedTumour]);
+
+      expect((fixture.nativeElement as HTMLElement).querySelector(linkSelector)).toBeNull();
+      expect(textOf(fixture)).toContain('segment VIII, 24 mm (suggested, not confirmed)');
+      expect(textOf(fixture)).not.toContain('Confirm');
+    });
+  });
+
   it('has no accessibility violations that axe finds', async () => {
-    await open([structure({ kind: 'tumour', name: 'Tumour' })]);
+    await open([structure({ kind: 'liver', name: 'Liver' }), suggestedTumour]);
     // jsdom lays nothing out, so contrast is left to the end-to-end run in a real browser.
     const result = await axe.run(fixture.nativeElement as HTMLElement, {
       rules: { 'color-contrast': { enabled: false } },

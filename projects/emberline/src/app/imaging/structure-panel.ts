@@ -1,6 +1,6 @@
 import { DecimalPipe } from '@angular/common';
 import { ChangeDetectionStrategy, Component, computed, inject, input, signal } from '@angular/core';
-import { MatIconButton } from '@angular/material/button';
+import { MatButton, MatIconButton } from '@angular/material/button';
 import { MatIcon } from '@angular/material/icon';
 import { MatProgressBar } from '@angular/material/progress-bar';
 import { MatOption, MatSelect, type MatSelectChange } from '@angular/material/select';
@@ -16,21 +16,28 @@ import {
   MatTable,
 } from '@angular/material/table';
 import {
+  lesionLabel,
   structureKindLabels,
   structureKinds,
+  type LesionView,
   type StructureKind,
   type StructureView,
 } from '@emberline/shared';
+import type { Observable } from 'rxjs';
 import { problemMessage } from '../core/problem';
 import { TypedCellDef } from '../core/typed-cell-def';
 import { StructureApi } from './structure-api';
 import { StructureImport } from './structure-import';
 import { structureKindColours, unmappedStructureColour } from './structure-kind-colours';
 
+/** The select's value for "none of the Summary's lesions" (a select cannot hold null). */
+const noLesion = 'none';
+
 /**
  * The structures of one series: their label values, kinds and volumes, the remapping of a kind
- * (for the presenter), and the import of a label map. A kind that could not be saved stays
- * chosen, marked as not saved, until it is saved or chosen again.
+ * (for the presenter), each tumour's lesion of the Summary (suggested by the server, confirmed or
+ * changed by the presenter, read-only for others), and the import of a label map. A kind that
+ * could not be saved stays chosen, marked as not saved, until it is saved or chosen again.
  */
 @Component({
   selector: 'em-structure-panel',
@@ -48,6 +55,7 @@ import { structureKindColours, unmappedStructureColour } from './structure-kind-
     TypedCellDef,
     MatSelect,
     MatOption,
+    MatButton,
     MatIconButton,
     MatIcon,
     MatProgressBar,
@@ -62,6 +70,8 @@ export class StructurePanel {
 
   readonly seriesId = input.required<string>();
   readonly canEdit = input(false);
+  /** The lesions of the case's Summary, which tumours are linked to. */
+  readonly lesions = input<readonly LesionView[]>([]);
 
   protected readonly resource = this.api.list(this.seriesId);
   protected readonly structures = computed<StructureView[]>(() =>
@@ -71,7 +81,14 @@ export class StructurePanel {
     const error = this.resource.error();
     return error ? problemMessage(error) : '';
   });
-  protected readonly columns = ['labelValue', 'name', 'kind', 'volumeMl', 'voxelCount'];
+  protected readonly columns = ['labelValue', 'name', 'kind', 'lesion', 'volumeMl', 'voxelCount'];
+  protected readonly hasTumours = computed(() =>
+    this.structures().some((structure) => structure.kind === 'tumour'),
+  );
+  protected readonly lesionOptions = computed(() =>
+    this.lesions().map((lesion) => ({ id: lesion.id, label: lesionLabel(lesion) })),
+  );
+  protected readonly noLesion = noLesion;
   protected readonly kindOptions = structureKinds.map((kind) => ({
     kind,
     label: structureKindLabels[kind],
@@ -82,6 +99,10 @@ export class StructurePanel {
   protected readonly unsavedKinds = signal<Readonly<Record<string, StructureKind>>>({});
   protected readonly savingIds = signal<ReadonlySet<string>>(new Set());
   protected readonly remapError = signal('');
+  /** Lesions chosen in a select but not confirmed yet, by structure id (`noLesion` for none). */
+  protected readonly chosenLesions = signal<Readonly<Record<string, string>>>({});
+  protected readonly linkSavingIds = signal<ReadonlySet<string>>(new Set());
+  protected readonly linkError = signal('');
 
   protected shownKind(structure: StructureView): StructureKind | null {
     return this.unsavedKinds()[structure.id] ?? structure.kind;
@@ -102,6 +123,49 @@ export class StructurePanel {
   protected retry(structure: StructureView): void {
     const kind = this.unsavedKinds()[structure.id];
     if (kind) this.remap(structure, kind);
+  }
+
+  /** What the lesion select shows: the choice not yet confirmed, else the stored link. */
+  protected shownLesion(structure: StructureView): string | null {
+    const chosen = this.chosenLesions()[structure.id];
+    if (chosen !== undefined) return chosen;
+    if (structure.lesionId) return structure.lesionId;
+    return structure.isLesionConfirmed ? noLesion : null;
+  }
+
+  /** Whether Confirm has something to confirm: a choice differing from a confirmed link. */
+  protected canConfirm(structure: StructureView): boolean {
+    const shown = this.shownLesion(structure);
+    if (shown === null || this.linkSavingIds().has(structure.id)) return false;
+    const stored = structure.lesionId ?? (structure.isLesionConfirmed ? noLesion : null);
+    return !structure.isLesionConfirmed || shown !== stored;
+  }
+
+  /** The link in words for those who may not change it. */
+  protected linkText(structure: StructureView): string {
+    if (structure.isLesionConfirmed) {
+      return structure.lesionLabel
+        ? `${structure.lesionLabel} (confirmed)`
+        : 'None of the Summary’s lesions (confirmed)';
+    }
+    return structure.lesionLabel
+      ? `${structure.lesionLabel} (suggested, not confirmed)`
+      : 'No lesion suggested';
+  }
+
+  protected chooseLesion(structure: StructureView, change: MatSelectChange<string>): void {
+    this.chosenLesions.update((chosen) => ({ ...chosen, [structure.id]: change.value }));
+  }
+
+  protected confirmLesion(structure: StructureView): void {
+    const shown = this.shownLesion(structure);
+    if (shown === null) return;
+    const lesionId = shown === noLesion ? null : shown;
+    this.saveLink(structure, this.api.confirmLesion(structure.id, lesionId), 'confirmed');
+  }
+
+  protected releaseLesion(structure: StructureView): void {
+    this.saveLink(structure, this.api.releaseLesion(structure.id), 'released');
   }
 
   protected imported(): void {
@@ -130,6 +194,39 @@ export class StructurePanel {
             problemMessage(error),
         );
       },
+    });
+  }
+
+  /** Sends a link change; the list is asked again, since other tumours' suggestions follow. */
+  private saveLink(
+    structure: StructureView,
+    request: Observable<StructureView>,
+    what: 'confirmed' | 'released',
+  ): void {
+    this.linkSavingIds.update((ids) => new Set(ids).add(structure.id));
+    this.linkError.set('');
+    request.subscribe({
+      next: () => {
+        this.endLinkSaving(structure.id);
+        this.chosenLesions.update((chosen) =>
+          Object.fromEntries(Object.entries(chosen).filter(([id]) => id !== structure.id)),
+        );
+        this.resource.reload();
+      },
+      error: (error: unknown) => {
+        this.endLinkSaving(structure.id);
+        this.linkError.set(
+          `The lesion of label ${structure.labelValue} was not ${what}. ${problemMessage(error)}`,
+        );
+      },
+    });
+  }
+
+  private endLinkSaving(structureId: string): void {
+    this.linkSavingIds.update((ids) => {
+      const rest = new Set(ids);
+      rest.delete(structureId);
+      return rest;
     });
   }
 

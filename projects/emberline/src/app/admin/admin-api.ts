@@ -101,6 +101,10 @@ export class AdminApi {
     });
   }
 
+  /**
+   * Changes the fields sent; `isRetired` retires the profile or puts it back in use. A change of
+   * content to a version that assessments used makes the next version (the answer's `version`).
+   */
   updateApplicatorProfile(
     profileId: string,
     body: UpdateApplicatorProfile,
@@ -122,9 +126,15 @@ export class AdminApi {
     });
   }
 
-  /** Replaces every threshold; `isDefault: true` makes it the default. */
-  replaceSafetyProfile(profileId: string, body: SafetyProfileBody): Observable<SafetyProfileView> {
-    return this.http.put<SafetyProfileView>(
+  /**
+   * Changes the fields sent and leaves the others; `isDefault: true` makes it the default. A
+   * change to a version that assessments used makes the next version (the answer's `version`).
+   */
+  updateSafetyProfile(
+    profileId: string,
+    body: Partial<SafetyProfileBody>,
+  ): Observable<SafetyProfileView> {
+    return this.http.patch<SafetyProfileView>(
       `/api/admin/safety-profiles/${encodeURIComponent(profileId)}`,
       body,
       { context: shownBeside() },

@@ -22,6 +22,9 @@ function profile(overrides: Partial<ApplicatorProfileView>): ApplicatorProfileVi
       { powerW: 60, timeS: 300, zoneLengthMm: 30, zoneWidthMm: 22, tipOffsetMm: 4 },
       { powerW: 60, timeS: 600, zoneLengthMm: 40, zoneWidthMm: 30, tipOffsetMm: 5 },
     ],
+    zoneTableSource: 'manufacturer',
+    zoneTableReference: null,
+    version: 1,
     notes: null,
     isRetired: false,
     createdAt: '2026-11-30T09:00:00.000Z',
@@ -65,7 +68,7 @@ describe('ApplicatorProfiles', () => {
 
   afterEach(() => http.verify());
 
-  it('lists each profile with modality, gauge, lengths in mm and its zone table rows', async () => {
+  it('lists each profile with its version, modality, gauge, lengths in mm and its zone table with its source', async () => {
     await open([
       profile({}),
       profile({
@@ -78,6 +81,9 @@ describe('ApplicatorProfiles', () => {
         zoneTable: [
           { powerW: 100, timeS: 720, zoneLengthMm: 35, zoneWidthMm: 30, tipOffsetMm: 10 },
         ],
+        zoneTableSource: 'ex-vivo',
+        zoneTableReference: 'Invented bench series',
+        version: 3,
         isRetired: true,
       }),
     ]);
@@ -86,11 +92,14 @@ describe('ApplicatorProfiles', () => {
     expect(microwave).toContain('Microwave (MWA)');
     expect(microwave).toContain('17 G');
     expect(microwave).toContain('200 / 20 mm');
-    expect(microwave).toContain('2 rows');
+    expect(microwave).toContain('version 1');
+    expect(microwave).toContain("2 rows · Manufacturer's data");
     expect(microwave).toContain('In use');
     const radiofrequency = rowOf('Demo radiofrequency 15 G').textContent?.replace(/\s+/g, ' ');
     expect(radiofrequency).toContain('Radiofrequency (RFA)');
-    expect(radiofrequency).toContain('1 row');
+    expect(radiofrequency).toContain('version 3');
+    expect(radiofrequency).toContain('1 row · Ex vivo measurements');
+    expect(radiofrequency).toContain('Invented bench series');
     expect(radiofrequency).toContain('Retired');
     expect(radiofrequency).toContain('Return to use');
   });

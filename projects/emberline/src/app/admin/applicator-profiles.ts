@@ -1,26 +1,31 @@
 import { ChangeDetectionStrategy, Component, computed, inject, signal } from '@angular/core';
 import { MatButton } from '@angular/material/button';
 import { MatDialog } from '@angular/material/dialog';
-import { MatIcon } from '@angular/material/icon';
-import { MatProgressBar } from '@angular/material/progress-bar';
 import { MatTableModule } from '@angular/material/table';
-import { ablationModalityLabels, type ApplicatorProfileView } from '@emberline/shared';
-import { ClinicalCaution } from '../core/clinical-caution';
+import {
+  ablationModalityLabels,
+  zoneTableSourceLabels,
+  type ApplicatorProfileView,
+} from '@emberline/shared';
 import { problemMessage } from '../core/problem';
 import { TypedCellDef } from '../core/typed-cell-def';
 import { AdminApi } from './admin-api';
 import {
-  ApplicatorProfilesDialog,
+  ApplicatorProfileDialog,
   type ApplicatorProfileDialogData,
-} from './applicator-profiles-dialog';
+} from './applicator-profile-dialog';
+import { ProfileListPage } from './profile-list-page';
+import { profileSaveMessage } from './profile-save-message';
+import { ProfileRowAction } from './profile-row-action';
 
 /**
- * Applicator profiles: what each applicator is and the zone table plans draw from. Profiles are
- * never deleted; a retired one stays readable for the plans that name it.
+ * Applicator profiles: what each applicator is and the zone table plans draw from, with where
+ * that table comes from. Profiles are never deleted; a retired one stays readable for the plans
+ * that name it.
  */
 @Component({
   selector: 'em-applicator-profiles',
-  imports: [MatTableModule, TypedCellDef, MatButton, MatIcon, MatProgressBar, ClinicalCaution],
+  imports: [MatTableModule, TypedCellDef, MatButton, ProfileListPage, ProfileRowAction],
   templateUrl: './applicator-profiles.html',
   styleUrl: './applicator-profiles.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
@@ -30,22 +35,22 @@ export class ApplicatorProfiles {
   private readonly dialog = inject(MatDialog);
 
   protected readonly profiles = this.api.applicatorProfiles();
-  protected readonly columns = [
-    'name',
-    'modality',
-    'gauge',
-    'lengths',
-    'zoneRows',
-    'status',
-    'actions',
-  ];
+  /** The rows of the list, empty until it arrives (reading an errored resource would throw). */
+  protected readonly rows = computed(() => (this.profiles.hasValue() ? this.profiles.value() : []));
   protected readonly modalityLabels = ablationModalityLabels;
+  protected readonly sourceLabels = zoneTableSourceLabels;
   protected readonly busyId = signal<string | null>(null);
   protected readonly errorText = signal('');
   protected readonly statusText = signal('');
-  protected readonly loadError = computed(() =>
-    this.profiles.error() ? problemMessage(this.profiles.error()) : '',
-  );
+  protected readonly about = [
+    'The demo profiles are invented values for trying Emberline; they describe no real ' +
+      "applicator and no maker's data.",
+    "A zone table for clinical use must be copied from the maker's published data for that " +
+      'applicator and generator, or from measurements the team trusts, with its source named, ' +
+      'and checked under your local protocols before any plan relies on the zones drawn from ' +
+      'it. An edit of a table that assessments used makes a new version of the profile; those ' +
+      'assessments keep the version they ran on.',
+  ];
 
   protected openCreate(): void {
     this.open({ profile: null });
@@ -80,14 +85,15 @@ export class ApplicatorProfiles {
 
   private open(data: ApplicatorProfileDialogData): void {
     this.dialog
-      .open<ApplicatorProfilesDialog, ApplicatorProfileDialogData, ApplicatorProfileView>(
-        ApplicatorProfilesDialog,
+      .open<ApplicatorProfileDialog, ApplicatorProfileDialogData, ApplicatorProfileView>(
+        ApplicatorProfileDialog,
         { data, width: '920px', maxWidth: '95vw' },
       )
       .afterClosed()
       .subscribe((saved) => {
         if (!saved) return;
-        this.statusText.set(data.profile ? `${saved.name} saved.` : `${saved.name} created.`);
+        this.errorText.set('');
+        this.statusText.set(profileSaveMessage(saved, data.profile));
         this.profiles.reload();
       });
   }

@@ -35,7 +35,10 @@ function profile(overrides: Partial<SafetyProfileView>): SafetyProfileView {
     parenchymaSource: 'Invented for the test',
     maximumCapsuleCrossings: 1,
     capsuleSource: 'Invented for the test',
+    physicsToleranceMm: 2,
+    physicsToleranceSource: 'Invented for the test',
     isDefault: true,
+    version: 1,
     createdAt: '2026-11-30T09:00:00.000Z',
     updatedAt: '2026-11-30T09:00:00.000Z',
     ...overrides,
@@ -77,10 +80,17 @@ describe('SafetyProfiles', () => {
 
   afterEach(() => http.verify());
 
-  it('lists the profiles with their rules, margins and heat sink in mm, the default marked', async () => {
+  it('lists the profiles with their version, rules, margins, heat sink and physics tolerance in mm, the default marked', async () => {
     await open([
       profile({}),
-      profile({ id: 'safety-2', name: 'Wider margins', marginTargetMm: 15, isDefault: false }),
+      profile({
+        id: 'safety-2',
+        name: 'Wider margins',
+        marginTargetMm: 15,
+        physicsToleranceMm: 1.5,
+        isDefault: false,
+        version: 4,
+      }),
     ]);
 
     const demo = rowOf('Demo thresholds');
@@ -88,23 +98,27 @@ describe('SafetyProfiles', () => {
     expect(demo).toContain('3 kinds, 2 critical');
     expect(demo).toContain('10 / 5 mm');
     expect(demo).toContain('≥ 3 mm within 10 mm');
+    expect(demo).toContain('≤ 2 mm');
+    expect(demo).toContain('version 1');
     expect(demo).not.toContain('Make default');
     const wider = rowOf('Wider margins');
     expect(wider).not.toContain('Default for new assessments');
     expect(wider).toContain('15 / 5 mm');
+    expect(wider).toContain('≤ 1.5 mm');
+    expect(wider).toContain('version 4');
     expect(textOf(fixture)).toContain('The treating team decides, following local protocols');
   });
 
-  it('makes a profile the default with a PUT of the whole profile, then reloads the list', async () => {
+  it('makes a profile the default with a PATCH of isDefault alone, then reloads the list', async () => {
     const wider = profile({ id: 'safety-2', name: 'Wider margins', isDefault: false });
     await open([profile({}), wider]);
 
-    element(fixture, '[aria-label="Make Wider margins the default"]').click();
+    element(fixture, '[aria-label="Make default: Wider margins"]').click();
     const request = http.expectOne(`${listUrl}/safety-2`);
-    expect(request.request.method).toBe('PUT');
-    // The body is the whole profile, as the shared body schema (strict) takes it.
-    expect(request.request.body).toMatchObject({ name: 'Wider margins', isDefault: true });
-    expect(safetyProfileBodySchema.safeParse(request.request.body).success).toBe(true);
+    expect(request.request.method).toBe('PATCH');
+    // Only the default changes: no threshold is sent, so no new version is made.
+    expect(request.request.body).toEqual({ isDefault: true });
+    expect(safetyProfileBodySchema.partial().safeParse(request.request.body).success).toBe(true);
     request.flush({ ...wider, isDefault: true });
     TestBed.tick();
 
@@ -116,7 +130,8 @@ describe('SafetyProfiles', () => {
   });
 
   it('has no accessibility violations that axe finds', async () => {
-    await open([profile({})]);
+    // A profile that is not the default, so that its "Make default" button is checked too.
+    await open([profile({}), profile({ id: 'safety-2', name: 'Wider margins', isDefault: false })]);
     // jsdom lays nothing out, so contrast is left to the end-to-end run in a real browser.
     const result = await axe.run(fixture.nativeElement as HTMLElement, {
       rules: { 'color-contrast': { enabled: false } },

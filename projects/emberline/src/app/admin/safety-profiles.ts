@@ -2,15 +2,15 @@ import { DatePipe } from '@angular/common';
 import { ChangeDetectionStrategy, Component, computed, inject, signal } from '@angular/core';
 import { MatButton } from '@angular/material/button';
 import { MatDialog } from '@angular/material/dialog';
-import { MatIcon } from '@angular/material/icon';
-import { MatProgressBar } from '@angular/material/progress-bar';
 import { MatTableModule } from '@angular/material/table';
-import type { SafetyProfileBody, SafetyProfileView } from '@emberline/shared';
-import { ClinicalCaution } from '../core/clinical-caution';
+import type { SafetyProfileView } from '@emberline/shared';
 import { problemMessage } from '../core/problem';
 import { TypedCellDef } from '../core/typed-cell-def';
 import { AdminApi } from './admin-api';
-import { SafetyProfilesDialog, type SafetyProfileDialogData } from './safety-profiles-dialog';
+import { ProfileListPage } from './profile-list-page';
+import { ProfileRowAction } from './profile-row-action';
+import { profileSaveMessage } from './profile-save-message';
+import { SafetyProfileDialog, type SafetyProfileDialogData } from './safety-profile-dialog';
 
 /**
  * Safety profiles: the thresholds that turn an assessment's figures into a verdict. One is the
@@ -18,17 +18,8 @@ import { SafetyProfilesDialog, type SafetyProfileDialogData } from './safety-pro
  */
 @Component({
   selector: 'em-safety-profiles',
-  imports: [
-    DatePipe,
-    MatTableModule,
-    TypedCellDef,
-    MatButton,
-    MatIcon,
-    MatProgressBar,
-    ClinicalCaution,
-  ],
+  imports: [DatePipe, MatTableModule, TypedCellDef, MatButton, ProfileListPage, ProfileRowAction],
   templateUrl: './safety-profiles.html',
-  styleUrl: './safety-profiles.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
 })
 export class SafetyProfiles {
@@ -36,15 +27,21 @@ export class SafetyProfiles {
   private readonly dialog = inject(MatDialog);
 
   protected readonly profiles = this.api.safetyProfiles();
-  protected readonly columns = ['name', 'rules', 'margin', 'heatSink', 'updatedAt', 'actions'];
+  /** The rows of the list, empty until it arrives (reading an errored resource would throw). */
+  protected readonly rows = computed(() => (this.profiles.hasValue() ? this.profiles.value() : []));
   protected readonly busyId = signal<string | null>(null);
   protected readonly errorText = signal('');
   protected readonly statusText = signal('');
-  protected readonly loadError = computed(() =>
-    this.profiles.error() ? problemMessage(this.profiles.error()) : '',
-  );
-  private readonly defaultProfile = computed(() =>
-    this.profiles.hasValue() ? (this.profiles.value().find((p) => p.isDefault) ?? null) : null,
+  protected readonly about = [
+    "A safety profile turns an assessment's measurements into a verdict. Every threshold names " +
+      'its source, so the board can weigh it; the verdict lists each rule it applied.',
+    'The demo profile holds example values for trying Emberline. Set the values your team uses ' +
+      'from local protocols and the literature it follows, and name that source beside each ' +
+      'one. An edit of thresholds that assessments used makes a new version of the profile; ' +
+      'those assessments keep the version they ran on.',
+  ];
+  private readonly defaultProfile = computed(
+    () => this.rows().find((profile) => profile.isDefault) ?? null,
   );
 
   protected rulesText(profile: SafetyProfileView): string {
@@ -66,7 +63,7 @@ export class SafetyProfiles {
     this.busyId.set(profile.id);
     this.errorText.set('');
     this.statusText.set('');
-    this.api.replaceSafetyProfile(profile.id, { ...bodyOf(profile), isDefault: true }).subscribe({
+    this.api.updateSafetyProfile(profile.id, { isDefault: true }).subscribe({
       next: (saved) => {
         this.busyId.set(null);
         this.statusText.set(`${saved.name} is now the default for new assessments.`);
@@ -81,37 +78,17 @@ export class SafetyProfiles {
 
   private open(data: SafetyProfileDialogData): void {
     this.dialog
-      .open<SafetyProfilesDialog, SafetyProfileDialogData, SafetyProfileView>(
-        SafetyProfilesDialog,
-        { data, width: '960px', maxWidth: '95vw' },
-      )
+      .open<SafetyProfileDialog, SafetyProfileDialogData, SafetyProfileView>(SafetyProfileDialog, {
+        data,
+        width: '960px',
+        maxWidth: '95vw',
+      })
       .afterClosed()
       .subscribe((saved) => {
         if (!saved) return;
-        this.statusText.set(data.profile ? `${saved.name} saved.` : `${saved.name} created.`);
+        this.errorText.set('');
+        this.statusText.set(profileSaveMessage(saved, data.profile));
         this.profiles.reload();
       });
   }
-}
-
-/** The profile as the PUT body takes it (the body schema is strict: no id, no timestamps). */
-function bodyOf(profile: SafetyProfileView): SafetyProfileBody {
-  return {
-    name: profile.name,
-    structureRules: profile.structureRules,
-    marginTargetMm: profile.marginTargetMm,
-    marginTargetSource: profile.marginTargetSource,
-    marginMinimumMm: profile.marginMinimumMm,
-    marginMinimumSource: profile.marginMinimumSource,
-    heatSinkDiameterMm: profile.heatSinkDiameterMm,
-    heatSinkDistanceMm: profile.heatSinkDistanceMm,
-    heatSinkKinds: profile.heatSinkKinds,
-    heatSinkSource: profile.heatSinkSource,
-    maximumAngulationDeg: profile.maximumAngulationDeg,
-    angulationSource: profile.angulationSource,
-    minimumParenchymaBeforeTumourMm: profile.minimumParenchymaBeforeTumourMm,
-    parenchymaSource: profile.parenchymaSource,
-    maximumCapsuleCrossings: profile.maximumCapsuleCrossings,
-    capsuleSource: profile.capsuleSource,
-  };
 }

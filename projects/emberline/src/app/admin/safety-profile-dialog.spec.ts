@@ -9,7 +9,7 @@ import {
   type SafetyProfileView,
 } from '@emberline/shared';
 import { element, submit, typeInto } from '../../testing/dom';
-import { SafetyProfilesDialog, type SafetyProfileDialogData } from './safety-profiles-dialog';
+import { SafetyProfileDialog, type SafetyProfileDialogData } from './safety-profile-dialog';
 
 const profileId = '9c1d2e3f-4a5b-4c6d-8e7f-0a1b2c3d4e5f';
 
@@ -37,7 +37,10 @@ const defaultProfile: SafetyProfileView = {
   parenchymaSource: 'Invented for the test',
   maximumCapsuleCrossings: 1,
   capsuleSource: 'Invented for the test',
+  physicsToleranceMm: 2,
+  physicsToleranceSource: 'Invented for the test',
   isDefault: true,
+  version: 2,
   createdAt: '2026-11-30T09:00:00.000Z',
   updatedAt: '2026-11-30T09:00:00.000Z',
 };
@@ -49,18 +52,19 @@ function bodyFields(profile: SafetyProfileView): Partial<SafetyProfileView> {
   delete fields.createdAt;
   delete fields.updatedAt;
   delete fields.isDefault;
+  delete fields.version;
   return fields;
 }
 
-describe('SafetyProfilesDialog', () => {
-  let fixture: ComponentFixture<SafetyProfilesDialog>;
+describe('SafetyProfileDialog', () => {
+  let fixture: ComponentFixture<SafetyProfileDialog>;
   let http: HttpTestingController;
   let close: ReturnType<typeof vi.fn>;
 
   async function open(data: SafetyProfileDialogData): Promise<void> {
     close = vi.fn();
     await TestBed.configureTestingModule({
-      imports: [SafetyProfilesDialog],
+      imports: [SafetyProfileDialog],
       providers: [
         provideZonelessChangeDetection(),
         provideHttpClient(),
@@ -70,7 +74,7 @@ describe('SafetyProfilesDialog', () => {
       ],
     }).compileComponents();
     http = TestBed.inject(HttpTestingController);
-    fixture = TestBed.createComponent(SafetyProfilesDialog);
+    fixture = TestBed.createComponent(SafetyProfileDialog);
     await fixture.whenStable();
   }
 
@@ -111,12 +115,65 @@ describe('SafetyProfilesDialog', () => {
     expect(close).toHaveBeenCalled();
   });
 
+  it('saves the physics zone tolerance and its source with a PATCH', async () => {
+    await open({ profile: defaultProfile, startFrom: null });
+    typeInto(fixture, '#safety-physicsToleranceMm', '1.5');
+    typeInto(fixture, '#safety-physicsToleranceSource', 'Invented team choice for the test');
+    await fixture.whenStable();
+    submit(fixture);
+
+    const request = http.expectOne(`/api/admin/safety-profiles/${profileId}`);
+    expect(request.request.method).toBe('PATCH');
+    expect(request.request.body).toEqual({
+      ...bodyFields(defaultProfile),
+      physicsToleranceMm: 1.5,
+      physicsToleranceSource: 'Invented team choice for the test',
+    });
+    expect(safetyProfileBodySchema.partial().safeParse(request.request.body).success).toBe(true);
+    const saved = { ...defaultProfile, ...request.request.body, version: 3 };
+    request.flush(saved);
+    expect(close).toHaveBeenCalledWith(saved);
+  });
+
+  it('refuses a physics zone tolerance beyond 20 mm before sending', async () => {
+    await open({ profile: defaultProfile, startFrom: null });
+    typeInto(fixture, '#safety-physicsToleranceMm', '25');
+    await fixture.whenStable();
+    submit(fixture);
+    await fixture.whenStable();
+
+    // Bound of the shared safetyProfileBodySchema: physics tolerance 0–20 mm.
+    expect(errorIn('#safety-physicsToleranceMm')).toBe('At most 20');
+    http.expectNone(`/api/admin/safety-profiles/${profileId}`);
+  });
+
+  it('offers the shared schema’s default tolerance and source to a profile started from nothing', async () => {
+    await open({ profile: null, startFrom: null });
+
+    const shape = safetyProfileBodySchema.shape;
+    expect(Number(element<HTMLInputElement>(fixture, '#safety-physicsToleranceMm').value)).toBe(
+      shape.physicsToleranceMm.parse(undefined),
+    );
+    expect(element<HTMLInputElement>(fixture, '#safety-physicsToleranceSource').value).toBe(
+      shape.physicsToleranceSource.parse(undefined),
+    );
+  });
+
+  it('says which version is edited and that a used version is kept by its assessments', async () => {
+    await open({ profile: defaultProfile, startFrom: null });
+
+    const note = element(fixture, '#profile-version-note').textContent?.replace(/\s+/g, ' ');
+    expect(note).toContain('Version 2.');
+    expect(note).toContain('creates version 3');
+    expect(note).toContain('the earlier assessments keep version 2');
+  });
+
   it('puts the server’s 400 on the rule and the threshold source it names', async () => {
     await open({ profile: defaultProfile, startFrom: null });
     submit(fixture);
 
     const request = http.expectOne(`/api/admin/safety-profiles/${profileId}`);
-    expect(request.request.method).toBe('PUT');
+    expect(request.request.method).toBe('PATCH');
     // The default stays the default without saying so: isDefault is left out.
     expect(request.request.body).not.toHaveProperty('isDefault');
     const refusal: ProblemDetails = {
@@ -136,7 +193,7 @@ describe('SafetyProfilesDialog', () => {
     expect(errorIn('#rule-1-clearance')).toBe('Too far for this profile');
     expect(errorIn('#rule-0-kind')).toBe('Gallbladder appears twice');
     expect(errorIn('#safety-marginTargetSource')).toBe('Say where the value comes from');
-    expect(element(fixture, '#safety-error').textContent).toContain('The profile was not saved.');
+    expect(element(fixture, '#profile-error').textContent).toContain('The profile was not saved.');
     expect(element<HTMLInputElement>(fixture, '#rule-1-clearance').value).toBe('10');
     expect(close).not.toHaveBeenCalled();
   });

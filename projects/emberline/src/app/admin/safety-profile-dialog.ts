@@ -3,14 +3,7 @@ import { toSignal } from '@angular/core/rxjs-interop';
 import { ReactiveFormsModule } from '@angular/forms';
 import { MatButton, MatIconButton } from '@angular/material/button';
 import { MatCheckbox } from '@angular/material/checkbox';
-import {
-  MAT_DIALOG_DATA,
-  MatDialogActions,
-  MatDialogClose,
-  MatDialogContent,
-  MatDialogRef,
-  MatDialogTitle,
-} from '@angular/material/dialog';
+import { MAT_DIALOG_DATA, MatDialogRef } from '@angular/material/dialog';
 import { MatError, MatFormField, MatHint, MatLabel, MatSuffix } from '@angular/material/form-field';
 import { MatIcon } from '@angular/material/icon';
 import { MatInput } from '@angular/material/input';
@@ -27,12 +20,13 @@ import { FieldError } from '../core/field-error';
 import { problemMessage } from '../core/problem';
 import { applyFieldErrors } from '../core/server-field-errors';
 import { AdminApi } from './admin-api';
+import { ProfileDialogShell } from './profile-dialog-shell';
 import {
   safetyProfileBody,
   safetyProfileForm,
   structureRuleForm,
   thresholdDefinitions,
-} from './safety-profiles-form';
+} from './safety-profile-form';
 
 export interface SafetyProfileDialogData {
   /** The profile to edit, or null for a new one. */
@@ -43,16 +37,13 @@ export interface SafetyProfileDialogData {
 
 /**
  * Creates or edits a safety profile: a rule per structure kind, and the global thresholds, each
- * with where its value comes from. Saving replaces the whole profile (PUT).
+ * with where its value comes from. Saving sends every field (POST, or PATCH for an edit); an edit
+ * of a version that assessments used becomes the profile's next version.
  */
 @Component({
-  selector: 'em-safety-profiles-dialog',
+  selector: 'em-safety-profile-dialog',
   imports: [
     ReactiveFormsModule,
-    MatDialogTitle,
-    MatDialogContent,
-    MatDialogActions,
-    MatDialogClose,
     MatFormField,
     MatLabel,
     MatHint,
@@ -66,15 +57,16 @@ export interface SafetyProfileDialogData {
     MatIconButton,
     MatIcon,
     FieldError,
+    ProfileDialogShell,
   ],
-  templateUrl: './safety-profiles-dialog.html',
-  styleUrl: './safety-profiles-dialog.scss',
+  templateUrl: './safety-profile-dialog.html',
+  styleUrl: './safety-profile-dialog.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
 })
-export class SafetyProfilesDialog {
+export class SafetyProfileDialog {
   private readonly api = inject(AdminApi);
   private readonly dialogRef =
-    inject<MatDialogRef<SafetyProfilesDialog, SafetyProfileView>>(MatDialogRef);
+    inject<MatDialogRef<SafetyProfileDialog, SafetyProfileView>>(MatDialogRef);
   private readonly data = inject<SafetyProfileDialogData>(MAT_DIALOG_DATA);
   protected readonly profile = this.data.profile;
   protected readonly startFrom = this.profile ? null : this.data.startFrom;
@@ -143,7 +135,7 @@ export class SafetyProfilesDialog {
     this.isSaving.set(true);
     this.errorText.set('');
     const saving = this.profile
-      ? this.api.replaceSafetyProfile(this.profile.id, body)
+      ? this.api.updateSafetyProfile(this.profile.id, body)
       : this.api.createSafetyProfile(body);
     saving.subscribe({
       next: (saved) => this.dialogRef.close(saved),

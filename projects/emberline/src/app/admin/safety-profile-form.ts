@@ -32,13 +32,15 @@ export type ThresholdField =
   | 'marginMinimumMm'
   | 'maximumAngulationDeg'
   | 'minimumParenchymaBeforeTumourMm'
-  | 'maximumCapsuleCrossings';
+  | 'maximumCapsuleCrossings'
+  | 'physicsToleranceMm';
 export type ThresholdSourceField =
   | 'marginTargetSource'
   | 'marginMinimumSource'
   | 'angulationSource'
   | 'parenchymaSource'
-  | 'capsuleSource';
+  | 'capsuleSource'
+  | 'physicsToleranceSource';
 
 export interface ThresholdDefinition {
   field: ThresholdField;
@@ -96,6 +98,15 @@ export const thresholdDefinitions: readonly ThresholdDefinition[] = [
     hint: 'More crossings than this carry a caution',
     step: '1',
   },
+  {
+    field: 'physicsToleranceMm',
+    sourceField: 'physicsToleranceSource',
+    label: 'Physics zone tolerance (mm)',
+    sourceLabel: 'Source of the physics zone tolerance',
+    unit: 'mm',
+    hint: "Largest error of the heating model against a profile's own zone table for which its zone may decide the verdict",
+    step: 'any',
+  },
 ];
 
 const shape = safetyProfileBodySchema.shape;
@@ -105,13 +116,12 @@ export type SafetyProfileForm = ReturnType<typeof safetyProfileForm>;
 
 /** The form of a safety profile, filled from `profile` (or empty); names are the API's. */
 export function safetyProfileForm(
-  profile: Omit<SafetyProfileView, 'id' | 'createdAt' | 'updatedAt'> | null,
+  profile: Omit<SafetyProfileView, 'id' | 'version' | 'createdAt' | 'updatedAt'> | null,
 ) {
-  const number = (field: ThresholdField | 'heatSinkDiameterMm' | 'heatSinkDistanceMm') =>
-    new FormControl<number | null>(profile?.[field] ?? null, [
-      Validators.required,
-      zodValidator(shape[field]),
-    ]);
+  const number = (
+    field: ThresholdField | 'heatSinkDiameterMm' | 'heatSinkDistanceMm',
+    initial: number | null = profile?.[field] ?? null,
+  ) => new FormControl<number | null>(initial, [Validators.required, zodValidator(shape[field])]);
   const source = (value: string | undefined) =>
     new FormControl(value ?? '', {
       nonNullable: true,
@@ -142,6 +152,14 @@ export function safetyProfileForm(
     parenchymaSource: source(profile?.parenchymaSource),
     maximumCapsuleCrossings: number('maximumCapsuleCrossings'),
     capsuleSource: source(profile?.capsuleSource),
+    // A profile started from nothing shows the shared schema's default tolerance and its source.
+    physicsToleranceMm: number(
+      'physicsToleranceMm',
+      profile ? profile.physicsToleranceMm : shape.physicsToleranceMm.parse(undefined),
+    ),
+    physicsToleranceSource: source(
+      profile ? profile.physicsToleranceSource : shape.physicsToleranceSource.parse(undefined),
+    ),
     isDefault: new FormControl(profile?.isDefault ?? false, { nonNullable: true }),
   });
 }
@@ -179,6 +197,7 @@ export function safetyProfileBody(
     maximumAngulationDeg,
     minimumParenchymaBeforeTumourMm,
     maximumCapsuleCrossings,
+    physicsToleranceMm,
   } = value;
   if (
     marginTargetMm === null ||
@@ -187,7 +206,8 @@ export function safetyProfileBody(
     heatSinkDistanceMm === null ||
     maximumAngulationDeg === null ||
     minimumParenchymaBeforeTumourMm === null ||
-    maximumCapsuleCrossings === null
+    maximumCapsuleCrossings === null ||
+    physicsToleranceMm === null
   ) {
     return null;
   }
@@ -208,6 +228,8 @@ export function safetyProfileBody(
     parenchymaSource: value.parenchymaSource,
     maximumCapsuleCrossings,
     capsuleSource: value.capsuleSource,
+    physicsToleranceMm,
+    physicsToleranceSource: value.physicsToleranceSource,
   };
 }
 

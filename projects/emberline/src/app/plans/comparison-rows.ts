@@ -11,6 +11,7 @@ import {
   type ZoneAssessment,
   type ZoneModel,
 } from '@emberline/shared';
+import { calibrationRow } from './calibration-row';
 import { bestIndexes, figureDirections, type BetterDirection } from './figure-comparison';
 import { formatFigure, reasonLine, type ReasonLine } from './verdict-reason-lines';
 
@@ -142,22 +143,7 @@ function verdictGroup(results: readonly AssessmentResult[]): ComparisonGroup {
           items: [{ text: zoneModelLabels[result.primaryZoneModel], flag: '' }],
         })),
       },
-      {
-        key: 'calibration',
-        label: 'Physics model fit to the zone table, rms residual per profile (mm)',
-        direction: null,
-        cells: results.map((result) => ({
-          type: 'list',
-          emptyText: 'Not computed',
-          items: (result.calibrations ?? []).map((calibration) => ({
-            text:
-              `${formatFigure(calibration.rmsResidualMm, 1, 'mm')} over ` +
-              `${calibration.rows.length} rows` +
-              (calibration.isAtRangeLimit ? ' (table beyond the model’s reach)' : ''),
-            flag: '',
-          })),
-        })),
-      },
+      calibrationRow(results),
     ],
   };
 }

@@ -1,6 +1,12 @@
 import { HttpClient, HttpContext, httpResource, type HttpResourceRef } from '@angular/common/http';
 import { Injectable, inject } from '@angular/core';
-import type { ApplicatorProfileView, CreatePlan, PlanView, UpdatePlan } from '@emberline/shared';
+import type {
+  ApplicatorProfileView,
+  CreatePlan,
+  PlanView,
+  SafetyProfileView,
+  UpdatePlan,
+} from '@emberline/shared';
 import type { Observable } from 'rxjs';
 import { SHOWS_OWN_ERRORS } from '../core/http-context-tokens';
 
@@ -24,6 +30,17 @@ export class PlanApi {
     return httpResource<ApplicatorProfileView[]>(() =>
       isWanted() ? '/api/applicator-profiles' : undefined,
     );
+  }
+
+  /**
+   * The safety profiles, each at its current version, the default first: what an assessment
+   * can be judged by, and the thresholds of the assessments that ran on those versions.
+   */
+  safetyProfiles(): HttpResourceRef<SafetyProfileView[] | undefined> {
+    return httpResource<SafetyProfileView[]>(() => ({
+      url: '/api/safety-profiles',
+      context: shownBeside(),
+    }));
   }
 
   /** The panel that saves shows the refusal beside the form: no snack bar. */

@@ -2,190 +2,34 @@ import { provideHttpClient } from '@angular/common/http';
 import { HttpTestingController, provideHttpClientTesting } from '@angular/common/http/testing';
 import { provideZonelessChangeDetection } from '@angular/core';
 import { TestBed, type ComponentFixture } from '@angular/core/testing';
-import {
-  clinicalCaution,
-  type ApplicatorSafety,
-  type AssessmentResult,
-  type AssessmentView,
-  type PlanView,
-  type StructureView,
-} from '@emberline/shared';
-import { textOf } from '../../testing/dom';
+import { TestbedHarnessEnvironment } from '@angular/cdk/testing/testbed';
+import { clinicalCaution, type StructureView } from '@emberline/shared';
 import { PlanComparison } from './plan-comparison';
-
-// Invented figures for two plans on one invented series; not patient data.
-const seriesId = 'b1f0c7de-2a34-4c5b-9d6e-7f8091a2b3c4';
-const tumourId = 'c2a1d8ef-3b45-4d6c-8e7f-809102b3c4d5';
-
-function plan(id: string, name: string, status: PlanView['status'] = 'assessed'): PlanView {
-  return {
-    id,
-    caseId: 'case-1',
-    seriesId,
-    name,
-    status,
-    applicators: [],
-    notes: null,
-    author: { id: 'user-1', displayName: 'Dr Invented' },
-    createdAt: '2026-11-20T09:00:00.000Z',
-    updatedAt: '2026-11-20T09:00:00.000Z',
-  };
-}
-
-function applicator(overrides: Partial<ApplicatorSafety>): ApplicatorSafety {
-  return {
-    pathLengthMm: 100,
-    workingLengthMm: 150,
-    angulationDeg: 10,
-    clearances: [],
-    traversed: [],
-    capsuleCrossings: 1,
-    parenchymaBeforeTumourMm: 20,
-    ...overrides,
-  };
-}
-
-const resultA: AssessmentResult = {
-  engineVersion: 'test',
-  applicators: [
-    applicator({
-      pathLengthMm: 112.46,
-      angulationDeg: 12.3,
-      clearances: [
-        { kind: 'portal-vein', minDistanceMm: 12.4, atMm: 60.2 },
-        { kind: 'gallbladder', minDistanceMm: 8, atMm: 40 },
-      ],
-      traversed: [{ kind: 'liver', lengthMm: 62, critical: false }],
-    }),
-  ],
-  zones: [
-    {
-      model: 'table',
-      volumeMl: 24.5,
-      tumours: [
-        {
-          structureId: tumourId,
-          volumeMl: 3.2,
-          coveredPercent: 100,
-          minimalMarginMm: 6.2,
-          surfaceBelowTargetPercent: 35,
-        },
-      ],
-      collateral: [{ kind: 'gallbladder', volumeMl: 0.12 }],
-    },
-  ],
-  primaryZoneModel: 'table',
-  heatSinks: [],
-  verdict: {
-    level: 'acceptable-with-cautions',
-    reasons: [
-      {
-        rule: 'margin-target',
-        kind: 'tumour',
-        value: 6.2,
-        threshold: 10,
-        severity: 'caution',
-        message: 'The tumour: minimal ablative margin 6.2 mm in the table zone.',
-      },
-    ],
-  },
-};
-
-const resultB: AssessmentResult = {
-  engineVersion: 'test',
-  applicators: [
-    applicator({
-      pathLengthMm: 96.2,
-      angulationDeg: 12.3,
-      clearances: [{ kind: 'portal-vein', minDistanceMm: 3.1, atMm: 71.5 }],
-      traversed: [
-        { kind: 'liver', lengthMm: 48, critical: false },
-        { kind: 'gallbladder', lengthMm: 4.2, critical: true },
-      ],
-    }),
-  ],
-  zones: [
-    {
-      model: 'table',
-      volumeMl: 20.1,
-      tumours: [
-        {
-          structureId: tumourId,
-          volumeMl: 3.2,
-          coveredPercent: 91.5,
-          minimalMarginMm: -2.4,
-          surfaceBelowTargetPercent: 80,
-        },
-      ],
-      collateral: [],
-    },
-  ],
-  primaryZoneModel: 'table',
-  heatSinks: [{ kind: 'hepatic-vein', diameterMm: 6.5, distanceMm: 3.2 }],
-  verdict: {
-    level: 'not-acceptable',
-    reasons: [
-      {
-        rule: 'critical-traversal',
-        kind: 'gallbladder',
-        value: 4.2,
-        threshold: 0,
-        severity: 'refusal',
-        message: 'The applicator runs 4.2 mm through the gallbladder.',
-      },
-      {
-        rule: 'clearance',
-        kind: 'portal-vein',
-        value: 3.1,
-        threshold: 5,
-        severity: 'caution',
-        message: 'The applicator passes 3.1 mm from the portal vein.',
-      },
-    ],
-  },
-};
-
-function done(id: string, planId: string, result: AssessmentResult): AssessmentView {
-  return {
-    id,
-    planId,
-    status: 'done',
-    progress: 1,
-    result,
-    createdAt: '2026-11-20T10:00:00.000Z',
-    updatedAt: '2026-11-20T10:01:00.000Z',
-  };
-}
+import {
+  done,
+  inputs,
+  plan,
+  resultA,
+  resultB,
+  safetyProfile,
+  seriesId,
+  tumourId,
+} from './testing/comparison-fixtures';
+import { ballDisplay, displayBody } from './testing/display-fixtures';
+import { type HarnessLoader } from '@angular/cdk/testing';
+import { ComparisonRowHarness, PlanComparisonHarness } from './testing/plan-comparison-harness';
 
 describe('PlanComparison', () => {
   let fixture: ComponentFixture<PlanComparison>;
   let http: HttpTestingController;
+  let comparison: PlanComparisonHarness;
+  /** Finds harnesses inside the comparison. */
+  let loader: HarnessLoader;
   const plans = [
     plan('plan-a', 'Lateral approach'),
     plan('plan-b', 'Subcostal approach'),
     plan('plan-c', 'Draft C', 'draft'),
   ];
-
-  function element(): HTMLElement {
-    return fixture.nativeElement as HTMLElement;
-  }
-
-  function rowCells(rowKey: string): HTMLElement[] {
-    const row = element().querySelector(`tr[data-row="${rowKey}"]`);
-    if (!row) throw new Error(`No row ${rowKey}`);
-    return Array.from(row.querySelectorAll<HTMLElement>('td'));
-  }
-
-  function rowLabel(rowKey: string): string {
-    return (
-      element()
-        .querySelector(`tr[data-row="${rowKey}"] th`)
-        ?.textContent?.replace(/\s+/g, ' ')
-        .trim() ?? ''
-    );
-  }
-
-  const cellText = (cell: HTMLElement) => (cell.textContent ?? '').replace(/\s+/g, ' ').trim();
 
   beforeEach(async () => {
     await TestBed.configureTestingModule({
@@ -200,115 +44,241 @@ describe('PlanComparison', () => {
     fixture = TestBed.createComponent(PlanComparison);
     fixture.componentRef.setInput('plans', plans);
     await fixture.whenStable();
+    // Plan A ran on version 3 of the safety profile, its current one; plan B on version 2, and
+    // its applicator profile has changed since.
     http.expectOne('/api/plans/plan-a/assessments').flush([done('as-a', 'plan-a', resultA)]);
-    http.expectOne('/api/plans/plan-b/assessments').flush([done('as-b', 'plan-b', resultB)]);
+    http.expectOne('/api/plans/plan-b/assessments').flush([
+      done('as-b', 'plan-b', resultB, {
+        inputs: inputs(2),
+        inputChanges: [
+          {
+            kind: 'applicator-profile',
+            message: 'Applicator profile “Invented probe” is at version 3 (assessed on version 2).',
+          },
+        ],
+      }),
+    ]);
     http.expectOne('/api/plans/plan-c/assessments').flush([]);
-    // The structures resource is a pending task: the fixture is not stable until it answers.
+    // The structures, the default profile and the pictures are pending tasks: the fixture is
+    // not stable until they answer.
     TestBed.tick();
     const structures: Partial<StructureView>[] = [
       { id: tumourId, seriesId, name: 'Tumour segment VIII', kind: 'tumour' },
     ];
     http.expectOne(`/api/series/${seriesId}/structures`).flush(structures);
+    http.expectOne('/api/safety-profiles').flush([safetyProfile(3)]);
+    http
+      .expectOne('/api/assessments/as-a/display')
+      .flush(displayBody(ballDisplay([0, 0, 0], 15, 9)));
+    http.expectOne('/api/assessments/as-b/display').flush(
+      new TextEncoder().encode(
+        JSON.stringify({
+          title: 'Not Found',
+          status: 404,
+          detail: 'The display data was not found.',
+        }),
+      ).buffer,
+      { status: 404, statusText: 'Not Found' },
+    );
     await fixture.whenStable();
+    loader = TestbedHarnessEnvironment.loader(fixture);
+    comparison = await TestbedHarnessEnvironment.harnessForFixture(fixture, PlanComparisonHarness);
   });
 
   afterEach(() => http.verify());
 
-  it('shows the clinical caution above the table', () => {
-    const caution = element().querySelector('em-clinical-caution');
-    const table = element().querySelector('table');
-    expect(caution?.textContent).toContain(clinicalCaution);
-    if (!caution || !table) throw new Error('The caution or the table is missing');
-    // DOCUMENT_POSITION_FOLLOWING: the table comes after the caution.
-    expect(caution.compareDocumentPosition(table) & Node.DOCUMENT_POSITION_FOLLOWING).toBeTruthy();
+  it('opens with the clinical caution, then the summary band, then the table', async () => {
+    expect(await comparison.getCautionText()).toContain(clinicalCaution);
+    expect(await comparison.getPartsInOrder()).toEqual(['caution', 'summary', 'table', 'pending']);
   });
 
-  it('gives every assessed plan a column and lists the unassessed one below', () => {
-    const headings = Array.from(element().querySelectorAll('thead th[scope="col"] .plan-name')).map(
-      (heading) => heading.textContent?.trim(),
+  it('is told apart by the plans it compares, not by those left out', async () => {
+    // The fixture's root element hosts the comparison itself: its predicate is asked directly.
+    expect(
+      await PlanComparisonHarness.with({ comparedPlan: /Subcostal/ }).evaluate(comparison),
+    ).toBe(true);
+    expect(await PlanComparisonHarness.with({ comparedPlan: 'Draft C' }).evaluate(comparison)).toBe(
+      false,
     );
-    expect(headings).toEqual(['Lateral approach', 'Subcostal approach']);
-    expect(rowCells('path-length')).toHaveLength(2);
-    const pending = element().querySelector('.pending li[data-pending-plan="plan-c"]');
-    expect(pending?.textContent).toContain('Draft C');
-    expect(pending?.textContent).toContain('Not assessed yet.');
   });
 
-  it('puts the unit in every row label', () => {
-    const labels = Array.from(element().querySelectorAll('tbody tr[data-row] th[scope="row"]')).map(
-      (header) => header.textContent ?? '',
-    );
-    expect(labels.length).toBeGreaterThan(10);
-    for (const label of labels) {
-      if (label.includes('Verdict') || label.includes('Zone model')) continue;
-      expect(label).toMatch(/\((mm|°|count|mL|%|length inside, mm|diameter mm)[^)]*\)/);
+  it('gives every assessed plan a column and lists the unassessed one below', async () => {
+    expect(await comparison.getComparedPlanNames()).toEqual([
+      'Lateral approach',
+      'Subcostal approach',
+    ]);
+    expect(await (await comparison.getRow({ key: 'path-length' })).getCellTexts()).toHaveLength(2);
+    expect(await comparison.getPendingPlans()).toEqual([
+      { name: 'Draft C', reason: 'Not assessed yet.' },
+    ]);
+  });
+
+  it('puts the unit in every figure row label', async () => {
+    const rows = await comparison.getRows();
+    expect(rows.length).toBeGreaterThan(10);
+    for (const row of rows) {
+      if (['verdict', 'inputs'].includes(await row.getGroup())) continue;
+      expect(await row.getLabel()).toMatch(
+        /\((mm|°|count|mL|%|length inside, mm|diameter mm)[^)]*\)/,
+      );
     }
   });
 
-  it('marks the shorter path and the larger clearance, with a sign and words', () => {
-    const [pathA, pathB] = rowCells('path-length');
-    expect(cellText(pathA)).toBe('112.5 mm of 150.0 mm');
-    expect(pathB.classList).toContain('best');
-    expect(pathA.classList).not.toContain('best');
-    expect(pathB.querySelector('mat-icon')?.textContent).toBe('star');
-    expect(cellText(pathB)).toContain('Better value: 96.2 mm of 150.0 mm');
-    expect(rowLabel('path-length')).toContain('Smaller is better');
-
-    const [clearanceA, clearanceB] = rowCells('clearance-portal-vein');
-    expect(rowLabel('clearance-portal-vein')).toContain(
-      'Nearest clearance, portal vein (mm; at mm',
+  it('marks the shorter path and the larger clearance, with a sign and words', async () => {
+    const path = await loader.getHarness(
+      ComparisonRowHarness.with({ key: 'path-length', group: 'applicator-0' }),
     );
-    expect(clearanceA.classList).toContain('best');
-    expect(cellText(clearanceA)).toContain('Better value: 12.4 mm at 60.2 mm along the path');
-    expect(cellText(clearanceB)).toBe('3.1 mm at 71.5 mm along the path');
+    const [pathA, pathB] = await path.getCells();
+    expect(pathA).toEqual({ text: '112.5 mm of 150.0 mm', isBest: false });
+    expect(pathB).toEqual({ text: 'Better value: 96.2 mm of 150.0 mm', isBest: true });
+    expect(await path.getDirection()).toBe('Smaller is better');
+
+    const clearance = await comparison.getRow({ key: 'clearance-portal-vein' });
+    expect(await clearance.getLabel()).toContain('Nearest clearance, portal vein (mm; at mm');
+    expect(await clearance.getBestColumns()).toEqual([0]);
+    const [clearanceA, clearanceB] = await clearance.getCellTexts();
+    expect(clearanceA).toContain('Better value: 12.4 mm at 60.2 mm along the path');
+    expect(clearanceB).toBe('3.1 mm at 71.5 mm along the path');
   });
 
-  it('marks no plan where both show the same angulation', () => {
-    const cells = rowCells('angulation');
-    expect(cells.map(cellText)).toEqual(['12.3°', '12.3°']);
-    expect(cells.some((cell) => cell.classList.contains('best'))).toBe(false);
+  it('marks no plan where both show the same angulation', async () => {
+    const angulation = await comparison.getRow({ key: 'angulation' });
+    expect(await angulation.getCellTexts()).toEqual(['12.3°', '12.3°']);
+    expect(await angulation.getBestColumns()).toEqual([]);
   });
 
-  it('ranks a negative margin below a positive one and prints a true minus sign', () => {
-    const [marginA, marginB] = rowCells(`margin-${tumourId}`);
-    expect(rowLabel(`margin-${tumourId}`)).toContain(
-      'Tumour segment VIII: minimal ablative margin (mm)',
-    );
-    expect(marginA.classList).toContain('best');
-    expect(cellText(marginB)).toBe('\u22122.4 mm');
+  it('ranks a negative margin below a positive one and prints a true minus sign', async () => {
+    const margin = await comparison.getRow({ key: `margin-${tumourId}` });
+    expect(await margin.getLabel()).toContain('Tumour segment VIII: minimal ablative margin (mm)');
+    expect(await margin.getBestColumns()).toEqual([0]);
+    expect((await margin.getCellTexts())[1]).toBe('\u22122.4 mm');
   });
 
-  it('counts a collateral kind the zone does not reach as none, and marks the smaller volume', () => {
-    const [collateralA, collateralB] = rowCells('collateral-gallbladder');
-    expect(cellText(collateralA)).toBe('0.12 mL');
-    expect(cellText(collateralB)).toContain('0.00 mL');
-    expect(collateralB.classList).toContain('best');
+  it('counts a collateral kind the zone does not reach as none, and marks the smaller volume', async () => {
+    const collateral = await comparison.getRow({ key: 'collateral-gallbladder' });
+    const [collateralA, collateralB] = await collateral.getCells();
+    expect(collateralA.text).toBe('0.12 mL');
+    expect(collateralB.text).toContain('0.00 mL');
+    expect(collateralB.isBest).toBe(true);
   });
 
-  it('shows each verdict with its reasons: rule, structure kind, measured value and threshold with units', () => {
-    const [verdictA, verdictB] = rowCells('verdict');
-    expect(cellText(verdictA)).toContain('Acceptable with cautions');
-    expect(cellText(verdictA)).toContain('Caution · Margin target · Tumour');
-    expect(cellText(verdictA)).toContain('Measured 6.2 mm, threshold 10.0 mm');
+  it('shows each verdict with its reasons: rule, structure kind, measured value and threshold with units', async () => {
+    const [verdictA, verdictB] = await (await comparison.getRow({ key: 'verdict' })).getCellTexts();
+    expect(verdictA).toContain('Acceptable with cautions');
+    expect(verdictA).toContain('Caution · Clearance · Gallbladder');
+    expect(verdictA).toContain('Measured 8.0 mm, threshold 10.0 mm');
 
-    expect(cellText(verdictB)).toContain('Not acceptable');
-    expect(cellText(verdictB)).toContain('Refusal · Critical structure on the path · Gallbladder');
-    expect(cellText(verdictB)).toContain('Measured 4.2 mm, threshold 0.0 mm');
-    expect(cellText(verdictB)).toContain('Caution · Clearance · Portal vein');
-    expect(cellText(verdictB)).toContain('Measured 3.1 mm, threshold 5.0 mm');
-    expect(cellText(verdictB)).toContain('The applicator passes 3.1 mm from the portal vein.');
+    expect(verdictB).toContain('Not acceptable');
+    expect(verdictB).toContain('Refusal · Critical structure on the path · Gallbladder');
+    expect(verdictB).toContain('Measured 4.2 mm, threshold 0.0 mm');
+    expect(verdictB).toContain('Caution · Clearance · Portal vein');
+    expect(verdictB).toContain('Measured 3.1 mm, threshold 5.0 mm');
+    expect(verdictB).toContain('The applicator passes 3.1 mm from the portal vein.');
   });
 
-  it('flags a critical structure on the path in words and names the verdict zone model', () => {
-    const [, traversedB] = rowCells('traversed');
-    expect(cellText(traversedB)).toContain('Gallbladder: 4.2 mm priority_high Critical');
-    expect(rowCells('primary-zone').map(cellText)).toEqual([
+  it('flags a critical structure on the path in words and names the verdict zone model', async () => {
+    const traversed = await comparison.getRow({ key: 'traversed' });
+    expect((await traversed.getCellTexts())[1]).toContain('Gallbladder: 4.2 mm Critical');
+    expect(await (await comparison.getRow({ key: 'primary-zone' })).getCellTexts()).toEqual([
       'Applicator zone table',
       'Applicator zone table',
     ]);
-    expect(cellText(rowCells('heat-sinks')[1])).toBe(
+    expect((await (await comparison.getRow({ key: 'heat-sinks' })).getCellTexts())[1]).toBe(
       'Hepatic vein: 6.5 mm wide, 3.2 mm from the zone',
     );
-    expect(textOf(fixture)).toContain('Not in the assessed region');
+  });
+
+  it('names the safety profile and applicator profiles with their versions and the zone table’s source', async () => {
+    const safety = await comparison.getRow({ key: 'safety-profile', group: 'inputs' });
+    expect(await safety.getCellTexts()).toEqual([
+      'Invented thresholds, version 3',
+      'Invented thresholds, version 2',
+    ]);
+    const applicators = await comparison.getRow({ key: 'applicator-profiles', group: 'inputs' });
+    expect((await applicators.getCellTexts())[0]).toBe(
+      'Invented probe, version 2; zone table: Ex vivo measurements (Invented bench series)',
+    );
+    const changes = await comparison.getRow({ key: 'input-changes' });
+    const [changesA, changesB] = await changes.getCellTexts();
+    expect(changesA).toBe('Nothing: assessed on today’s inputs');
+    expect(changesB).toContain('is at version 3 (assessed on version 2)');
+  });
+
+  it('folds and unfolds a group of rows, and all groups at once', async () => {
+    const group = await comparison.getGroup({ key: 'applicator-0' });
+    expect(await group.getTitle()).toBe('Applicator: trajectory');
+    expect(await group.isExpanded()).toBe(true);
+    await group.toggle();
+    expect(await group.isExpanded()).toBe(false);
+    expect(await group.isFolded()).toBe(true);
+    // Folded rows stay in the page (hidden on screen, printed on paper).
+    expect(await group.getRows({ key: 'angulation' })).toHaveLength(1);
+
+    await comparison.foldAllGroups();
+    for (const each of await comparison.getGroups()) expect(await each.isExpanded()).toBe(false);
+    await comparison.unfoldAllGroups();
+    for (const each of await comparison.getGroups()) expect(await each.isExpanded()).toBe(true);
+  });
+
+  it('sums up each plan in one line: verdict, clearance against its minimum, coverage, margin with its bound, zone model', async () => {
+    const lines = await comparison.getSummaryLines();
+    expect(await Promise.all(lines.map((line) => line.getPlanName()))).toEqual([
+      'Lateral approach',
+      'Subcostal approach',
+    ]);
+    const lineA = await comparison.getSummaryLine({ planName: 'Lateral approach' });
+    expect(await lineA.getVerdict()).toContain('Acceptable with cautions');
+    expect(await lineA.getVerdict()).toContain('1 caution');
+    // The profile version the assessment ran on is the current one: 10 mm from the gallbladder.
+    expect(await lineA.getFigure('clearance')).toEqual({
+      value: 'Gallbladder 8.0 mm (bound 7.2 mm)',
+      note: 'Minimum 10.0 mm: 2.0 mm short',
+      isShort: true,
+    });
+    expect(await lineA.getFigure('coverage')).toEqual({
+      value: '100.0 %',
+      note: 'Tumour segment VIII',
+      isShort: false,
+    });
+    // 6.2 mm meets the 5 mm target; its bound, 4.9 mm, does not.
+    expect(await lineA.getFigure('margin')).toEqual({
+      value: '6.2 mm (bound 4.9 mm)',
+      note: 'Target 5.0 mm: met, but not by its bound',
+      isShort: true,
+    });
+    expect((await lineA.getFigure('zone-model')).value).toBe('Applicator zone table');
+    expect(await lineA.isOnEarlierInputs()).toBe(false);
+
+    const lineB = await comparison.getSummaryLine({ planName: /Subcostal/ });
+    expect(await lineB.getVerdict()).toContain('3 refusals · 1 caution');
+    // Version 2 is not at hand: the minimum comes from the verdict's own reason.
+    expect(await lineB.getFigure('clearance')).toEqual({
+      value: 'Portal vein 3.1 mm',
+      note: 'Minimum 5.0 mm: 1.9 mm short',
+      isShort: true,
+    });
+    expect((await lineB.getFigure('coverage')).isShort).toBe(true);
+    expect(await lineB.getFigure('margin')).toEqual({
+      value: '\u22122.4 mm',
+      note: 'Minimum 0.0 mm: 2.4 mm short',
+      isShort: true,
+    });
+    expect(await lineB.isOnEarlierInputs()).toBe(true);
+  });
+
+  it('draws each plan’s slice from its display data, and says when it cannot', async () => {
+    const lineA = await comparison.getSummaryLine({ planName: 'Lateral approach' });
+    expect(await lineA.getPictureState()).toBe('drawn');
+    // The needle lies in the axial plane: the picture is the axial slice, patient left to the
+    // right and posterior down (the radiological habit).
+    expect(await lineA.getPictureCaption()).toContain(
+      'Through the needle, axial · L to the right, P down',
+    );
+    expect(await lineA.getPictureDescription()).toContain(
+      'table zone outlined (solid, used for the verdict)',
+    );
+    const lineB = await comparison.getSummaryLine({ planName: /Subcostal/ });
+    expect(await lineB.getPictureState()).toBe('failed');
+    expect(await lineB.getPictureCaption()).toContain('The display data was not found.');
   });
 });

@@ -1,4 +1,5 @@
-import { DatePipe } from '@angular/common';
+import { CdkAccordion, CdkAccordionItem } from '@angular/cdk/accordion';
+import { DOCUMENT, DatePipe } from '@angular/common';
 import {
   ChangeDetectionStrategy,
   Component,
@@ -6,6 +7,7 @@ import {
   effect,
   inject,
   input,
+  signal,
   untracked,
 } from '@angular/core';
 import { MatButton } from '@angular/material/button';
@@ -14,8 +16,10 @@ import { planStatusLabels, type AssessmentView, type PlanView } from '@emberline
 import { ClinicalCaution } from '../core/clinical-caution';
 import { StructureApi } from '../imaging/structure-api';
 import { AssessmentProgress } from './assessment-progress';
+import { inputsGroup } from './comparison-input-rows';
 import { comparisonGroups, type ComparedPlan } from './comparison-rows';
 import { PlanAssessments, type PlanAssessmentState } from './plan-assessments';
+import { ComparisonSummaryBand } from './summary/comparison-summary-band';
 import { VerdictBadge } from './verdict-badge';
 
 /** A plan that has no column, and why. */
@@ -28,22 +32,39 @@ interface PendingPlan {
 }
 
 /**
- * The plan comparison of the Plans section, side by side: every plan whose newest
- * assessment is done, side by side — a column a plan, a row a figure with its unit, the better
- * value of a ranked row marked by a sign and in words, the verdict with its reasons. Plans not
+ * The plan comparison of the Plans section: every plan whose newest assessment is done. It opens
+ * with a summary band (a line a plan: verdict, the figures it rests on, a picture of the slice
+ * through the needle), then the full table — a column a plan, a row a figure with its unit, the
+ * better value of a ranked row marked by a sign and in words, the verdict with its reasons, the
+ * inputs each assessment ran on — in groups that fold away (all unfolded on paper). Plans not
  * (yet) compared are listed below with the reason and, while one runs, its progress.
  */
 @Component({
   selector: 'em-plan-comparison',
-  imports: [DatePipe, MatButton, MatIcon, ClinicalCaution, AssessmentProgress, VerdictBadge],
+  imports: [
+    CdkAccordion,
+    CdkAccordionItem,
+    DatePipe,
+    MatButton,
+    MatIcon,
+    AssessmentProgress,
+    ClinicalCaution,
+    ComparisonSummaryBand,
+    VerdictBadge,
+  ],
+  // The page prints the comparison alone when it shows (styles.scss, "Printing one part").
+  host: { class: 'em-print-focus' },
   templateUrl: './plan-comparison.html',
   styleUrl: './plan-comparison.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
 })
 export class PlanComparison {
   private readonly assessments = inject(PlanAssessments);
+  private readonly document = inject(DOCUMENT);
 
   readonly plans = input.required<readonly PlanView[]>();
+  /** The case's code, for the printed page's heading. */
+  readonly caseCode = input('');
 
   protected readonly statusLabels = planStatusLabels;
   protected readonly columns = computed<ComparedPlan[]>(() =>
@@ -67,7 +88,7 @@ export class PlanComparison {
     return ids.size === 1 ? [...ids][0] : undefined;
   });
   private readonly structures = inject(StructureApi).list(this.seriesId);
-  private readonly tumourNames = computed(
+  protected readonly tumourNames = computed(
     () =>
       new Map(
         (this.structures.hasValue() ? this.structures.value() : []).map((structure) => [
@@ -76,7 +97,11 @@ export class PlanComparison {
         ]),
       ),
   );
-  protected readonly groups = computed(() => comparisonGroups(this.columns(), this.tumourNames()));
+  protected readonly groups = computed(() => [
+    ...comparisonGroups(this.columns(), this.tumourNames()),
+    inputsGroup(this.columns()),
+  ]);
+  protected readonly printedAt = signal(new Date());
 
   constructor() {
     let isFirstRead = true;
@@ -88,6 +113,11 @@ export class PlanComparison {
         isFirstRead = false;
       });
     });
+  }
+
+  protected print(): void {
+    this.printedAt.set(new Date());
+    this.document.defaultView?.print();
   }
 
   protected keep(view: AssessmentView): void {

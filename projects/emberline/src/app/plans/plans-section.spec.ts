@@ -110,6 +110,62 @@ describe('PlansSection', () => {
     expect(textOf(fixture)).toContain('Anterior');
   });
 
+  it('copies a submitted plan as a new draft, shows it last, highlighted, with the focus on it', async () => {
+    await open([plan({}), plan({ id: 'plan-2', name: 'Anterior', status: 'submitted' })]);
+    const element = fixture.nativeElement as HTMLElement;
+    const copyButtons = Array.from(element.querySelectorAll('[data-plan] button')).filter(
+      (button) => button.textContent?.includes('Copy as new draft'),
+    );
+    // A draft is edited, not copied: only the submitted plan offers a copy.
+    expect(copyButtons).toHaveLength(1);
+    buttonNamed(fixture, 'content_copy Copy as new draft').click();
+    const request = http.expectOne('/api/plans/plan-2/copy');
+    expect(request.request.method).toBe('POST');
+    request.flush(plan({ id: 'plan-3', name: 'Anterior (revision 2)', status: 'draft' }), {
+      status: 201,
+      statusText: 'Created',
+    });
+    await fixture.whenStable();
+    for (const read of http.match((candidate) => candidate.url.endsWith('/assessments'))) {
+      read.flush([]);
+    }
+    await fixture.whenStable();
+    const cards = Array.from(element.querySelectorAll<HTMLElement>('section[data-plan]'));
+    expect(cards.map((card) => card.dataset['plan'])).toEqual(['plan-1', 'plan-2', 'plan-3']);
+    const copy = cards[2];
+    expect(copy.dataset['newDraft']).toBe('true');
+    expect(copy.textContent).toContain('Just copied');
+    expect(copy.querySelector('a')?.textContent).toContain('Edit the new draft in the viewer');
+    expect(copy.querySelector('a')?.getAttribute('href')).toBe(
+      `/cases/${caseId}/imaging/${seriesId}/viewer?plan=plan-3`,
+    );
+    expect(document.activeElement?.textContent?.trim()).toBe('Anterior (revision 2)');
+    expect(textOf(fixture)).toContain(
+      'Anterior was copied as the new draft Anterior (revision 2).',
+    );
+  });
+
+  it('tells the refusal when a copy fails, and adds no plan', async () => {
+    await open([plan({ id: 'plan-2', name: 'Anterior', status: 'assessed' })]);
+    buttonNamed(fixture, 'content_copy Copy as new draft').click();
+    http.expectOne('/api/plans/plan-2/copy').flush(
+      {
+        type: 'about:blank',
+        title: 'Forbidden',
+        status: 403,
+        detail: 'Only the presenting physician of this case drafts its plans.',
+      },
+      { status: 403, statusText: 'Forbidden' },
+    );
+    await fixture.whenStable();
+    expect(textOf(fixture)).toContain(
+      'The plan Anterior was not copied. Only the presenting physician of this case drafts its plans.',
+    );
+    expect(
+      (fixture.nativeElement as HTMLElement).querySelectorAll('section[data-plan]'),
+    ).toHaveLength(1);
+  });
+
   it('keeps the plan and tells the server refusal when a deletion fails', async () => {
     await open([plan({})]);
     buttonNamed(fixture, 'delete Delete draft').click();

@@ -1,11 +1,20 @@
 import { DatePipe, DecimalPipe } from '@angular/common';
-import { ChangeDetectionStrategy, Component, computed, inject, signal } from '@angular/core';
+import {
+  ChangeDetectionStrategy,
+  Component,
+  ElementRef,
+  Injector,
+  afterNextRender,
+  computed,
+  inject,
+  signal,
+} from '@angular/core';
 import { MatButton } from '@angular/material/button';
 import { MatDialog } from '@angular/material/dialog';
 import { MatIcon } from '@angular/material/icon';
 import { MatProgressBar } from '@angular/material/progress-bar';
 import { RouterLink } from '@angular/router';
-import { planStatusLabels, vector3, type PlanView } from '@emberline/shared';
+import { planStatusLabels, vector3, type PlanStatus, type PlanView } from '@emberline/shared';
 import { CaseFileState } from '../cases/case-file-state';
 import { ConfirmDialog, type ConfirmDialogData } from '../core/confirm-dialog';
 import { problemMessage } from '../core/problem';
@@ -14,9 +23,16 @@ import { PlanAssessment } from './plan-assessment';
 import { PlanAssessments } from './plan-assessments';
 import { PlanComparison } from './plan-comparison';
 
+/** Plans the presenter may copy as a new draft: those no longer open to edits. */
+const copiedStatuses: readonly PlanStatus[] = ['submitted', 'assessed', 'assessment-failed'];
+/** Plans the presenter may delete (the server's rule: a failed assessment leaves a draft). */
+const deletableStatuses: readonly PlanStatus[] = ['draft', 'assessment-failed'];
+
 /**
- * Plans of the case file: the needle plans drafted in the viewer, each with its
- * state and its applicators, a link that opens it in the viewer, and the deletion of drafts.
+ * Plans of the case file: the needle plans drafted in the viewer, each with its state and its
+ * applicators, a link that opens it in the viewer, the deletion of drafts, and "Copy as new
+ * draft" for a plan submitted or assessed, so that it can be revised while the plan its
+ * assessment belongs to stays as it was.
  */
 @Component({
   selector: 'em-plans-section',
@@ -39,8 +55,11 @@ export class PlansSection {
   private readonly api = inject(PlanApi);
   private readonly dialog = inject(MatDialog);
   private readonly assessments = inject(PlanAssessments);
+  private readonly host = inject<ElementRef<HTMLElement>>(ElementRef);
+  private readonly injector = inject(Injector);
 
   protected readonly caseId = this.state.caseId;
+  protected readonly caseCode = computed(() => this.state.detail()?.caseCode ?? '');
   protected readonly canEdit = computed(() => this.state.detail()?.permissions.canEdit ?? false);
   protected readonly statusLabels = planStatusLabels;
   protected readonly resource = this.api.list(this.state.caseId);
@@ -53,6 +72,11 @@ export class PlansSection {
   });
   protected readonly deletingIds = signal<ReadonlySet<string>>(new Set());
   protected readonly deleteError = signal('');
+  protected readonly copyingIds = signal<ReadonlySet<string>>(new Set());
+  /** The draft just made by a copy: highlighted, and its card focused. */
+  protected readonly newDraftId = signal<string | null>(null);
+  protected readonly copyNote = signal('');
+  protected readonly copyError = signal('');
 
   /** Entry-to-target length of an applicator, millimetres. */
   protected lengthMm(applicator: PlanView['applicators'][number]): number {
@@ -65,7 +89,49 @@ export class PlansSection {
   }
 
   protected canDelete(plan: PlanView): boolean {
-    return this.canEdit() && plan.status === 'draft';
+    return this.canEdit() && deletableStatuses.includes(plan.status);
+  }
+
+  protected canCopy(plan: PlanView): boolean {
+    return this.canEdit() && copiedStatuses.includes(plan.status);
+  }
+
+  protected copy(plan: PlanView): void {
+    this.copyError.set('');
+    this.copyNote.set('');
+    this.copyingIds.update((ids) => new Set(ids).add(plan.id));
+    const settle = () =>
+      this.copyingIds.update((ids) => {
+        const rest = new Set(ids);
+        rest.delete(plan.id);
+        return rest;
+      });
+    this.api.copy(plan.id).subscribe({
+      next: (draft) => {
+        settle();
+        // The server lists plans oldest first: the new draft goes last.
+        this.resource.update((list) => [...(list ?? []), draft]);
+        this.newDraftId.set(draft.id);
+        this.copyNote.set(
+          `${plan.name} was copied as the new draft ${draft.name}. Edit it in the viewer, ` +
+            'then request its assessment.',
+        );
+        afterNextRender({ write: () => this.showNewDraft(draft.id) }, { injector: this.injector });
+      },
+      error: (error: unknown) => {
+        settle();
+        this.copyError.set(`The plan ${plan.name} was not copied. ${problemMessage(error)}`);
+      },
+    });
+  }
+
+  /** Brings the new draft's card into view and moves the focus to its heading. */
+  private showNewDraft(planId: string): void {
+    const card = this.host.nativeElement.querySelector<HTMLElement>(
+      `[data-plan="${CSS.escape(planId)}"]`,
+    );
+    card?.scrollIntoView?.({ block: 'center' });
+    card?.querySelector<HTMLElement>('h3')?.focus();
   }
 
   protected confirmDelete(plan: PlanView): void {

@@ -61,6 +61,7 @@ function assessment(
     planId: plan.id,
     status,
     progress: status === 'done' ? 1 : 0.3,
+    inputs: null,
     result: status === 'done' ? result(reasons) : undefined,
     createdAt: '2026-04-14T10:00:00.000Z',
     updatedAt: '2026-04-14T10:01:00.000Z',

@@ -1,8 +1,8 @@
 /**
  * Speed of the physics zone model: the Pennes solver with Arrhenius and CEM43 damage against
  * grid size, a whole plan on a ~60 mm crop (goal: under 1 s on one core), and the calibration
- * of invented applicator profiles (goal: a few seconds in a worker). Not a test: run it and
- * read the figures.
+ * of invented and demo applicator profiles with its leave-one-out check (goal: a few seconds
+ * in a worker, once per profile version). Not a test: run it and read the figures.
  *
  *   node --import tsx shared/benchmarks/bioheat.bench.ts
  *
@@ -138,7 +138,10 @@ console.log('\n3. Reference: a straightforward explicit solver on the 2 mm plan,
   );
 }
 
-console.log('\n4. Calibration per profile (invented zone tables, 20 mm active length, 2 mm grid)');
+console.log(
+  '\n4. Calibration per profile with leave-one-out (invented zone tables and the demo profiles of ' +
+    'server/seeders, 2 mm grid)',
+);
 const profiles: { name: string; rows: [number, number, number, number, number][] }[] = [
   {
     name: '2 powers × 2 times',
@@ -164,21 +167,37 @@ const profiles: { name: string; rows: [number, number, number, number, number][]
     ],
   },
 ];
-for (const profile of profiles) {
-  const zoneTable = profile.rows.map(([powerW, timeS, zoneLengthMm, zoneWidthMm, tipOffsetMm]) => ({
-    powerW,
-    timeS,
-    zoneLengthMm,
-    zoneWidthMm,
-    tipOffsetMm,
-  }));
-  const { wallMs, cpuMs, result } = timed(1, () =>
-    calibrateApplicatorProfile({ activeLengthMm: 20, zoneTable }),
-  );
+const { demoApplicatorProfiles } = await import('../../server/seeders/demo-plans');
+const calibrated = [
+  ...profiles.map((profile) => ({
+    name: profile.name,
+    activeLengthMm: 20,
+    zoneTable: profile.rows.map(([powerW, timeS, zoneLengthMm, zoneWidthMm, tipOffsetMm]) => ({
+      powerW,
+      timeS,
+      zoneLengthMm,
+      zoneWidthMm,
+      tipOffsetMm,
+    })),
+  })),
+  ...demoApplicatorProfiles,
+];
+const mm = (value: number | null) => (value === null ? '  –  ' : value.toFixed(2).padStart(5));
+console.log(
+  'profile                               rows runs  wall ms  cpu ms   η      γ    length offset  ' +
+    'rms   max  LOO rms LOO max  plausible',
+);
+for (const profile of calibrated) {
+  // Once: a calibration's runs are cached inside it, so a warm-up would measure nothing else.
+  const { wallMs, cpuMs, result } = timed(1, () => calibrateApplicatorProfile(profile), false);
+  const { parameters } = result;
   console.log(
-    `${profile.name.padEnd(20)} η = ${result.parameter.toFixed(4)} after ${result.evaluations} ` +
-      `evaluations, rms residual ${result.rmsResidualMm.toFixed(2)} mm: wall ${wallMs.toFixed(0)} ms, ` +
-      `cpu ${cpuMs.toFixed(0)} ms`,
+    `${profile.name.slice(0, 36).padEnd(37)} ${String(profile.zoneTable.length).padStart(4)} ` +
+      `${String(result.simulations).padStart(4)} ${format(wallMs)}  ${format(cpuMs)}  ` +
+      `${parameters.couplingEfficiency.toFixed(3)} ${parameters.powerExponent.toFixed(2).padStart(5)} ` +
+      `${parameters.heatingLengthMm.toFixed(1).padStart(6)} ${parameters.segmentOffsetMm.toFixed(1).padStart(6)} ` +
+      `${mm(result.rmsResidualMm)} ${mm(result.maxResidualMm)}  ${mm(result.leaveOneOutRmsMm)}   ` +
+      `${mm(result.leaveOneOutMaxMm)}  ${result.isImplausible ? `no: ${result.implausibleReason}` : 'yes'}`,
   );
 }
 

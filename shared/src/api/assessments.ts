@@ -70,6 +70,11 @@ export interface ApplicatorSafety {
 
 export interface TumourCoverage {
   structureId: string;
+  /**
+   * How the board names the tumour: its confirmed lesion ("segment VIII, 24 mm"), else
+   * "label N, not linked to a lesion". Absent in results computed before tumours were named.
+   */
+  label?: string;
   volumeMl: number;
   coveredPercent: number;
   /**

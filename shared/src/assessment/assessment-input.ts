@@ -20,6 +20,12 @@ export interface AssessmentStructure {
   labelValue: number;
   /** Null while nobody has said what the label stands for: such labels are ignored. */
   kind: StructureKind | null;
+  /**
+   * How the board names a tumour in coverage figures and verdict messages: its confirmed lesion
+   * of the case ("segment VIII, 24 mm", `lesionLabel`). Without one the engine says
+   * "label N, not linked to a lesion" (`tumourLabelOf`), never the label number alone.
+   */
+  label?: string;
 }
 
 /** What the engine needs of an applicator profile. */
@@ -176,6 +182,9 @@ function checkStructures(structures: readonly AssessmentStructure[]): void {
     labels.set(labelValue, index);
     if (structure.kind !== null && !structureKinds.includes(structure.kind)) {
       refuse(`${field}.kind`, `Structure ${structure.id}: ${String(structure.kind)} is no kind.`);
+    }
+    if (structure.label !== undefined && typeof structure.label !== 'string') {
+      refuse(`${field}.label`, `Structure ${structure.id}: a label is text.`);
     }
   });
 }

@@ -10,6 +10,7 @@ export * from './label-inventory';
 export * from './path-profile';
 export * from './trajectory-safety';
 export * from './coverage';
+export * from './tumour-label';
 export * from './zone-field';
 export * from './vessel-calibre';
 export * from './heat-sinks';

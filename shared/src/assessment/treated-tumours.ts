@@ -9,6 +9,7 @@ import type { Vec3 } from '../geometry/vector';
 import type { VoxelBox } from '../geometry/voxel-box';
 import type { AssessmentStructure } from './assessment-input';
 import { statisticsOf, type LabelInventory, type LabelStatistics } from './label-inventory';
+import { tumourLabelOf } from './tumour-label';
 import type { VoxelExtent } from './voxel-extent';
 
 /** The extent of a label's voxels (continuous indices: the cells around its extreme centres). */
@@ -80,6 +81,8 @@ export function tumourLabelsMeeting(
 export interface TreatedTumour {
   structureId: string;
   labelValue: number;
+  /** How the board names it (`tumourLabelOf`): "segment VIII, 24 mm". */
+  label: string;
   /** Bounding box of its voxels in crop voxel indices (inclusive, whole numbers). */
   extent: VoxelExtent;
 }
@@ -113,6 +116,7 @@ export function treatedTumours(
       return {
         structureId: structure.id,
         labelValue: structure.labelValue,
+        label: tumourLabelOf(structure),
         extent: {
           min: minVoxel.map((value, axis) => value - start[axis]) as Vec3,
           max: maxVoxel.map((value, axis) => value - start[axis]) as Vec3,

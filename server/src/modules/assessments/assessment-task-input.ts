@@ -3,7 +3,11 @@
  * names. A label map replaced after the request is gone from the store: the assessment then
  * fails with a reason instead of running on other structures.
  */
-import type { ApplicatorCalibration, AssessmentSnapshot } from '@emberline/shared';
+import {
+  tumourLabelOf,
+  type ApplicatorCalibration,
+  type AssessmentSnapshot,
+} from '@emberline/shared';
 import type { FileStore } from '../imaging/file-store';
 import type { AssessmentTaskInput } from './assessment-task-protocol';
 
@@ -33,10 +37,15 @@ export async function taskInputFromSnapshot(
   const input: AssessmentTaskInput = {
     geometry: snapshot.series.geometry,
     labelMap: { dataType: snapshot.labelMap.dataType, buffer },
+    // A tumour is named by the lesion its link was confirmed to (the snapshot holds only
+    // confirmed links), else as not linked: never by its label number alone.
     structures: snapshot.structures.map((structure) => ({
       id: structure.id,
       labelValue: structure.labelValue,
       kind: structure.kind,
+      ...(structure.kind === 'tumour'
+        ? { label: tumourLabelOf({ ...structure, label: structure.lesionLabel ?? undefined }) }
+        : {}),
     })),
     applicators: snapshot.plan.applicators.map((applicator) => {
       const profile = profiles.get(applicator.profileId);

@@ -29,7 +29,8 @@ export interface TaskApplicator {
 export interface AssessmentTaskInput {
   geometry: VolumeGeometry;
   labelMap: { dataType: 'uint8' | 'uint16'; buffer: ArrayBuffer };
-  structures: { id: string; labelValue: number; kind: StructureKind | null }[];
+  /** `label`: how the board names a tumour ("segment VIII, 24 mm"), for the figures and verdict. */
+  structures: { id: string; labelValue: number; kind: StructureKind | null; label?: string }[];
   applicators: TaskApplicator[];
   safetyProfile: SafetyProfileBody;
   /** Names the series' label map as stored, so a thread may keep its distance fields. */

@@ -375,17 +375,25 @@ function clearanceKinds(applicators: readonly (ApplicatorSafety | undefined)[]):
   );
 }
 
-/** Tumours by their structure name; one without a known name by its order of appearance. */
+/**
+ * Tumours as the board names them: by the label the assessment gave (its confirmed lesion,
+ * "segment VIII, 24 mm", or "label N, not linked to a lesion"); in results from before tumours
+ * were named, by their structure name, else by their order of appearance.
+ */
 export function tumourLabeller(
   results: readonly AssessmentResult[],
   names: ReadonlyMap<string, string>,
 ): (structureId: string) => string {
-  const order = unique(
-    results.flatMap((result) =>
-      result.zones.flatMap((zone) => zone.tumours.map((tumour) => tumour.structureId)),
-    ),
-  );
-  return (structureId) => names.get(structureId) ?? `Tumour ${order.indexOf(structureId) + 1}`;
+  const tumours = results.flatMap((result) => result.zones.flatMap((zone) => zone.tumours));
+  const order = unique(tumours.map((tumour) => tumour.structureId));
+  const labels = new Map<string, string>();
+  for (const tumour of tumours) {
+    if (tumour.label !== undefined && !labels.has(tumour.structureId)) {
+      labels.set(tumour.structureId, `Tumour (${tumour.label})`);
+    }
+  }
+  return (structureId) =>
+    labels.get(structureId) ?? names.get(structureId) ?? `Tumour ${order.indexOf(structureId) + 1}`;
 }
 
 function unique<T>(values: readonly T[]): T[] {

@@ -26,6 +26,8 @@ import { fieldIndex, marginAt, type ZoneField } from './zone-field';
 export interface CoverageTumour {
   structureId: string;
   labelValue: number;
+  /** How the board names it ("segment VIII, 24 mm"; `tumourLabelOf`), carried to the figures. */
+  label?: string;
   /** Its voxels' bounding box in crop voxel indices. */
   extent: VoxelExtent;
 }
@@ -78,6 +80,7 @@ export function assessCoverage(input: CoverageInput): CoverageFigures {
     const figures = tumourFigures(input, tumour);
     tumours.push({
       structureId: tumour.structureId,
+      ...(tumour.label === undefined ? {} : { label: tumour.label }),
       volumeMl: figures.voxelCount * voxelMl,
       coveredPercent: figures.voxelCount === 0 ? 0 : (100 * figures.covered) / figures.voxelCount,
       minimalMarginMm: figures.minimalMarginMm,

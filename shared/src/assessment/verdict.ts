@@ -17,6 +17,7 @@ import type {
 } from '../api/assessments';
 import type { SafetyProfileBody } from '../api/safety-profiles';
 import { structureKindLabels, type StructureKind } from '../api/structures';
+import { tumourName } from './tumour-label';
 
 /** The rules and their identifiers in `VerdictReason.rule`. */
 export const verdictRules = {
@@ -229,7 +230,13 @@ function coverageReasons(zone: ZoneAssessment, profile: SafetyProfileBody): Verd
   }
   const reasons: VerdictReason[] = [];
   zone.tumours.forEach((tumour, index) => {
-    const name = zone.tumours.length === 1 ? 'The tumour' : `Tumour ${index + 1}`;
+    // By its lesion, as the board names it; results without labels by their order.
+    const name =
+      tumour.label !== undefined
+        ? tumourName(tumour.label)
+        : zone.tumours.length === 1
+          ? 'The tumour'
+          : `Tumour ${index + 1}`;
     if (tumour.coveredPercent < 100) {
       reasons.push({
         rule: verdictRules.tumourCoverage,

@@ -172,7 +172,13 @@ describe('assessing the demo plans of the sample case', () => {
       expect(view.progress).toBe(1);
       expect(view.result?.engineVersion).toMatch(/^\d+\.\d+\.\d+$/);
       expect(view.result?.zones.map((zone) => zone.model).sort()).toEqual(['bioheat', 'table']);
-      expect(view.result?.primaryZoneModel).toBe('bioheat');
+      // The invented demo tables need implausibly little power in the heating model: the table
+      // zone decides and the physics zone is shown for information, with the reason.
+      expect(view.result?.primaryZoneModel).toBe('table');
+      const physics = view.result?.zones.find((zone) => zone.model === 'bioheat');
+      expect(physics?.isAdvisory).toBe(true);
+      expect(physics?.advisoryReason).toMatch(/implausible settings.*shown for information only/);
+      expect(physics?.boundaryErrorMm).toBeGreaterThan(0);
       expect(['acceptable', 'acceptable-with-cautions', 'not-acceptable']).toContain(
         view.result?.verdict.level,
       );
@@ -189,14 +195,21 @@ describe('assessing the demo plans of the sample case', () => {
       expect(calibration?.rows.map((row) => `${row.powerW}/${row.timeS}`).sort()).toEqual(
         profile.zoneTable.map((row) => `${row.powerW}/${row.timeS}`).sort(),
       );
-      // One free parameter cannot fit every row; the rms is the mean of the squared row
-      // residuals, recomputed here from the rows.
+      // The model cannot fit every row; the rms is the mean of the squared row residuals
+      // (length, width, centre), recomputed here from the rows.
       const squares = (calibration?.rows ?? []).flatMap((row) => [
         row.residualLengthMm ** 2,
         row.residualWidthMm ** 2,
+        (row.residualTipOffsetMm ?? NaN) ** 2,
       ]);
       const rms = Math.sqrt(squares.reduce((sum, value) => sum + value, 0) / squares.length);
       expect(calibration?.rmsResidualMm).toBeCloseTo(rms, 6);
+      expect(calibration?.maxResidualMm).toBeCloseTo(Math.sqrt(Math.max(...squares)), 6);
+      // Predicting rows left out of the fit is judged against the safety profile's tolerance.
+      expect(calibration?.leaveOneOutMaxMm).toBeGreaterThan(0);
+      expect(calibration?.toleranceMm).toBe(2);
+      expect(calibration?.isWithinTolerance).toBe(false);
+      expect(calibration?.isImplausible).toBe(true);
     }
   });
 

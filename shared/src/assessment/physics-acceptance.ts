@@ -100,7 +100,7 @@ export function judgeCalibration(
     return {
       isWithinTolerance: false,
       advisoryReason:
-        `The heating model predicts this profile’s own zone table to within ${looMm.toFixed(1)} ` +
+        `The heating model predicts this profile’s own zone table to within ${roundedUp(looMm)} ` +
         `mm (leave-one-out), beyond the ${toleranceMm} mm tolerance` +
         informationOnly,
       boundaryErrorMm,
@@ -182,6 +182,11 @@ function fittedBoundaryMm(calibration: Readonly<ApplicatorCalibration>): number 
       ),
     ),
   );
+}
+
+/** One decimal, rounded up: a bound shown rounded down could read as within the tolerance. */
+function roundedUp(valueMm: number): string {
+  return (Math.ceil(valueMm * 10 - 1e-9) / 10).toFixed(1);
 }
 
 function applicatorNames(numbers: readonly number[]): string {

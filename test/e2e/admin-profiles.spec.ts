@@ -85,14 +85,14 @@ describe('an administrator looks after the applicator and safety profiles', () =
     await dialog.getByLabel('Margin target (mm)', { exact: true }).fill('10');
     await dialog.getByRole('button', { name: 'Create profile' }).click();
     await dialog.waitFor({ state: 'detached' });
-    await page.getByRole('button', { name: 'Make E2E wider margins the default' }).click();
+    await page.getByRole('button', { name: 'Make default: E2E wider margins' }).click();
     await page.getByText('E2E wider margins is now the default for new assessments.').waitFor();
     const created = page.getByRole('row').filter({ hasText: 'E2E wider margins' });
     await expect.poll(() => created.textContent()).toContain('Default for new assessments');
     await expect.poll(() => created.textContent()).toContain('10 / 0 mm');
 
     // Later suites share this database: the demo thresholds become the default again.
-    await page.getByRole('button', { name: `Make ${demoThresholds} the default` }).click();
+    await page.getByRole('button', { name: `Make default: ${demoThresholds}` }).click();
     await page.getByText(`${demoThresholds} is now the default for new assessments.`).waitFor();
   });
 });

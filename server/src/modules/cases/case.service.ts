@@ -1,11 +1,9 @@
 import type { EntityManager } from '@mikro-orm/postgresql';
-import type { FilterQuery } from '@mikro-orm/core';
 import {
   computeLiverScores,
   albuminToGDl,
   bilirubinToMgDl,
   creatinineToMgDl,
-  coordinatorVisibleStatuses,
   type CaseDetail,
   type CaseListQuery,
   type CaseSummary,
@@ -27,6 +25,7 @@ import { ClinicalCase } from './case.entity';
 import { LabPanel } from './lab-panel.entity';
 import { Lesion } from './lesion.entity';
 import { CaseRepository } from './case.repository';
+import { visibilityFilter } from './case-visibility';
 import type { FileStore } from '../imaging/file-store';
 import { ImageSeries } from '../imaging/image-series.entity';
 import { LabelMap } from '../structures/label-map.entity';
@@ -248,13 +247,8 @@ export class CaseService {
     return this.toDetail(user, found);
   }
 
-  private async findVisible(user: SignedInUser, id: string): Promise<ClinicalCase> {
-    const found = await this.cases.findOne(
-      { $and: [{ id }, visibilityFilter(user)] },
-      { populate: ['board', 'presenter'] },
-    );
-    if (!found) throw new NotFoundError('The case');
-    return found;
+  private findVisible(user: SignedInUser, id: string): Promise<ClinicalCase> {
+    return this.cases.findVisibleOrFail(user, id, ['board', 'presenter']);
   }
 
   private async findEditable(user: SignedInUser, id: string): Promise<ClinicalCase> {
@@ -362,18 +356,6 @@ function scoresOf(
 
 function canEdit(user: SignedInUser, found: ClinicalCase): boolean {
   return hasRole(user, 'presenting-physician') && found.presenter.id === user.id;
-}
-
-/** Which cases a user may see at all: their boards; coordinators only decided cases. */
-export function visibilityFilter(user: SignedInUser): FilterQuery<ClinicalCase> {
-  const boardIds = [...user.memberships.keys()];
-  if (boardIds.length === 0) return { id: { $in: [] } };
-  if (hasRole(user, 'presenting-physician', 'board-member', 'proceduralist'))
-    return { board: { $in: boardIds } };
-  if (hasRole(user, 'nurse-coordinator')) {
-    return { board: { $in: boardIds }, status: { $in: [...coordinatorVisibleStatuses] } };
-  }
-  return { id: { $in: [] } };
 }
 
 function toSummary(found: ClinicalCase): CaseSummary {

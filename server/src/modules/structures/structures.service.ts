@@ -13,7 +13,7 @@ import { hasRole } from '../../common/auth-middleware';
 import { ForbiddenError, NotFoundError } from '../../common/errors';
 import type { Actor, SignedInUser } from '../../common/request-context';
 import { recordAudit, writeAudit } from '../audit/audit.service';
-import { visibilityFilter } from '../cases/case.service';
+import { visibilityFilter } from '../cases/case-visibility';
 import { Lesion } from '../cases/lesion.entity';
 import type { FileStore } from '../imaging/file-store';
 import { ImageSeries } from '../imaging/image-series.entity';

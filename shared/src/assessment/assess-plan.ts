@@ -51,15 +51,16 @@ import { judgePhysicsZone, physicsToleranceMm } from './physics-acceptance';
 import { planCrops } from './plan-crops';
 import { assessTrajectory, type TrajectoryFigures } from './trajectory-safety';
 import { treatedTumours } from './treated-tumours';
-import { vesselDiameters } from './vessel-calibre';
+import { vesselCalibre } from './vessel-calibre';
 import { judgePlan } from './verdict';
 import type { VoxelExtent } from './voxel-extent';
 import { zoneDisplay, type ZoneDisplay } from './zone-display';
 import { maskExtent, zoneSignedField } from './zone-field';
+import { ellipsoidZoneSurface, maskZoneSurface } from './zone-surface';
 import { interpolateZoneTable } from './zone-table';
 
 /** Version of the engine, stored with every result. */
-export const ENGINE_VERSION = '1.0.0';
+export const ENGINE_VERSION = '1.1.0';
 
 export interface AssessPlanOptions {
   /** Hears each stage start and end, and the bioheat model's own progress. */
@@ -183,7 +184,11 @@ export async function assessPlan(
         const mask = maskOfCode(zoneCrop.kindCodes, kindCode(kind));
         const inside = insideDistanceOfKind(zoneCrop, kind);
         const { dimensions, spacingMm } = zoneCrop.geometry;
-        return { kind, diametersMm: vesselDiameters(mask, inside, dimensions, spacingMm) };
+        // Centre lines the coarse reading cannot place on either side of the heat-sink calibre
+        // (it is within a voxel diagonal) are read again from their cross-section.
+        const refineBelowMm = safetyProfile.heatSinkDiameterMm + 4 * halfVoxelDiagonalMm(spacingMm);
+        const calibre = vesselCalibre(mask, inside, dimensions, spacingMm, refineBelowMm);
+        return { kind, diametersMm: calibre.diametersMm, calibre };
       }),
   );
 
@@ -233,28 +238,43 @@ export async function assessPlan(
   );
   const paddingMm =
     safetyProfile.heatSinkDistanceMm + 4 * halfVoxelDiagonalMm(zoneCrop.geometry.spacingMm);
+  const maskField = (mask: Uint8Array) => {
+    const { dimensions } = zoneCrop.geometry;
+    const measured = maskExtent(mask, dimensions) ? mask : tipsMask(input, zoneCrop.geometry);
+    const zoneExtent = maskExtent(measured, dimensions) as VoxelExtent;
+    return zoneSignedField(
+      measured,
+      zoneCrop.geometry,
+      [zoneExtent, ...treated.map((tumour) => tumour.extent)],
+      paddingMm,
+    );
+  };
   const coverage = stage('coverage', () =>
     [...zoneMasks].map(([model, mask]) => {
-      const { dimensions } = zoneCrop.geometry;
-      const measured = maskExtent(mask, dimensions) ? mask : tipsMask(input, zoneCrop.geometry);
-      const zoneExtent = maskExtent(measured, dimensions) as VoxelExtent;
-      const field = zoneSignedField(
-        measured,
-        zoneCrop.geometry,
-        [zoneExtent, ...treated.map((tumour) => tumour.extent)],
-        paddingMm,
-      );
+      // The table zone is read from its spheroids, exactly: no boundary error. A zone given as
+      // a mask is read from its voxels, whose surface lies within half a voxel diagonal of the
+      // model's (the physics model's own error is added where the model reports one).
+      const surface =
+        model === 'table'
+          ? { reader: ellipsoidZoneSurface(ellipsoids, zoneCrop.geometry), boundaryErrorMm: 0 }
+          : {
+              reader: maskZoneSurface(maskField(mask)),
+              // …and the physics model's own (leave-one-out, Ω read-back: physics-acceptance.ts).
+              boundaryErrorMm:
+                halfVoxelDiagonalMm(zoneCrop.geometry.spacingMm) + (physics?.boundaryErrorMm ?? 0),
+            };
       const figures = assessCoverage({
         model,
         cropGeometry: zoneCrop.geometry,
         cropLabels: plan.zone.labels,
         kindCodes: zoneCrop.kindCodes,
         zoneMask: mask,
-        zoneField: field,
+        zoneSurface: surface.reader,
+        boundaryErrorMm: surface.boundaryErrorMm,
         tumours: treated,
         marginTargetMm: safetyProfile.marginTargetMm,
       });
-      return { model, mask, field, figures };
+      return { model, mask, surface, figures };
     }),
   );
   const primary = coverage.find((entry) => entry.model === primaryZoneModel) ?? coverage[0];
@@ -262,7 +282,8 @@ export async function assessPlan(
     findHeatSinks({
       cropGeometry: zoneCrop.geometry,
       kindCodes: zoneCrop.kindCodes,
-      zoneField: primary.field,
+      zoneSurface: primary.surface.reader,
+      boundaryErrorMm: primary.surface.boundaryErrorMm,
       vessels,
       heatSinkDiameterMm: safetyProfile.heatSinkDiameterMm,
       heatSinkDistanceMm: safetyProfile.heatSinkDistanceMm,

@@ -5,7 +5,8 @@ import { addScaled, distance, normalize, type Vec3 } from '../geometry/vector';
 import { assessCoverage, type CoverageInput } from './coverage';
 import { rasteriseEllipsoids, tableZoneEllipsoid, type EllipsoidZone } from './ellipsoid-zone';
 import { kindCode } from './label-inventory';
-import { maskExtent, zoneSignedField } from './zone-field';
+import { maskExtent } from './zone-field';
+import { ellipsoidZoneSurface } from './zone-surface';
 
 const TUMOUR = 2;
 const GALLBLADDER = 8;
@@ -58,7 +59,8 @@ function coverageOf(labels: Uint8Array, zones: EllipsoidZone[], marginTargetMm: 
     cropLabels: labels,
     kindCodes,
     zoneMask,
-    zoneField: zoneSignedField(zoneMask, geometry, [zoneExtent, tumourExtent], 2),
+    zoneSurface: ellipsoidZoneSurface(zones, geometry),
+    boundaryErrorMm: 0,
     tumours: [{ structureId: 'lesion', labelValue: TUMOUR, extent: tumourExtent }],
     marginTargetMm,
   };

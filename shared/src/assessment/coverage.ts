@@ -1,14 +1,16 @@
 /**
- * Coverage of the tumours by an ablation zone: per tumour its volume, the
- * share of its voxels inside the zone, the minimal ablative margin (the smallest local margin
- * over all its voxels, negative where tumour lies outside the zone; zone-field.ts `marginAt`),
- * the share of its surface voxels whose local margin falls short of the target, and each
- * surface voxel's margin for drawing; and the volume of every at-risk kind inside the zone.
- * Works on the crop grid; positions LPS, millimetres; volumes millilitres.
+ * Coverage of the tumours by an ablation zone: per tumour its volume, the share of its voxels
+ * inside the zone, the minimal ablative margin — the smallest local margin over the faces of
+ * its labelled voxels, negative where tumour lies outside the zone — with its conservative
+ * bound, the share of its surface area whose local margin falls short of the target, and each
+ * surface voxel's margin for drawing (tumour-surface.ts); and the volume of every at-risk kind
+ * inside the zone. Works on the crop grid; positions LPS, millimetres; volumes millilitres.
  *
- * A tumour surface voxel is one with a face neighbour that is not of the same structure. The
- * margin target follows the trade: ≥ 5 mm, ideally 10 mm (Wang X et al., Cardiovasc Intervent
- * Radiol 2013;36:166; Shady W et al., J Vasc Interv Radiol 2018) — the safety profile holds it.
+ * The bound allows the tumour's true surface to lie up to a voxel beyond its labelled voxels
+ * (the smallest margin over their cells widened by a voxel) and the zone's surface to lie
+ * `boundaryErrorMm` nearer than the zone model puts it. The margin target follows the trade:
+ * ≥ 5 mm, ideally 10 mm (Wang X et al., Cardiovasc Intervent Radiol 2013;36:166; Shady W et
+ * al., J Vasc Interv Radiol 2018) — the safety profile holds it.
  */
 import type {
   CollateralVolume,
@@ -17,10 +19,11 @@ import type {
   ZoneModel,
 } from '../api/assessments';
 import { structureKinds } from '../api/structures';
-import { voxelToLps, type VolumeGeometry } from '../geometry/patient-geometry';
+import type { VolumeGeometry } from '../geometry/patient-geometry';
 import { kindCode, kindOfCode } from './label-inventory';
+import { tallyTumourSurface } from './tumour-surface';
 import type { VoxelExtent } from './voxel-extent';
-import { fieldIndex, marginAt, type ZoneField } from './zone-field';
+import type { ZoneSurface } from './zone-surface';
 
 /** A tumour structure to assess. */
 export interface CoverageTumour {
@@ -40,8 +43,10 @@ export interface CoverageInput {
   kindCodes: Uint8Array;
   /** The zone on the crop: non-zero inside. */
   zoneMask: Uint8Array;
-  /** The zone's signed distance over a box holding every tumour voxel. */
-  zoneField: ZoneField;
+  /** The zone's surface, readable at every tumour voxel. */
+  zoneSurface: ZoneSurface;
+  /** How far the zone model's surface may lie from where it is read, mm (≥ 0). */
+  boundaryErrorMm: number;
   tumours: readonly CoverageTumour[];
   marginTargetMm: number;
 }
@@ -52,7 +57,7 @@ export interface TumourMarginSamples {
   model: ZoneModel;
   /** Surface voxel centres, LPS, millimetres: x, y, z of each in turn. */
   lps: Float32Array;
-  /** Local margin at each, mm (negative outside the zone). */
+  /** Smallest local margin of each one's exposed faces, mm (negative outside the zone). */
   marginMm: Float32Array;
 }
 
@@ -73,27 +78,39 @@ export function voxelVolumeMl(geometry: VolumeGeometry): number {
 /** The coverage figures of one zone. */
 export function assessCoverage(input: CoverageInput): CoverageFigures {
   const { cropGeometry, zoneMask } = input;
+  if (!(input.boundaryErrorMm >= 0)) {
+    throw new RangeError(`boundaryErrorMm must be 0 or more, got ${input.boundaryErrorMm}`);
+  }
   const voxelMl = voxelVolumeMl(cropGeometry);
   const tumours: TumourCoverage[] = [];
   const marginSamples: TumourMarginSamples[] = [];
   for (const tumour of input.tumours) {
-    const figures = tumourFigures(input, tumour);
+    const tally = tallyTumourSurface(
+      {
+        cropGeometry,
+        cropLabels: input.cropLabels,
+        labelValue: tumour.labelValue,
+        extent: tumour.extent,
+      },
+      zoneMask,
+      input.zoneSurface,
+      input.marginTargetMm,
+    );
     tumours.push({
       structureId: tumour.structureId,
       ...(tumour.label === undefined ? {} : { label: tumour.label }),
-      volumeMl: figures.voxelCount * voxelMl,
-      coveredPercent: figures.voxelCount === 0 ? 0 : (100 * figures.covered) / figures.voxelCount,
-      minimalMarginMm: figures.minimalMarginMm,
+      volumeMl: tally.voxelCount * voxelMl,
+      coveredPercent: tally.voxelCount === 0 ? 0 : (100 * tally.covered) / tally.voxelCount,
+      minimalMarginMm: tally.minimalMarginMm,
+      minimalMarginLowerMm: tally.widenedMinimalMarginMm - input.boundaryErrorMm,
       surfaceBelowTargetPercent:
-        figures.surfaceMarginsMm.length === 0
-          ? 0
-          : (100 * figures.surfaceBelowTarget) / figures.surfaceMarginsMm.length,
+        tally.surfaceAreaMm2 === 0 ? 0 : (100 * tally.belowTargetAreaMm2) / tally.surfaceAreaMm2,
     });
     marginSamples.push({
       structureId: tumour.structureId,
       model: input.model,
-      lps: figures.surfaceLps,
-      marginMm: figures.surfaceMarginsMm,
+      lps: tally.surfaceLps,
+      marginMm: tally.surfaceMarginsMm,
     });
   }
   const collateralCounts = new Float64Array(256);
@@ -108,73 +125,13 @@ export function assessCoverage(input: CoverageInput): CoverageFigures {
     .filter((code) => !TREATED_KINDS.has(code) && collateralCounts[code] > 0)
     .map((code) => ({ kind: kindOfCode(code), volumeMl: collateralCounts[code] * voxelMl }));
   return {
-    zone: { model: input.model, volumeMl: zoneVoxels * voxelMl, tumours, collateral },
+    zone: {
+      model: input.model,
+      boundaryErrorMm: input.boundaryErrorMm,
+      volumeMl: zoneVoxels * voxelMl,
+      tumours,
+      collateral,
+    },
     marginSamples,
-  };
-}
-
-interface TumourTally {
-  voxelCount: number;
-  covered: number;
-  minimalMarginMm: number;
-  surfaceBelowTarget: number;
-  surfaceLps: Float32Array;
-  surfaceMarginsMm: Float32Array;
-}
-
-function tumourFigures(input: CoverageInput, tumour: CoverageTumour): TumourTally {
-  const { cropGeometry, cropLabels, zoneMask, zoneField } = input;
-  const [nx, ny, nz] = cropGeometry.dimensions;
-  const slab = nx * ny;
-  const label = tumour.labelValue;
-  const low = tumour.extent.min.map((value) => Math.max(0, Math.floor(value)));
-  const high = tumour.extent.max.map((value, axis) =>
-    Math.min(cropGeometry.dimensions[axis] - 1, Math.ceil(value)),
-  );
-  let voxelCount = 0;
-  let covered = 0;
-  let minimalMarginMm = Infinity;
-  let surfaceBelowTarget = 0;
-  const surfaceLps: number[] = [];
-  const surfaceMargins: number[] = [];
-  for (let k = low[2]; k <= high[2]; k++) {
-    for (let j = low[1]; j <= high[1]; j++) {
-      for (let i = low[0]; i <= high[0]; i++) {
-        const index = i + nx * (j + ny * k);
-        if (cropLabels[index] !== label) continue;
-        if (fieldIndex(zoneField, i, j, k) < 0) {
-          throw new RangeError(`tumour ${tumour.structureId} reaches beyond the zone field`);
-        }
-        voxelCount++;
-        if (zoneMask[index] !== 0) covered++;
-        const marginMm = marginAt(zoneField, i, j, k);
-        if (marginMm < minimalMarginMm) minimalMarginMm = marginMm;
-        const isSurface =
-          i === 0 ||
-          j === 0 ||
-          k === 0 ||
-          i === nx - 1 ||
-          j === ny - 1 ||
-          k === nz - 1 ||
-          cropLabels[index - 1] !== label ||
-          cropLabels[index + 1] !== label ||
-          cropLabels[index - nx] !== label ||
-          cropLabels[index + nx] !== label ||
-          cropLabels[index - slab] !== label ||
-          cropLabels[index + slab] !== label;
-        if (!isSurface) continue;
-        surfaceLps.push(...voxelToLps(cropGeometry, [i, j, k]));
-        surfaceMargins.push(marginMm);
-        if (marginMm < input.marginTargetMm) surfaceBelowTarget++;
-      }
-    }
-  }
-  return {
-    voxelCount,
-    covered,
-    minimalMarginMm,
-    surfaceBelowTarget,
-    surfaceLps: Float32Array.from(surfaceLps),
-    surfaceMarginsMm: Float32Array.from(surfaceMargins),
   };
 }

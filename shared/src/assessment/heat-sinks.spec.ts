@@ -3,11 +3,11 @@ import { euclideanDistanceTransform } from '../geometry/distance-transform';
 import { halfVoxelDiagonalMm } from '../geometry/path-clearance';
 import { voxelCount, type VolumeGeometry } from '../geometry/patient-geometry';
 import { dot, normalize, subtract, type Vec3 } from '../geometry/vector';
-import { rasteriseEllipsoids, tableZoneEllipsoid } from './ellipsoid-zone';
+import { tableZoneEllipsoid } from './ellipsoid-zone';
 import { findHeatSinks } from './heat-sinks';
 import { kindCode } from './label-inventory';
-import { vesselDiameters } from './vessel-calibre';
-import { maskExtent, zoneSignedField } from './zone-field';
+import { vesselCalibre } from './vessel-calibre';
+import { ellipsoidZoneSurface } from './zone-surface';
 
 const spacingMm: Vec3 = [0.8, 0.8, 2];
 const geometry: VolumeGeometry = {
@@ -51,11 +51,15 @@ function tubes(list: { code: number; radiusMm: number; through: Vec3; axis: Vec3
   return codes;
 }
 
-function diametersOf(codes: Uint8Array, code: number): Float32Array {
+function calibreOf(codes: Uint8Array, code: number) {
   const mask = Uint8Array.from(codes, (value) => (value === code ? 1 : 0));
   const outside = Uint8Array.from(mask, (value) => 1 - value);
   const inside = euclideanDistanceTransform(outside, geometry.dimensions, spacingMm);
-  return vesselDiameters(mask, inside, geometry.dimensions, spacingMm);
+  return vesselCalibre(mask, inside, geometry.dimensions, spacingMm);
+}
+
+function diametersOf(codes: Uint8Array, code: number): Float32Array {
+  return calibreOf(codes, code).diametersMm;
 }
 
 describe('vesselDiameters', () => {
@@ -112,22 +116,20 @@ describe('findHeatSinks', () => {
     zoneWidthMm: 2 * zoneRadiusMm,
     tipOffsetMm: 0,
   });
-  const zoneMask = rasteriseEllipsoids([zone], geometry);
   const codes = tubes([
     { code: VEIN, radiusMm: 2.5, through: [18, 0, 0], axis: [0, 0, 1] },
     { code: PORTAL, radiusMm: 0.8, through: [0, 14, 0], axis: [0, 0.6, 0.8] },
   ]);
-  const extent = maskExtent(zoneMask, geometry.dimensions);
-  if (!extent) throw new Error('empty zone');
-  const zoneField = zoneSignedField(zoneMask, geometry, [extent], 12 + 4 * h);
+  const zoneSurface = ellipsoidZoneSurface([zone], geometry);
   const run = (heatSinkDistanceMm: number) =>
     findHeatSinks({
       cropGeometry: geometry,
       kindCodes: codes,
-      zoneField,
+      zoneSurface,
+      boundaryErrorMm: 0,
       vessels: [
-        { kind: 'hepatic-vein', diametersMm: diametersOf(codes, VEIN) },
-        { kind: 'portal-vein', diametersMm: diametersOf(codes, PORTAL) },
+        { kind: 'hepatic-vein', calibre: calibreOf(codes, VEIN) },
+        { kind: 'portal-vein', calibre: calibreOf(codes, PORTAL) },
       ],
       heatSinkDiameterMm: 3,
       heatSinkDistanceMm,
@@ -140,8 +142,16 @@ describe('findHeatSinks', () => {
     const [vein] = found;
     expect(vein.kind).toBe('hepatic-vein');
     expect(Math.abs(vein.diameterMm - 5)).toBeLessThanOrEqual(2 * h);
-    // Each voxelised surface lies within h of its analytic one (triangle inequality).
-    expect(Math.abs(vein.distanceMm - (18 - 2.5 - zoneRadiusMm))).toBeLessThanOrEqual(2 * h);
+    // Its calibre band holds the true 5 mm.
+    expect(vein.diameterLowerMm).toBeLessThanOrEqual(5);
+    expect(vein.diameterUpperMm).toBeGreaterThanOrEqual(5);
+    // The zone is read analytically and the vein's wall at the faces of its voxels, which lie
+    // within half a voxel of the true wall along the approach (here x, 0.8 mm); the bound
+    // (the wall a voxel nearer) never exceeds the true gap.
+    const gapMm = 18 - 2.5 - zoneRadiusMm;
+    expect(Math.abs(vein.distanceMm - gapMm)).toBeLessThanOrEqual(spacingMm[0] / 2);
+    expect(vein.distanceLowerMm).toBeLessThanOrEqual(gapMm);
+    expect(vein.isPossible).toBe(false);
   });
 
   it('leaves out a wide vessel farther than the distance', () => {
@@ -159,8 +169,9 @@ describe('findHeatSinks', () => {
     const found = findHeatSinks({
       cropGeometry: geometry,
       kindCodes: through,
-      zoneField,
-      vessels: [{ kind: 'hepatic-vein', diametersMm: diametersOf(through, VEIN) }],
+      zoneSurface,
+      boundaryErrorMm: 0,
+      vessels: [{ kind: 'hepatic-vein', calibre: calibreOf(through, VEIN) }],
       heatSinkDiameterMm: 3,
       heatSinkDistanceMm: 10,
     });

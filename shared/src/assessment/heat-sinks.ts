@@ -1,31 +1,40 @@
 /**
- * Heat-sink vessels beside an ablation zone: the parts of vessels of the
- * safety profile's heat-sink kinds whose local diameter (vessel-calibre.ts) reaches
- * `heatSinkDiameterMm` and whose wall lies within `heatSinkDistanceMm` of the zone's surface.
- * Flowing blood in veins of 3 mm and more cooled the zone in 73 % of cases, in none below
- * (Lu DSK et al., AJR 2002;178:47); "within about 10 mm of the zone" is a project default
- * after Lu. One entry per connected (26-neighbour) part of each kind: its largest local
- * diameter and its smallest wall-to-zone gap (zone-field.ts `gapToZoneAt`). Crop grid, mm.
+ * Heat-sink vessels beside an ablation zone: the parts of vessels of the safety profile's
+ * heat-sink kinds whose local diameter (vessel-calibre.ts) reaches `heatSinkDiameterMm` and
+ * whose wall lies within `heatSinkDistanceMm` of the zone's surface. Flowing blood in veins of
+ * 3 mm and more cooled the zone in 73 % of cases, in none below (Lu DSK et al., AJR
+ * 2002;178:47); "within about 10 mm of the zone" is a project default after Lu.
+ *
+ * Both figures carry their uncertainty, and a vessel that meets the rule only within it is
+ * listed too, as possible (`isPossible`): the calibre band (the diameters of a round vessel
+ * that could give the same reading on this grid), and the gap measured from the faces of the
+ * vessel's voxels to the zone's surface (zone-surface.ts) with its lower bound — the wall up to
+ * a voxel nearer, the zone's surface up to its model's boundary error farther out. One entry
+ * per connected (26-neighbour) part of each kind: its largest diameter and band, its smallest
+ * gap and bound. Crop grid, millimetres.
  */
 import type { HeatSinkVessel } from '../api/assessments';
 import type { StructureKind } from '../api/structures';
 import type { VolumeGeometry } from '../geometry/patient-geometry';
 import { kindCode } from './label-inventory';
-import { gapToZoneAt, type ZoneField } from './zone-field';
+import { calibreBandAt, type VesselCalibre } from './vessel-calibre';
+import type { ZoneSurface } from './zone-surface';
 
 export interface HeatSinkInput {
   cropGeometry: VolumeGeometry;
   /** Kind code of every crop voxel. */
   kindCodes: Uint8Array;
-  /** The zone's signed field; only vessels within its box are considered. */
-  zoneField: ZoneField;
-  /** Local diameters (mm, NaN off the vessel) on the crop, for each heat-sink kind present. */
-  vessels: readonly { kind: StructureKind; diametersMm: Float32Array }[];
+  /** The zone's surface; only vessel voxels where it can be read are considered. */
+  zoneSurface: ZoneSurface;
+  /** How far the zone model's surface may lie from where it is read, mm (≥ 0). */
+  boundaryErrorMm: number;
+  /** The calibre of each heat-sink kind present on the crop. */
+  vessels: readonly { kind: StructureKind; calibre: VesselCalibre }[];
   heatSinkDiameterMm: number;
   heatSinkDistanceMm: number;
 }
 
-/** The heat-sink vessels, nearest first (then widest). */
+/** The heat-sink vessels, certain and possible, nearest first (then widest). */
 export function findHeatSinks(input: HeatSinkInput): HeatSinkVessel[] {
   const found: HeatSinkVessel[] = [];
   for (const vessel of input.vessels) found.push(...heatSinksOfKind(input, vessel));
@@ -34,61 +43,104 @@ export function findHeatSinks(input: HeatSinkInput): HeatSinkVessel[] {
 
 function heatSinksOfKind(
   input: HeatSinkInput,
-  vessel: { kind: StructureKind; diametersMm: Float32Array },
+  vessel: { kind: StructureKind; calibre: VesselCalibre },
 ): HeatSinkVessel[] {
-  const [nx, ny] = input.cropGeometry.dimensions;
-  const { box } = input.zoneField;
-  const [bx, by, bz] = box.size;
-  const [x0, y0, z0] = box.start;
+  const [nx, ny, nz] = input.cropGeometry.dimensions;
+  const { calibre } = vessel;
+  const thresholdMm = input.heatSinkDiameterMm;
   const code = kindCode(vessel.kind);
-  // Gap to the zone of each qualifying voxel of the box, NaN for the others.
-  const gapsMm = new Float32Array(bx * by * bz).fill(NaN);
-  for (let z = 0; z < bz; z++) {
-    for (let y = 0; y < by; y++) {
-      for (let x = 0; x < bx; x++) {
-        const crop = x0 + x + nx * (y0 + y + ny * (z0 + z));
-        if (input.kindCodes[crop] !== code) continue;
-        if (!(vessel.diametersMm[crop] >= input.heatSinkDiameterMm)) continue;
-        const gapMm = gapToZoneAt(input.zoneField, x0 + x, y0 + y, z0 + z);
-        if (gapMm <= input.heatSinkDistanceMm) gapsMm[x + bx * (y + by * z)] = gapMm;
+  const bands = new Map<number, ReturnType<typeof calibreBandAt>>();
+  const bandOf = (voxel: number) => {
+    const source = calibre.sourceOf[voxel] >= 0 ? calibre.sourceOf[voxel] : voxel;
+    let band = bands.get(source);
+    if (!band) {
+      band = calibreBandAt(calibre, source);
+      bands.set(source, band);
+    }
+    return band;
+  };
+  // Candidates: voxels whose diameter comes within the coarse reading's error (2h, at least
+  // the width of any calibre band above the nominal) of the threshold, and whose wall may lie
+  // within the distance. Their bands are read per part below, from its widest reading.
+  const slackMm = 2 * calibre.halfDiagonalMm;
+  // Per crop voxel: 0 not a candidate, 1 a candidate, 2 a candidate meeting the rule nominally.
+  const state = new Uint8Array(nx * ny * nz);
+  const gapsMm = new Float32Array(state.length);
+  const gapsLowerMm = new Float32Array(state.length);
+  const candidates: number[] = [];
+  let index = 0;
+  for (let k = 0; k < nz; k++) {
+    for (let j = 0; j < ny; j++) {
+      for (let i = 0; i < nx; i++, index++) {
+        if (input.kindCodes[index] !== code) continue;
+        const diameterMm = calibre.diametersMm[index];
+        if (!(diameterMm >= thresholdMm - slackMm)) continue;
+        if (!input.zoneSurface.covers(i, j, k)) continue;
+        // The gap from the voxel's cell, and from the cell widened by a voxel, to the zone.
+        const { marginMm, cellReachMm } = input.zoneSurface.centreReading(i, j, k);
+        const gapLowerMm = Math.max(0, -(marginMm + 3 * cellReachMm) - input.boundaryErrorMm);
+        if (gapLowerMm > input.heatSinkDistanceMm) continue;
+        const gapMm = Math.max(0, -(marginMm + cellReachMm));
+        const isNominal = diameterMm >= thresholdMm && gapMm <= input.heatSinkDistanceMm;
+        state[index] = isNominal ? 2 : 1;
+        gapsMm[index] = gapMm;
+        gapsLowerMm[index] = gapLowerMm;
+        candidates.push(index);
       }
     }
   }
-  const seen = new Uint8Array(gapsMm.length);
+  const seen = new Uint8Array(state.length);
   const parts: HeatSinkVessel[] = [];
-  const queue = new Int32Array(gapsMm.length);
-  for (let start = 0; start < gapsMm.length; start++) {
-    if (seen[start] !== 0 || Number.isNaN(gapsMm[start])) continue;
-    let diameterMm = 0;
-    let distanceMm = Infinity;
-    let head = 0;
-    let tail = 0;
-    queue[tail++] = start;
+  for (const start of candidates) {
+    if (seen[start] !== 0) continue;
+    const part: HeatSinkVessel = {
+      kind: vessel.kind,
+      diameterMm: 0,
+      diameterLowerMm: 0,
+      diameterUpperMm: 0,
+      distanceMm: Infinity,
+      distanceLowerMm: Infinity,
+      isPossible: true,
+    };
+    const queue = [start];
     seen[start] = 1;
-    while (head < tail) {
-      const at = queue[head++];
-      const x = at % bx;
-      const y = Math.floor(at / bx) % by;
-      const z = Math.floor(at / (bx * by));
-      const crop = x0 + x + nx * (y0 + y + ny * (z0 + z));
-      diameterMm = Math.max(diameterMm, vessel.diametersMm[crop]);
-      distanceMm = Math.min(distanceMm, gapsMm[at]);
+    let widest = start;
+    const sources = new Set<number>();
+    while (queue.length > 0) {
+      const at = queue.pop() as number;
+      if (calibre.diametersMm[at] > calibre.diametersMm[widest]) widest = at;
+      sources.add(calibre.sourceOf[at] >= 0 ? calibre.sourceOf[at] : at);
+      part.diameterMm = Math.max(part.diameterMm, calibre.diametersMm[at]);
+      part.distanceMm = Math.min(part.distanceMm, gapsMm[at]);
+      part.distanceLowerMm = Math.min(part.distanceLowerMm ?? Infinity, gapsLowerMm[at]);
+      if (state[at] === 2) part.isPossible = false;
+      const x = at % nx;
+      const y = Math.floor(at / nx) % ny;
+      const z = Math.floor(at / (nx * ny));
       for (let dz = -1; dz <= 1; dz++) {
         for (let dy = -1; dy <= 1; dy++) {
           for (let dx = -1; dx <= 1; dx++) {
             const xx = x + dx;
             const yy = y + dy;
             const zz = z + dz;
-            if (xx < 0 || yy < 0 || zz < 0 || xx >= bx || yy >= by || zz >= bz) continue;
-            const next = xx + bx * (yy + by * zz);
-            if (seen[next] !== 0 || Number.isNaN(gapsMm[next])) continue;
+            if (xx < 0 || yy < 0 || zz < 0 || xx >= nx || yy >= ny || zz >= nz) continue;
+            const next = xx + nx * (yy + ny * zz);
+            if (seen[next] !== 0 || state[next] === 0) continue;
             seen[next] = 1;
-            queue[tail++] = next;
+            queue.push(next);
           }
         }
       }
     }
-    parts.push({ kind: vessel.kind, diameterMm, distanceMm });
+    // The part's band: from the lower end of its widest reading (the one that gives its
+    // nominal diameter) to the highest upper end of all its readings.
+    part.diameterLowerMm = Math.min(bandOf(widest).lowerMm, part.diameterMm);
+    let upperMm = part.diameterMm;
+    for (const source of sources) upperMm = Math.max(upperMm, bandOf(source).upperMm);
+    part.diameterUpperMm = upperMm;
+    // Neither a heat sink by its nominal figures nor within their bands: not listed.
+    if (part.isPossible && part.diameterUpperMm < thresholdMm) continue;
+    parts.push(part);
   }
   return parts;
 }

@@ -2,7 +2,13 @@
  * The verdict: the safety profile's rules applied to the assessment's figures,
  * each reason naming its rule, the kind concerned, the value against the threshold and a
  * message with units. Any refusal makes the plan not acceptable; otherwise any caution makes
- * it acceptable with cautions. The thresholds, and where they come from, belong to the editable
+ * it acceptable with cautions.
+ *
+ * Figures read from the label map carry a conservative bound (clearances, margins, the
+ * parenchyma before the tumour, heat-sink calibre and gap). Each rule is judged on the nominal
+ * value first, as before; where the nominal value meets the rule but the bound does not, the
+ * rule gives a caution saying the figure cannot be confirmed at this slice thickness, with
+ * both values and the threshold (`bound` holds the bounding value). Never silent. The thresholds, and where they come from, belong to the editable
  * safety profile (safety-profiles.ts); nothing here is a clinical decision — the treating team,
  * local protocols and licensed practice decide (`clinicalCaution`).
  */
@@ -11,45 +17,23 @@ import type {
   HeatSinkVessel,
   Verdict,
   VerdictReason,
-  VerdictSeverity,
   ZoneAssessment,
   ZoneModel,
 } from '../api/assessments';
 import type { SafetyProfileBody } from '../api/safety-profiles';
-import { structureKindLabels, type StructureKind } from '../api/structures';
-import { tumourName } from './tumour-label';
+import type { StructureKind } from '../api/structures';
+import {
+  applicatorName,
+  cannotBeConfirmed,
+  degrees,
+  kindName,
+  mm,
+  type UnconfirmedFigure,
+} from './verdict-words';
+import { verdictRules } from './verdict-rules';
+import { coverageReasons, heatSinkReasons } from './verdict-zone-reasons';
 
-/** The rules and their identifiers in `VerdictReason.rule`. */
-export const verdictRules = {
-  /** A critical kind lies on the path: refusal. */
-  criticalTraversal: 'critical-traversal',
-  /** The path passes closer to a kind than its minimum clearance: caution. */
-  clearance: 'clearance',
-  /** … closer than half the minimum to a critical kind: refusal. */
-  criticalClearance: 'critical-clearance',
-  /** The path is longer than the applicator's working length: refusal. */
-  workingLength: 'working-length',
-  /** The path is steeper from the axial plane than the maximum: caution. */
-  angulation: 'angulation',
-  /** The path crosses the liver surface more often than the maximum: caution. */
-  capsuleCrossings: 'capsule-crossings',
-  /** Less parenchyma than the minimum before the tumour: caution. */
-  parenchymaBeforeTumour: 'parenchyma-before-tumour',
-  /** Part of a tumour lies outside the zone: refusal. */
-  tumourCoverage: 'tumour-coverage',
-  /** The minimal ablative margin is below the profile's minimum: refusal. */
-  marginMinimum: 'margin-minimum',
-  /** … at or above the minimum but below the target: caution. */
-  marginTarget: 'margin-target',
-  /** A heat-sink vessel lies beside the zone: caution. */
-  heatSink: 'heat-sink',
-  /** No tumour structure was found to assess coverage against: caution. */
-  coverageNotAssessed: 'coverage-not-assessed',
-  /** Part of the path lies beyond the series, unchecked: caution. */
-  pathBeyondSeries: 'path-beyond-series',
-  /** A zone reaches the edge of the grid it was computed on, its figures cut short: caution. */
-  zoneCut: 'zone-cut',
-} as const;
+export { verdictRules };
 
 /** What the verdict weighs. */
 export interface VerdictFigures {
@@ -83,19 +67,7 @@ export function judgePlan(figures: VerdictFigures, profile: SafetyProfileBody): 
     }
   });
   reasons.push(...coverageReasons(figures.zone, profile));
-  for (const vessel of figures.heatSinks) {
-    reasons.push({
-      rule: verdictRules.heatSink,
-      kind: vessel.kind,
-      value: vessel.diameterMm,
-      threshold: profile.heatSinkDiameterMm,
-      severity: 'caution',
-      message:
-        `A ${kindName(vessel.kind)} ${mm(vessel.diameterMm)} wide lies ${mm(vessel.distanceMm)} ` +
-        `from the ${figures.zone.model} zone (heat sink: at least ${mm(profile.heatSinkDiameterMm)}` +
-        ` within ${mm(profile.heatSinkDistanceMm)}; ${profile.heatSinkSource}).`,
-    });
-  }
+  reasons.push(...heatSinkReasons(figures.heatSinks, figures.zone.model, profile));
   for (const model of figures.cutZoneModels) {
     reasons.push({
       rule: verdictRules.zoneCut,
@@ -144,21 +116,58 @@ function trajectoryReasons(
   for (const clearance of applicator.clearances) {
     const rule = ruleOf.get(clearance.kind);
     if (!rule || rule.minimumClearanceMm <= 0 || criticalTraversed.has(clearance.kind)) continue;
-    if (clearance.minDistanceMm >= rule.minimumClearanceMm) continue;
-    const isRefusal = rule.isCritical && clearance.minDistanceMm < rule.minimumClearanceMm / 2;
-    reasons.push({
-      rule: isRefusal ? verdictRules.criticalClearance : verdictRules.clearance,
-      kind: clearance.kind,
-      value: clearance.minDistanceMm,
-      threshold: isRefusal ? rule.minimumClearanceMm / 2 : rule.minimumClearanceMm,
-      severity: isRefusal ? 'refusal' : 'caution',
-      message:
-        `${name} passes ${mm(clearance.minDistanceMm)} from the ${kindName(clearance.kind)} ` +
-        `(${mm(clearance.atMm)} from the entry); the safety profile asks for at least ` +
-        `${mm(rule.minimumClearanceMm)}` +
-        (isRefusal ? `, and a critical kind may not be approached within half of it` : '') +
-        ` (${rule.source}).`,
+    const distanceMm = clearance.minDistanceMm;
+    const boundMm = Math.min(distanceMm, clearance.lowerBoundMm ?? distanceMm);
+    const minimumMm = rule.minimumClearanceMm;
+    const unconfirmed = (requirement: string): UnconfirmedFigure => ({
+      figure: `${name}'s clearance to the ${kindName(clearance.kind)}`,
+      nominal: distanceMm,
+      bound: boundMm,
+      allowance: 'its surface a voxel nearer than labelled',
+      requirement,
+      source: rule.source,
     });
+    if (distanceMm < minimumMm) {
+      const isRefusal = rule.isCritical && distanceMm < minimumMm / 2;
+      reasons.push({
+        rule: isRefusal ? verdictRules.criticalClearance : verdictRules.clearance,
+        kind: clearance.kind,
+        value: distanceMm,
+        bound: boundMm,
+        threshold: isRefusal ? minimumMm / 2 : minimumMm,
+        severity: isRefusal ? 'refusal' : 'caution',
+        message:
+          `${name} passes ${mm(distanceMm)} from the ${kindName(clearance.kind)} ` +
+          `(${mm(clearance.atMm)} from the entry${boundMm < distanceMm ? `; as little as ${mm(boundMm)} allowing its surface a voxel nearer` : ''}); ` +
+          `the safety profile asks for at least ${mm(minimumMm)}` +
+          (isRefusal ? `, and a critical kind may not be approached within half of it` : '') +
+          ` (${rule.source}).`,
+      });
+    } else if (boundMm < minimumMm) {
+      reasons.push({
+        rule: verdictRules.clearance,
+        kind: clearance.kind,
+        value: distanceMm,
+        bound: boundMm,
+        threshold: minimumMm,
+        severity: 'caution',
+        message: cannotBeConfirmed(unconfirmed(`a clearance of at least ${mm(minimumMm)}`)),
+      });
+    }
+    // A critical kind's half-minimum rule, met by the nominal clearance but not by its bound.
+    if (rule.isCritical && distanceMm >= minimumMm / 2 && boundMm < minimumMm / 2) {
+      reasons.push({
+        rule: verdictRules.criticalClearance,
+        kind: clearance.kind,
+        value: distanceMm,
+        bound: boundMm,
+        threshold: minimumMm / 2,
+        severity: 'caution',
+        message: cannotBeConfirmed(
+          unconfirmed(`keeping a critical kind beyond half its minimum, ${mm(minimumMm / 2)},`),
+        ),
+      });
+    }
   }
   if (applicator.pathLengthMm > applicator.workingLengthMm) {
     reasons.push({
@@ -198,108 +207,43 @@ function trajectoryReasons(
     });
   }
   const parenchymaMm = applicator.parenchymaBeforeTumourMm;
-  if (parenchymaMm !== null && parenchymaMm < profile.minimumParenchymaBeforeTumourMm) {
-    reasons.push({
-      rule: verdictRules.parenchymaBeforeTumour,
-      kind: 'liver',
-      value: parenchymaMm,
-      threshold: profile.minimumParenchymaBeforeTumourMm,
-      severity: 'caution',
-      message:
-        `${name} crosses ${mm(parenchymaMm)} of liver parenchyma before the tumour; the ` +
-        `safety profile asks for at least ${mm(profile.minimumParenchymaBeforeTumourMm)} ` +
-        `(${profile.parenchymaSource}).`,
-    });
-  }
-  return reasons;
-}
-
-function coverageReasons(zone: ZoneAssessment, profile: SafetyProfileBody): VerdictReason[] {
-  if (zone.tumours.length === 0) {
-    return [
-      {
-        rule: verdictRules.coverageNotAssessed,
-        kind: 'tumour',
-        value: 0,
-        threshold: 1,
+  const parenchymaMinimumMm = profile.minimumParenchymaBeforeTumourMm;
+  if (parenchymaMm !== null) {
+    const boundMm = Math.min(
+      parenchymaMm,
+      applicator.parenchymaBeforeTumourLowerMm ?? parenchymaMm,
+    );
+    if (parenchymaMm < parenchymaMinimumMm) {
+      reasons.push({
+        rule: verdictRules.parenchymaBeforeTumour,
+        kind: 'liver',
+        value: parenchymaMm,
+        bound: boundMm,
+        threshold: parenchymaMinimumMm,
         severity: 'caution',
         message:
-          'No tumour structure is labelled on the series: coverage and margins were not assessed.',
-      },
-    ];
-  }
-  const reasons: VerdictReason[] = [];
-  zone.tumours.forEach((tumour, index) => {
-    // By its lesion, as the board names it; results without labels by their order.
-    const name =
-      tumour.label !== undefined
-        ? tumourName(tumour.label)
-        : zone.tumours.length === 1
-          ? 'The tumour'
-          : `Tumour ${index + 1}`;
-    if (tumour.coveredPercent < 100) {
+          `${name} crosses ${mm(parenchymaMm)} of liver parenchyma before the tumour; the ` +
+          `safety profile asks for at least ${mm(parenchymaMinimumMm)} ` +
+          `(${profile.parenchymaSource}).`,
+      });
+    } else if (boundMm < parenchymaMinimumMm) {
       reasons.push({
-        rule: verdictRules.tumourCoverage,
-        kind: 'tumour',
-        value: tumour.coveredPercent,
-        threshold: 100,
-        severity: 'refusal',
-        message:
-          `${name} is ${uncoveredPercent(tumour.coveredPercent)} covered by the ${zone.model} ` +
-          `zone (${tumour.volumeMl.toFixed(2)} mL); part of it lies outside.`,
+        rule: verdictRules.parenchymaBeforeTumour,
+        kind: 'liver',
+        value: parenchymaMm,
+        bound: boundMm,
+        threshold: parenchymaMinimumMm,
+        severity: 'caution',
+        message: cannotBeConfirmed({
+          figure: `The liver parenchyma ${name.replace(/^The /, 'the ')} crosses before the tumour`,
+          nominal: parenchymaMm,
+          bound: boundMm,
+          allowance: 'the liver and tumour surfaces a voxel off along the path',
+          requirement: `at least ${mm(parenchymaMinimumMm)}`,
+          source: profile.parenchymaSource,
+        }),
       });
     }
-    const severity: VerdictSeverity | null =
-      tumour.minimalMarginMm < profile.marginMinimumMm
-        ? 'refusal'
-        : tumour.minimalMarginMm < profile.marginTargetMm
-          ? 'caution'
-          : null;
-    if (severity === null) return;
-    const isRefusal = severity === 'refusal';
-    reasons.push({
-      rule: isRefusal ? verdictRules.marginMinimum : verdictRules.marginTarget,
-      kind: 'tumour',
-      value: tumour.minimalMarginMm,
-      threshold: isRefusal ? profile.marginMinimumMm : profile.marginTargetMm,
-      severity,
-      message:
-        `${name}: minimal ablative margin ${mm(tumour.minimalMarginMm)} in the ${zone.model} ` +
-        `zone, ${percent(tumour.surfaceBelowTargetPercent)} of its surface under the ` +
-        `${mm(profile.marginTargetMm)} target; the safety profile ` +
-        (isRefusal
-          ? `refuses margins under ${mm(profile.marginMinimumMm)} (${profile.marginMinimumSource}).`
-          : `aims at ${mm(profile.marginTargetMm)} (${profile.marginTargetSource}).`),
-    });
-  });
-  return reasons;
-}
-
-function applicatorName(index: number, count: number): string {
-  return count === 1 ? 'The applicator' : `Applicator ${index + 1}`;
-}
-
-function kindName(kind: StructureKind): string {
-  return structureKindLabels[kind].toLowerCase();
-}
-
-function mm(value: number): string {
-  return `${value.toFixed(1)} mm`;
-}
-
-function degrees(value: number): string {
-  return `${value.toFixed(1)}°`;
-}
-
-function percent(value: number): string {
-  return `${value.toFixed(1)} %`;
-}
-
-/** A coverage short of 100 % never reads "100.0 %": as many decimals as it takes, up to 3. */
-function uncoveredPercent(value: number): string {
-  for (let digits = 1; digits <= 3; digits++) {
-    const text = value.toFixed(digits);
-    if (Number(text) < 100) return `${text} %`;
   }
-  return '> 99.999 %';
+  return reasons;
 }

@@ -126,11 +126,23 @@ export function gapToZoneAt(field: ZoneField, i: number, j: number, k: number): 
 
 /** Σ|uₐ|·wₐ/2 for the direction u of the field's gradient at a box voxel (see the top). */
 function cellReachMm(field: ZoneField, index: number): number {
+  const [wi, wj, wk] = field.spacingMm;
+  const unit = unitGradient(field, index);
+  if (unit === null) return Math.hypot(wi, wj, wk) / 2;
+  return (Math.abs(unit[0]) * wi + Math.abs(unit[1]) * wj + Math.abs(unit[2]) * wk) / 2;
+}
+
+/**
+ * Unit direction (grid axes i, j, k) in which the signed field grows at a box voxel, from
+ * central differences (one-sided at the box's faces or beside an infinite value); null where
+ * it vanishes (a ridge) or cannot be read.
+ */
+export function unitGradient(field: ZoneField, index: number): Vec3 | null {
   const [bx, by, bz] = field.box.size;
   const strides = [1, bx, bx * by];
   const position = [index % bx, Math.floor(index / bx) % by, Math.floor(index / (bx * by))];
   const extents = [bx, by, bz];
-  const gradient = [0, 0, 0];
+  const gradient: Vec3 = [0, 0, 0];
   for (let axis = 0; axis < 3; axis++) {
     const stride = strides[axis];
     const hasLow = position[axis] > 0 && Number.isFinite(field.signedMm[index - stride]);
@@ -142,10 +154,6 @@ function cellReachMm(field: ZoneField, index: number): number {
     gradient[axis] = steps === 0 ? 0 : (high - low) / (steps * field.spacingMm[axis]);
   }
   const length = Math.hypot(gradient[0], gradient[1], gradient[2]);
-  const [wi, wj, wk] = field.spacingMm;
-  if (!(length > 1e-6) || !Number.isFinite(length)) return Math.hypot(wi, wj, wk) / 2;
-  return (
-    (Math.abs(gradient[0]) * wi + Math.abs(gradient[1]) * wj + Math.abs(gradient[2]) * wk) /
-    (2 * length)
-  );
+  if (!(length > 1e-6) || !Number.isFinite(length)) return null;
+  return [gradient[0] / length, gradient[1] / length, gradient[2] / length];
 }

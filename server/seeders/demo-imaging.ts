@@ -110,12 +110,24 @@ export async function seedDemoImaging(
     settings: settings.structures,
     store: labelMapStore(settings.structures),
   });
-  await structures.importFile(
+  const imported = await structures.importFile(
     presenter,
     actor,
     series.id,
     generated.labelMapNiftiGz,
     JSON.stringify(generated.labels),
   );
+  // The presenter confirms the lesion the import suggested for each tumour (the invented CT's
+  // tumours are those of the case's Summary), so that the demo names tumours by lesion.
+  for (const structure of imported.structures) {
+    if (structure.kind !== 'tumour' || !structure.lesionId) continue;
+    await new StructuresService(em.fork(), {
+      settings: settings.structures,
+      store: labelMapStore(settings.structures),
+    }).update(presenter, actor, structure.id, {
+      lesionId: structure.lesionId,
+      isLesionConfirmed: true,
+    });
+  }
   return true;
 }

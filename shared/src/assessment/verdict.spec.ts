@@ -287,3 +287,170 @@ describe('judgePlan', () => {
     expect(verdict.reasons.map((reason) => reason.severity).sort()).toEqual(['caution', 'refusal']);
   });
 });
+
+describe('judgePlan: figures whose bound misses a rule their nominal value meets', () => {
+  // Each rule is judged on the nominal figure first; where that passes but the figure's
+  // conservative bound (the labelled surfaces a voxel off) does not, a caution says so — the
+  // rule's threshold lies inside the figure's band (safety profile contract; values invented).
+  it('cautions a clearance that meets the minimum only by its nominal value', () => {
+    const verdict = judged({
+      applicators: [
+        applicator({
+          clearances: [{ kind: 'gallbladder', minDistanceMm: 10.4, lowerBoundMm: 5.4, atMm: 30 }],
+        }),
+      ],
+    });
+    expect(verdict.level).toBe('acceptable-with-cautions');
+    expect(verdict.reasons).toHaveLength(1);
+    expect(verdict.reasons[0]).toMatchObject({
+      rule: verdictRules.clearance,
+      kind: 'gallbladder',
+      value: 10.4,
+      bound: 5.4,
+      threshold: 10,
+      severity: 'caution',
+    });
+    const { message } = verdict.reasons[0];
+    expect(message).toContain('10.4 mm');
+    expect(message).toContain('5.4 mm');
+    expect(message).toContain('at least 10.0 mm cannot be confirmed at this slice thickness');
+    expect(message).toContain('source G');
+  });
+
+  it('stays silent when the bound meets the minimum too', () => {
+    const verdict = judged({
+      applicators: [
+        applicator({
+          clearances: [{ kind: 'gallbladder', minDistanceMm: 12, lowerBoundMm: 10.2, atMm: 30 }],
+        }),
+      ],
+    });
+    expect(verdict.reasons).toEqual([]);
+  });
+
+  it('keeps the bound on a clearance under the minimum, and words it', () => {
+    const verdict = judged({
+      applicators: [
+        applicator({
+          clearances: [{ kind: 'gallbladder', minDistanceMm: 8, lowerBoundMm: 6.4, atMm: 30 }],
+        }),
+      ],
+    });
+    expect(verdict.reasons[0]).toMatchObject({ value: 8, bound: 6.4, severity: 'caution' });
+    expect(verdict.reasons[0].message).toContain('as little as 6.4 mm');
+  });
+
+  it('cautions a critical kind whose half-minimum holds only by the nominal clearance', () => {
+    // Hepatic artery, minimum 5 mm, critical: nominal 3 mm is a caution (under 5 mm, not under
+    // 2.5 mm); its bound of 1.8 mm could break the half-minimum rule: a second caution, not a
+    // refusal.
+    const verdict = judged({
+      applicators: [
+        applicator({
+          clearances: [{ kind: 'hepatic-artery', minDistanceMm: 3, lowerBoundMm: 1.8, atMm: 55 }],
+        }),
+      ],
+    });
+    expect(verdict.level).toBe('acceptable-with-cautions');
+    expect(verdict.reasons.map((reason) => [reason.rule, reason.severity])).toEqual([
+      [verdictRules.clearance, 'caution'],
+      [verdictRules.criticalClearance, 'caution'],
+    ]);
+    expect(verdict.reasons[1]).toMatchObject({ value: 3, bound: 1.8, threshold: 2.5 });
+    expect(verdict.reasons[1].message).toContain('cannot be confirmed');
+  });
+
+  it('cautions parenchyma before the tumour that meets the minimum only nominally', () => {
+    const verdict = judged({
+      applicators: [
+        applicator({ parenchymaBeforeTumourMm: 11, parenchymaBeforeTumourLowerMm: 8.9 }),
+      ],
+    });
+    expect(verdict.reasons).toHaveLength(1);
+    expect(verdict.reasons[0]).toMatchObject({
+      rule: verdictRules.parenchymaBeforeTumour,
+      value: 11,
+      bound: 8.9,
+      threshold: 10,
+      severity: 'caution',
+    });
+    expect(verdict.reasons[0].message).toContain('cannot be confirmed at this slice thickness');
+  });
+
+  it('cautions a margin whose bound falls under the target, naming the zone model error', () => {
+    const verdict = judged({
+      zone: {
+        ...zone({ minimalMarginMm: 6, minimalMarginLowerMm: 3.5 }),
+        boundaryErrorMm: 1.2,
+      },
+    });
+    expect(verdict.reasons).toHaveLength(1);
+    expect(verdict.reasons[0]).toMatchObject({
+      rule: verdictRules.marginTarget,
+      value: 6,
+      bound: 3.5,
+      threshold: 5,
+      severity: 'caution',
+    });
+    expect(verdict.reasons[0].message).toContain('boundary error of 1.2 mm');
+    expect(verdict.reasons[0].message).toContain('the margin target of 5.0 mm cannot be confirmed');
+  });
+
+  it('cautions, never refuses, a margin whose bound falls under the minimum', () => {
+    // Nominal 3 mm: under the 5 mm target (caution, as before); bound −0.5 mm under the 0 mm
+    // minimum: a caution that the minimum cannot be confirmed, not a refusal.
+    const verdict = judged({ zone: zone({ minimalMarginMm: 3, minimalMarginLowerMm: -0.5 }) });
+    expect(verdict.level).toBe('acceptable-with-cautions');
+    expect(verdict.reasons.map((reason) => [reason.rule, reason.severity])).toEqual([
+      [verdictRules.marginTarget, 'caution'],
+      [verdictRules.marginMinimum, 'caution'],
+    ]);
+    expect(verdict.reasons[1].message).toContain(
+      'the minimal margin of 0.0 mm cannot be confirmed',
+    );
+  });
+
+  it('cautions a possible heat sink whose calibre band straddles the threshold', () => {
+    const verdict = judged({
+      heatSinks: [
+        {
+          kind: 'portal-vein',
+          diameterMm: 2.8,
+          diameterLowerMm: 2.5,
+          diameterUpperMm: 3.3,
+          distanceMm: 4,
+          distanceLowerMm: 3.2,
+          isPossible: true,
+        },
+      ],
+    });
+    expect(verdict.reasons).toHaveLength(1);
+    expect(verdict.reasons[0]).toMatchObject({
+      rule: verdictRules.heatSink,
+      value: 2.8,
+      bound: 3.3,
+      threshold: 3,
+      severity: 'caution',
+    });
+    expect(verdict.reasons[0].message).toContain('calibre cannot be confirmed');
+    expect(verdict.reasons[0].message).toContain('2.5 mm to 3.3 mm');
+  });
+
+  it('cautions a possible heat sink whose gap is within the distance only by its bound', () => {
+    const verdict = judged({
+      heatSinks: [
+        {
+          kind: 'hepatic-vein',
+          diameterMm: 5,
+          diameterLowerMm: 4.6,
+          diameterUpperMm: 5.3,
+          distanceMm: 11,
+          distanceLowerMm: 9.1,
+          isPossible: true,
+        },
+      ],
+    });
+    expect(verdict.reasons[0].message).toContain('distance cannot be confirmed');
+    expect(verdict.reasons[0].message).toContain('as little as 9.1 mm');
+  });
+});

@@ -11,6 +11,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
 import {
+  CALIBRATION_MODEL_VERSION,
   decodeAssessmentDisplay,
   type ApplicatorProfileView,
   type AssessmentView,
@@ -26,6 +27,7 @@ import {
   startAssessmentRuntime,
   type AssessmentRuntime,
 } from '../../server/src/modules/assessments/assessment-runtime';
+import { ApplicatorProfileVersion } from '../../server/src/modules/plans/applicator-profile-version.entity';
 import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
 import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
 import { setEnvironment } from './imaging-fixtures';
@@ -210,6 +212,22 @@ describe('assessing the demo plans of the sample case', () => {
       expect(calibration?.toleranceMm).toBe(2);
       expect(calibration?.isWithinTolerance).toBe(false);
       expect(calibration?.isImplausible).toBe(true);
+      expect(calibration?.profileVersion).toBe(profile.version);
+      expect(calibration?.profileName).toBe(profile.name);
+    }
+  });
+
+  it('stores each profile version’s calibration once, for every later run to reuse', async () => {
+    for (const plan of plans) {
+      const { profile } = rowOf(plan);
+      const version = await testApp.orm.em
+        .fork()
+        .findOneOrFail(ApplicatorProfileVersion, { profile: profile.id, version: profile.version });
+      const reported = assessed
+        .get(plan.id)
+        ?.result?.calibrations?.find((entry) => entry.profileId === profile.id);
+      expect(version.calibration?.modelVersion).toBe(CALIBRATION_MODEL_VERSION);
+      expect(version.calibration?.rmsResidualMm).toBeCloseTo(reported?.rmsResidualMm ?? NaN, 9);
     }
   });
 

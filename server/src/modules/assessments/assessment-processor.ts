@@ -9,6 +9,7 @@ import type { MikroORM } from '@mikro-orm/postgresql';
 import {
   EngineRefusal,
   type ApplicatorCalibration,
+  type AssessmentResult,
   type AssessmentSnapshot,
 } from '@emberline/shared';
 import type { FileStore } from '../imaging/file-store';
@@ -78,7 +79,9 @@ export function assessmentProcessor(dependencies: ProcessorDependencies) {
         log('A fitted calibration was not stored.', error),
       );
       if (output.display) await dependencies.displays.write(assessment.id, output.display);
-      await finishAssessment(orm, assessment.id, 'done', { result: output.result });
+      await finishAssessment(orm, assessment.id, 'done', {
+        result: withProfileVersions(output.result, snapshot),
+      });
     } catch (error) {
       const isRefusal = error instanceof EngineRefusal || error instanceof LabelMapGoneError;
       const isLastAttempt = job.retryCount >= dependencies.retryLimit;
@@ -133,7 +136,10 @@ async function loadCalibrations(
   return found;
 }
 
-/** Stores a calibration the run fitted on its profile version (once: the first one stays). */
+/**
+ * Stores a calibration the run fitted on its profile version: where none is stored, or where
+ * the stored one belongs to an earlier version of the heating model (the worker refits those).
+ */
 async function saveCalibrations(
   orm: MikroORM,
   snapshot: AssessmentSnapshot,
@@ -143,12 +149,32 @@ async function saveCalibrations(
   for (const { profileId, calibration } of fitted) {
     const profile = snapshot.applicatorProfiles.find((item) => item.id === profileId);
     if (!profile) continue;
-    await em.nativeUpdate(
-      ApplicatorProfileVersion,
-      { profile: profileId, version: profile.version, calibration: null },
-      { calibration },
-    );
+    const version = await em.findOne(ApplicatorProfileVersion, {
+      profile: profileId,
+      version: profile.version,
+    });
+    if (!version) continue;
+    if (version.calibration?.modelVersion === calibration.modelVersion) continue;
+    version.calibration = calibration;
   }
+  await em.flush();
+}
+
+/** The result with each calibration named by the profile version it was fitted to. */
+function withProfileVersions(
+  result: AssessmentResult,
+  snapshot: AssessmentSnapshot,
+): AssessmentResult {
+  if (!result.calibrations) return result;
+  return {
+    ...result,
+    calibrations: result.calibrations.map((calibration) => {
+      const profile = snapshot.applicatorProfiles.find((item) => item.id === calibration.profileId);
+      return profile
+        ? { ...calibration, profileVersion: profile.version, profileName: profile.name }
+        : calibration;
+    }),
+  };
 }
 
 async function saveProgress(

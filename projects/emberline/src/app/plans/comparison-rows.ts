@@ -100,16 +100,18 @@ export function comparisonGroups(
     rows: [
       {
         key: 'heat-sinks',
-        label: 'Heat-sink vessels (diameter mm; distance to the zone mm)',
+        label:
+          'Heat-sink vessels (diameter mm, with the range of calibres it could be; distance to ' +
+          'the zone mm, with the least it could be)',
         direction: null,
         cells: results.map((result) => ({
           type: 'list',
           emptyText: 'None found',
           items: result.heatSinks.map((vessel) => ({
             text:
-              `${structureKindLabels[vessel.kind]}: ${formatFigure(vessel.diameterMm, 1, 'mm')} ` +
-              `wide, ${formatFigure(vessel.distanceMm, 1, 'mm')} from the zone`,
-            flag: '',
+              `${structureKindLabels[vessel.kind]}: ${withBand(vessel)} wide, ` +
+              `${withBound(vessel.distanceMm, vessel.distanceLowerMm)} from the zone`,
+            flag: vessel.isPossible ? 'Possible: unconfirmed at this slice thickness' : '',
           })),
         })),
       },
@@ -204,14 +206,14 @@ function applicatorGroup(
     ),
     {
       key: 'parenchyma',
-      label: 'Liver parenchyma before the tumour (mm)',
+      label: `Liver parenchyma before the tumour (mm; ${boundWords})`,
       direction: null,
       cells: applicators.map((applicator) => {
         if (!applicator) return missing;
         const lengthMm = applicator.parenchymaBeforeTumourMm;
         return lengthMm === null
           ? absent('The path meets no tumour')
-          : figure(lengthMm, formatFigure(lengthMm, 1, 'mm'));
+          : figure(lengthMm, withBound(lengthMm, applicator.parenchymaBeforeTumourLowerMm));
       }),
     },
   ];
@@ -219,7 +221,8 @@ function applicatorGroup(
     rows.push(
       ranked(
         `clearance-${kind}`,
-        `Nearest clearance, ${structureKindLabels[kind].toLowerCase()} (mm; at mm along the path)`,
+        `Nearest clearance, ${structureKindLabels[kind].toLowerCase()} ` +
+          `(mm; ${boundWords}; at mm along the path)`,
         figureDirections.clearanceMm,
         1,
         applicators.map((applicator) => {
@@ -228,7 +231,7 @@ function applicatorGroup(
           if (!clearance) return absent('Not in the assessed region');
           return {
             value: clearance.minDistanceMm,
-            text: formatFigure(clearance.minDistanceMm, 1, 'mm'),
+            text: withBound(clearance.minDistanceMm, clearance.lowerBoundMm),
             note: `at ${formatFigure(clearance.atMm, 1, 'mm')} along the path`,
           };
         }),
@@ -283,11 +286,15 @@ function zoneGroup(
     const cellsOf = (
       pick: (tumour: NonNullable<(typeof tumours)[number]>) => number,
       unit: string,
+      pickBound?: (tumour: NonNullable<(typeof tumours)[number]>) => number | undefined,
     ) =>
       tumours.map((tumour) => {
         if (tumour === undefined) return notComputed;
         if (tumour === null) return absent('Not treated by this plan');
-        return { value: pick(tumour), text: formatFigure(pick(tumour), 1, unit) };
+        const text = pickBound
+          ? withBound(pick(tumour), pickBound(tumour), unit)
+          : formatFigure(pick(tumour), 1, unit);
+        return { value: pick(tumour), text };
       });
     rows.push(
       ranked(
@@ -299,10 +306,14 @@ function zoneGroup(
       ),
       ranked(
         `margin-${structureId}`,
-        `${name}: minimal ablative margin (mm)`,
+        `${name}: minimal ablative margin (mm; ${boundWords} and the zone model's)`,
         figureDirections.minimalMarginMm,
         1,
-        cellsOf((tumour) => tumour.minimalMarginMm, 'mm'),
+        cellsOf(
+          (tumour) => tumour.minimalMarginMm,
+          'mm',
+          (tumour) => tumour.minimalMarginLowerMm,
+        ),
       ),
       ranked(
         `below-target-${structureId}`,
@@ -357,6 +368,29 @@ function ranked(
         : { ...figure(input.value, input.text, input.note), isBest: best.has(index) },
     ),
   };
+}
+
+/** How a row's label explains the bracketed bound of its figures. */
+const boundWords = 'in brackets the least it could be, allowing a voxel of error';
+
+/**
+ * A figure read from the label map with its conservative bound: "8.0 mm (≥ 6.4 mm)". The
+ * bracket is left out where the bound is missing (results from before bounds) or reads the
+ * same as the figure.
+ */
+export function withBound(value: number, bound: number | null | undefined, unit = 'mm'): string {
+  const text = formatFigure(value, 1, unit);
+  if (bound === null || bound === undefined) return text;
+  const boundText = formatFigure(bound, 1, unit);
+  return boundText === text ? text : `${text} (≥ ${boundText})`;
+}
+
+/** A vessel's calibre with its band: "3.1 mm (2.6 to 3.5 mm)". */
+function withBand(vessel: AssessmentResult['heatSinks'][number]): string {
+  const text = formatFigure(vessel.diameterMm, 1, 'mm');
+  const { diameterLowerMm: lower, diameterUpperMm: upper } = vessel;
+  if (lower === undefined || upper === undefined) return text;
+  return `${text} (${formatFigure(lower, 1, '')} to ${formatFigure(upper, 1, 'mm')})`;
 }
 
 function figure(value: number, text: string, note = ''): FigureCell {

@@ -134,10 +134,14 @@ describe('PlanComparison', () => {
     expect(await path.getDirection()).toBe('Smaller is better');
 
     const clearance = await comparison.getRow({ key: 'clearance-portal-vein' });
-    expect(await clearance.getLabel()).toContain('Nearest clearance, portal vein (mm; at mm');
+    // Each clearance shows its conservative bound in brackets (engine 1.1.0); plan B's result
+    // has none, as results from before bounds.
+    expect(await clearance.getLabel()).toContain(
+      'Nearest clearance, portal vein (mm; in brackets the least it could be',
+    );
     expect(await clearance.getBestColumns()).toEqual([0]);
     const [clearanceA, clearanceB] = await clearance.getCellTexts();
-    expect(clearanceA).toContain('Better value: 12.4 mm at 60.2 mm along the path');
+    expect(clearanceA).toContain('Better value: 12.4 mm (≥ 11.6 mm) at 60.2 mm along the path');
     expect(clearanceB).toBe('3.1 mm at 71.5 mm along the path');
   });
 
@@ -149,7 +153,7 @@ describe('PlanComparison', () => {
 
   it('ranks a negative margin below a positive one and prints a true minus sign', async () => {
     const margin = await comparison.getRow({ key: `margin-${tumourId}` });
-    expect(await margin.getLabel()).toContain('Tumour segment VIII: minimal ablative margin (mm)');
+    expect(await margin.getLabel()).toContain('Tumour segment VIII: minimal ablative margin (mm;');
     expect(await margin.getBestColumns()).toEqual([0]);
     expect((await margin.getCellTexts())[1]).toBe('\u22122.4 mm');
   });

@@ -42,22 +42,26 @@ describe('live clearance figures', () => {
     ]);
   });
 
-  it('reads 3 mm from a path passing three voxels beside a vessel voxel in-plane', () => {
-    // The path runs along i at j = 13, k = 5: the nearest point (12, 13, 5) lies 3 mm from the
-    // vessel voxel centre (12, 10, 5) — point-to-line distance, by hand. Samples every 0.5 mm
-    // hit x = 12 exactly, a voxel centre, where the interpolated field is exact.
+  it('reads 2.5 mm from a path passing three voxels beside a vessel voxel in-plane', () => {
+    // The path runs along i at j = 13, k = 5, 3 mm from the vessel voxel centre (12, 10, 5)
+    // and 2.5 mm from its cell's face at y = 10.5 mm (point-to-box distance, by hand): the
+    // assessment's measure, to the faces. The nearest stretch runs over x = 11.5 … 12.5 mm;
+    // the first point is given. The bound, the cell a voxel wider (y = 11.5 mm), is 1.5 mm.
     const figures = pathFigures([field('portal-vein')], [2, 13, 10], [22, 13, 10]);
     const vessel = figures.clearances[0];
-    expect(vessel.clearanceMm).toBeCloseTo(3, 5);
-    expect(vessel.nearestLps?.[0]).toBeCloseTo(12, 5);
+    expect(vessel.clearanceMm).toBeCloseTo(2.5, 9);
+    expect(vessel.lowerBoundMm).toBeCloseTo(1.5, 9);
+    expect(vessel.nearestLps?.[0]).toBeCloseTo(11.5, 9);
     expect(vessel.insideMm).toBe(0);
     expect(figures.lengthMm).toBeCloseTo(20, 12);
   });
 
-  it('counts the slice spacing across slices: two slices away is 4 mm at 2 mm a slice', () => {
-    // Path along i at j = 10, k = 7 (z = 14 mm): the vessel centre is at z = 10 mm.
+  it('counts the slice spacing across slices: two slices above is 3 mm to the top face', () => {
+    // Path along i at j = 10, k = 7 (z = 14 mm): the vessel centre is at z = 10 mm, its cell's
+    // top face at 11 mm (2 mm slices): 3 mm; a slice thicker, 1 mm.
     const vessel = pathFigures([field('portal-vein')], [2, 10, 14], [22, 10, 14]).clearances[0];
-    expect(vessel.clearanceMm).toBeCloseTo(4, 5);
+    expect(vessel.clearanceMm).toBeCloseTo(3, 9);
+    expect(vessel.lowerBoundMm).toBeCloseTo(1, 9);
   });
 
   it('measures the length a path runs inside a structure', () => {
@@ -68,9 +72,9 @@ describe('live clearance figures', () => {
     expect(Math.abs(tumour.insideMm - 5)).toBeLessThanOrEqual(0.5);
   });
 
-  it('says "beyond reach" rather than a wrong figure when the path passes outside the field', () => {
-    // A 2 mm padding keeps the vessel's field to x 10…14, y 8…12, z 8…12 (voxels 4…6); a
-    // path 8 mm away never enters it.
+  it('says "beyond reach" rather than a figure when the path keeps farther than the padding', () => {
+    // With a 2 mm padding, a path 7.5 mm from the vessel voxel's face (y = 10.5 mm, path at
+    // y = 18 mm) reads "more than 2 mm".
     const vessel = pathFigures([field('portal-vein', 2)], [0, 18, 10], [23, 18, 10]).clearances[0];
     expect(vessel.isBeyondReach).toBe(true);
     expect(vessel.clearanceMm).toBeNull();

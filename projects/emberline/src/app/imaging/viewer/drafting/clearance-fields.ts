@@ -1,17 +1,18 @@
 /**
- * Live clearance of a drafted path: one exact distance field per structure kind, from the
- * series' label map, computed with the shared distance transform (the server's own code), then
- * read along the path with the shared path-clearance functions. Pure: runs in a Web Worker or,
- * failing one, on the page.
+ * Live clearance of a drafted path, measured as the assessment measures it (the server's own
+ * code, shared/src/geometry/cell-distance.ts): per structure kind its boundary voxels, packed
+ * once from the series' label map, and for each path the exact distance to the faces of the
+ * kind's voxels with its conservative bound (the voxels a voxel wider). Pure: runs in a Web
+ * Worker or, failing one, on the page.
  */
 import {
+  boundaryVoxelsOfMask,
   boxGeometry,
-  euclideanDistanceTransform,
   lengthInsideMask,
-  pathClearance,
+  packCells,
+  segmentApproachToCells,
   voxelCount,
   vector3,
-  type DistanceField,
   type StructureKind,
   type Vec3,
   type VolumeGeometry,
@@ -19,11 +20,9 @@ import {
 } from '@emberline/shared';
 
 /**
- * Each kind's field covers the structure's bounding box widened by this much (mm) on every
- * side, clipped to the grid. Inside it the field is exact (every voxel of the kind lies in the
- * box); a point outside it is farther than this from the structure, so a path reaching no
- * closer reads "more than 30 mm". Clearance rules of the trade lie well below it (common
- * practice: 5–10 mm).
+ * A path no closer than this to a kind (mm) reads "more than 30 mm": the figures list what a
+ * path must avoid, and clearance rules of the trade lie well below it (common practice:
+ * 5–10 mm).
  */
 export const fieldPaddingMm = 30;
 
@@ -61,8 +60,8 @@ export function labelValuesByKind(
 
 export interface KindField {
   kind: StructureKind;
-  /** Exact distance (mm) to the kind's nearest voxel centre, on the padded box. */
-  field: DistanceField;
+  /** The kind's boundary voxels on `maskGeometry`, packed for `segmentApproachToCells`. */
+  cells: Int32Array;
   /** The kind's voxels on their tight bounding box, to measure the length run inside. */
   mask: Uint8Array;
   maskGeometry: VolumeGeometry;
@@ -98,22 +97,6 @@ function boundingBox(
   };
 }
 
-function paddedBox(box: VoxelBox, geometry: VolumeGeometry, paddingMm: number): VoxelBox {
-  const start: [number, number, number] = [0, 0, 0];
-  const size: [number, number, number] = [0, 0, 0];
-  for (let axis = 0; axis < 3; axis++) {
-    const pad = Math.ceil(paddingMm / geometry.spacingMm[axis]);
-    const first = Math.max(0, box.start[axis] - pad);
-    const last = Math.min(
-      geometry.dimensions[axis] - 1,
-      box.start[axis] + box.size[axis] - 1 + pad,
-    );
-    start[axis] = first;
-    size[axis] = last - first + 1;
-  }
-  return { start, size };
-}
-
 function cropMask(
   labels: Uint8Array | Uint16Array,
   dimensions: Readonly<[number, number, number]>,
@@ -134,7 +117,7 @@ function cropMask(
 }
 
 /**
- * The distance field of one kind (its label values), or null when no voxel carries them.
+ * The measuring aids of one kind (its label values), or null when no voxel carries them.
  * `labels` is the series' label map (index i + nx·(j + ny·k)) on `geometry`.
  */
 export function kindField(
@@ -153,17 +136,12 @@ export function kindField(
   for (const value of labelValues) isOfKind[value] = 1;
   const tight = boundingBox(labels, geometry.dimensions, isOfKind);
   if (!tight) return null;
-  const box = paddedBox(tight, geometry, paddingMm);
-  // The transform reads the mask on the whole grid and computes on the box only.
-  const wholeMask = new Uint8Array(labels.length);
-  for (let index = 0; index < labels.length; index++) wholeMask[index] = isOfKind[labels[index]];
-  const valuesMm = euclideanDistanceTransform(wholeMask, geometry.dimensions, geometry.spacingMm, {
-    box,
-  });
+  // Every voxel of the kind lies in its tight box: the box's grid measures them all.
+  const mask = cropMask(labels, geometry.dimensions, isOfKind, tight);
   return {
     kind,
-    field: { valuesMm, geometry: boxGeometry(geometry, box) },
-    mask: cropMask(labels, geometry.dimensions, isOfKind, tight),
+    cells: packCells(boundaryVoxelsOfMask(mask, tight.size), tight.size),
+    mask,
     maskGeometry: boxGeometry(geometry, tight),
     paddingMm,
     computeMs: now() - started,
@@ -172,8 +150,13 @@ export function kindField(
 
 export interface KindClearance {
   kind: StructureKind;
-  /** Closest approach of the path to the kind, mm; null when beyond `paddingMm`. */
+  /**
+   * Closest approach of the path to the faces of the kind's voxels, mm (0 where it enters
+   * them); null when beyond `paddingMm`.
+   */
   clearanceMm: number | null;
+  /** The least it could be, the kind's surface a voxel nearer than labelled, mm; null with it. */
+  lowerBoundMm: number | null;
   /** True when the path comes no closer than `paddingMm` (the field's reach). */
   isBeyondReach: boolean;
   paddingMm: number;
@@ -189,18 +172,24 @@ export function kindClearance(
   entryLps: Readonly<Vec3>,
   targetLps: Readonly<Vec3>,
 ): KindClearance {
-  const reading = pathClearance(field.field, entryLps, targetLps);
-  const minimum = reading.minimumDistanceMm;
-  // Samples off the box lie farther than the padding: a reading above it is not the minimum.
-  const isBeyondReach =
-    minimum === null || (reading.samplesOutsideField > 0 && minimum > field.paddingMm);
+  const approach = segmentApproachToCells(field.maskGeometry, field.cells, entryLps, targetLps);
+  const insideMm = lengthInsideMask(field.mask, field.maskGeometry, entryLps, targetLps);
+  const isBeyondReach = approach === null || approach.distanceMm > field.paddingMm;
+  const lengthMm = vector3.distance(entryLps, targetLps);
+  const along = approach && lengthMm > 0 ? approach.atMm / lengthMm : 0;
+  // A path running wholly inside the kind never meets a boundary voxel's cell from outside.
+  const isInside = insideMm > 0;
   return {
     kind: field.kind,
-    clearanceMm: isBeyondReach ? null : minimum,
-    isBeyondReach,
+    clearanceMm: isInside ? 0 : isBeyondReach ? null : approach.distanceMm,
+    lowerBoundMm: isInside ? 0 : isBeyondReach ? null : approach.lowerBoundMm,
+    isBeyondReach: !isInside && isBeyondReach,
     paddingMm: field.paddingMm,
-    nearestLps: isBeyondReach ? null : reading.minimumAtLps,
-    insideMm: lengthInsideMask(field.mask, field.maskGeometry, entryLps, targetLps),
+    nearestLps:
+      isBeyondReach || !approach
+        ? null
+        : vector3.addScaled(entryLps, vector3.subtract(targetLps, entryLps), along),
+    insideMm,
   };
 }
 

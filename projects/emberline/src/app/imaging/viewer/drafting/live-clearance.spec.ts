@@ -41,12 +41,13 @@ describe('LiveClearance without a worker', () => {
     });
     await until(replies, 'fields-ready');
     expect(replies.map((reply) => reply.type)).toEqual(['kind-ready', 'fields-ready']);
-    // A path along i at j = 13, k = 2 passes 5 mm from the vessel voxel centre.
+    // A path along i at j = 13, k = 2 passes 5 mm from the vessel voxel's centre, 4.5 mm from
+    // its face (y = 8.5 mm): the clearance is measured to the faces, as the assessment does.
     clearance.measure([{ entryLps: [0, 13, 2], targetLps: [15, 13, 2] }]);
     await until(replies, 'figures');
     const figures = replies.find((reply) => reply.type === 'figures');
     expect(figures?.type === 'figures' && figures.figures[0].clearances[0].clearanceMm).toBeCloseTo(
-      5,
+      4.5,
       5,
     );
     clearance.dispose();
@@ -75,8 +76,9 @@ describe('LiveClearance without a worker', () => {
         reply.type === 'figures' ? reply.figures[0].clearances[0].clearanceMm : null,
       );
     expect(answered.length).toBe(2);
-    expect(answered[0]).toBeCloseTo(5, 5);
-    expect(answered[1]).toBeCloseTo(3, 5);
+    // To the vessel voxel's face at y = 8.5 mm: from j = 13, 4.5 mm; from j = 11, 2.5 mm.
+    expect(answered[0]).toBeCloseTo(4.5, 5);
+    expect(answered[1]).toBeCloseTo(2.5, 5);
     clearance.dispose();
   });
 });

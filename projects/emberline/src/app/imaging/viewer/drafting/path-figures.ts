@@ -49,8 +49,9 @@ import type { PathFigures } from './clearance-fields';
         </tbody>
       </table>
       <p class="em-note">
-        Distances to voxel centres of the label map, exact distance transform; within half a voxel
-        diagonal ({{ halfDiagonalMm() | number: '1.1-1' }} mm) of the structure's surface.
+        Distances to the faces of the label map's voxels, as the assessment measures them; in
+        brackets the least each could be if the structure's surface lay a voxel nearer than labelled
+        (up to a voxel diagonal, {{ 2 * halfDiagonalMm() | number: '1.1-1' }} mm).
         @if (totalMs() !== null) {
           Fields computed in {{ (totalMs() ?? 0) / 1000 | number: '1.1-1' }} s.
         }
@@ -142,7 +143,12 @@ export class PathFiguresPanel {
           text = `more than ${entry.paddingMm} mm`;
           order = entry.paddingMm + 1;
         } else {
-          text = `${entry.clearanceMm.toFixed(1)} mm`;
+          const bound = entry.lowerBoundMm?.toFixed(1);
+          const nominal = entry.clearanceMm.toFixed(1);
+          text =
+            bound === undefined || bound === nominal
+              ? `${nominal} mm`
+              : `${nominal} mm (≥ ${bound} mm)`;
           order = entry.clearanceMm;
         }
       }

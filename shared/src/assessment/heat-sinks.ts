@@ -63,15 +63,22 @@ function heatSinksOfKind(
   // the width of any calibre band above the nominal) of the threshold, and whose wall may lie
   // within the distance. Their bands are read per part below, from its widest reading.
   const slackMm = 2 * calibre.halfDiagonalMm;
-  // Per crop voxel: 0 not a candidate, 1 a candidate, 2 a candidate meeting the rule nominally.
-  const state = new Uint8Array(nx * ny * nz);
-  const gapsMm = new Float32Array(state.length);
-  const gapsLowerMm = new Float32Array(state.length);
+  // The candidates (crop indices), each one's slot, and per slot its gaps and whether it meets
+  // the rule by its nominal figures.
   const candidates: number[] = [];
-  let index = 0;
-  for (let k = 0; k < nz; k++) {
-    for (let j = 0; j < ny; j++) {
-      for (let i = 0; i < nx; i++, index++) {
+  const slotOf = new Map<number, number>();
+  const gapsMm: number[] = [];
+  const gapsLowerMm: number[] = [];
+  const isNominal: boolean[] = [];
+  // A voxel whose cell, widened by a voxel, may lie within the distance of the zone's surface
+  // lies within that and a voxel diagonal and a half of it.
+  const { spacingMm } = input.cropGeometry;
+  const reachMm = input.heatSinkDistanceMm + 3 * Math.hypot(...spacingMm) + input.boundaryErrorMm;
+  const { min: low, max: high } = input.zoneSurface.voxelsWithin(reachMm);
+  for (let k = low[2]; k <= high[2]; k++) {
+    for (let j = low[1]; j <= high[1]; j++) {
+      for (let i = low[0]; i <= high[0]; i++) {
+        const index = i + nx * (j + ny * k);
         if (input.kindCodes[index] !== code) continue;
         const diameterMm = calibre.diametersMm[index];
         if (!(diameterMm >= thresholdMm - slackMm)) continue;
@@ -81,18 +88,18 @@ function heatSinksOfKind(
         const gapLowerMm = Math.max(0, -(marginMm + 3 * cellReachMm) - input.boundaryErrorMm);
         if (gapLowerMm > input.heatSinkDistanceMm) continue;
         const gapMm = Math.max(0, -(marginMm + cellReachMm));
-        const isNominal = diameterMm >= thresholdMm && gapMm <= input.heatSinkDistanceMm;
-        state[index] = isNominal ? 2 : 1;
-        gapsMm[index] = gapMm;
-        gapsLowerMm[index] = gapLowerMm;
+        slotOf.set(index, candidates.length);
         candidates.push(index);
+        gapsMm.push(gapMm);
+        gapsLowerMm.push(gapLowerMm);
+        isNominal.push(diameterMm >= thresholdMm && gapMm <= input.heatSinkDistanceMm);
       }
     }
   }
-  const seen = new Uint8Array(state.length);
+  const seen = new Uint8Array(candidates.length);
   const parts: HeatSinkVessel[] = [];
-  for (const start of candidates) {
-    if (seen[start] !== 0) continue;
+  for (let first = 0; first < candidates.length; first++) {
+    if (seen[first] !== 0) continue;
     const part: HeatSinkVessel = {
       kind: vessel.kind,
       diameterMm: 0,
@@ -102,18 +109,19 @@ function heatSinksOfKind(
       distanceLowerMm: Infinity,
       isPossible: true,
     };
-    const queue = [start];
-    seen[start] = 1;
-    let widest = start;
+    const queue = [first];
+    seen[first] = 1;
+    let widest = candidates[first];
     const sources = new Set<number>();
     while (queue.length > 0) {
-      const at = queue.pop() as number;
+      const slot = queue.pop() as number;
+      const at = candidates[slot];
       if (calibre.diametersMm[at] > calibre.diametersMm[widest]) widest = at;
       sources.add(calibre.sourceOf[at] >= 0 ? calibre.sourceOf[at] : at);
       part.diameterMm = Math.max(part.diameterMm, calibre.diametersMm[at]);
-      part.distanceMm = Math.min(part.distanceMm, gapsMm[at]);
-      part.distanceLowerMm = Math.min(part.distanceLowerMm ?? Infinity, gapsLowerMm[at]);
-      if (state[at] === 2) part.isPossible = false;
+      part.distanceMm = Math.min(part.distanceMm, gapsMm[slot]);
+      part.distanceLowerMm = Math.min(part.distanceLowerMm ?? Infinity, gapsLowerMm[slot]);
+      if (isNominal[slot]) part.isPossible = false;
       const x = at % nx;
       const y = Math.floor(at / nx) % ny;
       const z = Math.floor(at / (nx * ny));
@@ -124,19 +132,23 @@ function heatSinksOfKind(
             const yy = y + dy;
             const zz = z + dz;
             if (xx < 0 || yy < 0 || zz < 0 || xx >= nx || yy >= ny || zz >= nz) continue;
-            const next = xx + nx * (yy + ny * zz);
-            if (seen[next] !== 0 || state[next] === 0) continue;
+            const next = slotOf.get(xx + nx * (yy + ny * zz));
+            if (next === undefined || seen[next] !== 0) continue;
             seen[next] = 1;
             queue.push(next);
           }
         }
       }
     }
-    // The part's band: from the lower end of its widest reading (the one that gives its
-    // nominal diameter) to the highest upper end of all its readings.
-    part.diameterLowerMm = Math.min(bandOf(widest).lowerMm, part.diameterMm);
-    let upperMm = part.diameterMm;
-    for (const source of sources) upperMm = Math.max(upperMm, bandOf(source).upperMm);
+    // The part's band: that of its widest reading (the one that gives its nominal diameter);
+    // for a possible heat sink, up to the highest upper end of all its readings, since any of
+    // them reaching the threshold makes it one.
+    const band = bandOf(widest);
+    part.diameterLowerMm = Math.min(band.lowerMm, part.diameterMm);
+    let upperMm = Math.max(band.upperMm, part.diameterMm);
+    if (part.isPossible) {
+      for (const source of sources) upperMm = Math.max(upperMm, bandOf(source).upperMm);
+    }
     part.diameterUpperMm = upperMm;
     // Neither a heat sink by its nominal figures nor within their bands: not listed.
     if (part.isPossible && part.diameterUpperMm < thresholdMm) continue;

@@ -19,7 +19,8 @@
 import type { VolumeGeometry } from '../geometry/patient-geometry';
 import { spheroidDistance } from '../geometry/spheroid-distance';
 import { dot, type Vec3 } from '../geometry/vector';
-import type { EllipsoidZone } from './ellipsoid-zone';
+import { ellipsoidVoxelExtent, type EllipsoidZone } from './ellipsoid-zone';
+import type { VoxelExtent } from './voxel-extent';
 import { fieldIndex, marginAt, unitGradient, type ZoneField } from './zone-field';
 
 /** Readings of one zone's surface at the crop's voxels. */
@@ -40,6 +41,11 @@ export interface ZoneSurface {
   centreReading(i: number, j: number, k: number): { marginMm: number; cellReachMm: number };
   /** Whether the voxel lies where the surface can be read. */
   covers(i: number, j: number, k: number): boolean;
+  /**
+   * The crop voxels (inclusive index ranges, clamped to the crop) holding every point within
+   * `reachMm` of the zone: beyond them a voxel lies farther than that outside it.
+   */
+  voxelsWithin(reachMm: number): VoxelExtent;
 }
 
 /** The table zone, read analytically from its spheroids on the crop's grid. */
@@ -117,7 +123,33 @@ export function ellipsoidZoneSurface(
       return best;
     },
     covers: () => true,
+    voxelsWithin(reachMm) {
+      const extents = zones.map((zone) => ellipsoidVoxelExtent(zone, cropGeometry));
+      return clampedExtent(
+        [0, 1, 2].map((axis) => Math.min(...extents.map((extent) => extent.min[axis]))) as Vec3,
+        [0, 1, 2].map((axis) => Math.max(...extents.map((extent) => extent.max[axis]))) as Vec3,
+        reachMm,
+        cropGeometry,
+      );
+    },
   };
+}
+
+/** An extent (continuous indices) widened by `reachMm` and clamped to the grid's voxels. */
+function clampedExtent(
+  min: Readonly<Vec3>,
+  max: Readonly<Vec3>,
+  reachMm: number,
+  geometry: VolumeGeometry,
+): VoxelExtent {
+  const low: Vec3 = [0, 0, 0];
+  const high: Vec3 = [0, 0, 0];
+  for (let axis = 0; axis < 3; axis++) {
+    const pad = reachMm / geometry.spacingMm[axis];
+    low[axis] = Math.max(0, Math.floor(min[axis] - pad));
+    high[axis] = Math.min(geometry.dimensions[axis] - 1, Math.ceil(max[axis] + pad));
+  }
+  return { min: low, max: high };
 }
 
 /** A zone given as a mask, read from its signed field (zone-field.ts). */
@@ -155,5 +187,10 @@ export function maskZoneSurface(field: ZoneField): ZoneSurface {
       return { marginMm, cellReachMm: cellReachMm(inwards, 0.5) };
     },
     covers: (i, j, k) => fieldIndex(field, i, j, k) >= 0,
+    // Only the field's box can be read.
+    voxelsWithin: () => ({
+      min: [...field.box.start],
+      max: field.box.start.map((start, axis) => start + field.box.size[axis] - 1) as Vec3,
+    }),
   };
 }

@@ -40,8 +40,9 @@ beforeAll(async () => {
   admin = await request.newContext({ baseURL: baseUrl });
 });
 afterAll(async () => {
-  await admin.dispose();
-  await browser.close();
+  // Either may be missing when the set-up failed half way.
+  await admin?.dispose();
+  await browser?.close();
 });
 
 const card = (name: string) =>
@@ -112,7 +113,11 @@ describe('the plan comparison, its summary band, copies and earlier inputs', () 
       await page.getByLabel('Password', { exact: true }).fill('ember-demo-2026');
       await page.getByRole('button', { name: 'Sign in', exact: true }).click();
       await page.waitForURL(/\/cases/);
-      await page.getByText('NLB-2026-014').first().click();
+      // The register may re-render its rows once its query settles: follow the link's address
+      // rather than click a row that can be replaced under the pointer.
+      const link = page.getByRole('link', { name: 'NLB-2026-014', exact: true });
+      await link.waitFor({ timeout: 30_000 });
+      await page.goto(`${baseUrl}${(await link.getAttribute('href')) ?? ''}`);
       await page.waitForURL(/\/cases\/[0-9a-f-]{36}/);
       await page.getByRole('tab', { name: 'Plans' }).click();
       await card(demoPlans[0]).waitFor({ timeout: 30_000 });

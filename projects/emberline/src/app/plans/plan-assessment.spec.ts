@@ -2,7 +2,15 @@ import { provideHttpClient } from '@angular/common/http';
 import { HttpTestingController, provideHttpClientTesting } from '@angular/common/http/testing';
 import { provideZonelessChangeDetection, signal } from '@angular/core';
 import { TestBed, type ComponentFixture } from '@angular/core/testing';
-import type { AssessmentView, PlanView, WatchAcknowledgement } from '@emberline/shared';
+import type {
+  AssessmentView,
+  PlanView,
+  SafetyProfileView,
+  WatchAcknowledgement,
+} from '@emberline/shared';
+import { TestbedHarnessEnvironment } from '@angular/cdk/testing/testbed';
+import { MatSelectHarness } from '@angular/material/select/testing';
+import { safetyProfile } from './testing/comparison-fixtures';
 import { Subject } from 'rxjs';
 import { textOf } from '../../testing/dom';
 import { RealtimeSession, type RealtimeConnection } from '../core/realtime-session';
@@ -60,11 +68,19 @@ describe('PlanAssessment', () => {
     );
   }
 
-  async function open(canRequest: boolean, list: AssessmentView[]): Promise<void> {
+  async function open(
+    canRequest: boolean,
+    list: AssessmentView[],
+    profiles: SafetyProfileView[] = [safetyProfile(3)],
+  ): Promise<void> {
     fixture.componentRef.setInput('plan', plan);
     fixture.componentRef.setInput('canRequest', canRequest);
     TestBed.tick();
     http.expectOne(listUrl).flush(list);
+    // Only the presenter, who may request, is offered a choice of safety profile.
+    const profileReads = http.match('/api/safety-profiles');
+    expect(profileReads).toHaveLength(canRequest ? 1 : 0);
+    for (const read of profileReads) read.flush(profiles);
     await fixture.whenStable();
   }
 
@@ -102,6 +118,8 @@ describe('PlanAssessment', () => {
     requestButton()?.click();
     const request = http.expectOne(listUrl);
     expect(request.request.method).toBe('POST');
+    // No profile named: the server takes the default one.
+    expect(request.request.body).toEqual({});
     request.flush(assessment({}), { status: 202, statusText: 'Accepted' });
     await fixture.whenStable();
     expect(textOf(fixture)).toContain('Queued');
@@ -158,6 +176,32 @@ describe('PlanAssessment', () => {
     expect(
       (fixture.nativeElement as HTMLElement).querySelector('[data-earlier-inputs]'),
     ).toBeNull();
+  });
+
+  it('judges by the default safety profile unless the presenter chooses another', async () => {
+    const other: SafetyProfileView = {
+      ...safetyProfile(1),
+      id: 'e4c3f0a1-5d67-4f8e-a091-a2b324d5e6f7',
+      name: 'Invented stricter thresholds',
+      isDefault: false,
+    };
+    await open(true, [], [safetyProfile(3), other]);
+    const select = await TestbedHarnessEnvironment.loader(fixture).getHarness(MatSelectHarness);
+    expect(await select.getValueText()).toBe('Invented thresholds, version 3 (default)');
+    await select.open();
+    await select.clickOptions({ text: 'Invented stricter thresholds, version 1' });
+    requestButton()?.click();
+    const request = http.expectOne(listUrl);
+    expect(request.request.body).toEqual({ safetyProfileId: other.id });
+    request.flush(assessment({}), { status: 202, statusText: 'Accepted' });
+    await fixture.whenStable();
+    expect(textOf(fixture)).toContain('Queued');
+  });
+
+  it('offers no choice of safety profile when there is only one', async () => {
+    await open(true, []);
+    const loader = TestbedHarnessEnvironment.loader(fixture);
+    expect(await loader.getAllHarnesses(MatSelectHarness)).toHaveLength(0);
   });
 
   it('tells the refusal beside the button', async () => {

@@ -11,12 +11,15 @@ import {
   untracked,
 } from '@angular/core';
 import { MatButton } from '@angular/material/button';
+import { MatFormField, MatLabel } from '@angular/material/form-field';
 import { MatIcon } from '@angular/material/icon';
+import { MatOption, MatSelect } from '@angular/material/select';
 import type { AssessmentView, PlanView } from '@emberline/shared';
 import { problemMessage } from '../core/problem';
 import { AssessmentProgress } from './assessment-progress';
 import { EarlierInputsNotice } from './earlier-inputs-notice';
 import { PlanAssessments, isFinished } from './plan-assessments';
+import { SafetyProfileChoices } from './safety-profile-choices';
 import { VerdictBadge } from './verdict-badge';
 
 /**
@@ -26,7 +29,18 @@ import { VerdictBadge } from './verdict-badge';
  */
 @Component({
   selector: 'em-plan-assessment',
-  imports: [DatePipe, MatButton, MatIcon, AssessmentProgress, EarlierInputsNotice, VerdictBadge],
+  imports: [
+    DatePipe,
+    MatButton,
+    MatFormField,
+    MatIcon,
+    MatLabel,
+    MatOption,
+    MatSelect,
+    AssessmentProgress,
+    EarlierInputsNotice,
+    VerdictBadge,
+  ],
   templateUrl: './plan-assessment.html',
   styleUrl: './plan-assessment.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
@@ -55,6 +69,14 @@ export class PlanAssessment {
   protected readonly isClosed = computed(() =>
     ['selected', 'set-aside'].includes(this.plan().status),
   );
+  /**
+   * The safety profiles the presenter may judge the plan by (the default first); the choice
+   * shows only when there is more than one.
+   */
+  private readonly choices = inject(SafetyProfileChoices);
+  protected readonly profileChoices = this.choices.profiles;
+  /** The profile chosen; null: the default one. */
+  protected readonly chosenProfileId = signal<string | null>(null);
   protected readonly isRequesting = signal(false);
   protected readonly requestError = signal('');
   protected readonly requestNote = signal('');
@@ -64,6 +86,10 @@ export class PlanAssessment {
       const id = this.plan().id;
       untracked(() => this.assessments.load([id]));
     });
+    // Only the presenter, who may request, is offered a choice of safety profile.
+    effect(() => {
+      if (this.canRequest() && !this.isClosed()) untracked(() => this.choices.load());
+    });
   }
 
   protected request(): void {
@@ -71,7 +97,9 @@ export class PlanAssessment {
     this.isRequesting.set(true);
     this.requestError.set('');
     this.requestNote.set('');
-    this.assessments.request(this.plan().id).subscribe({
+    const chosen = this.chosenProfileId();
+    const body = chosen ? { safetyProfileId: chosen } : {};
+    this.assessments.request(this.plan().id, body).subscribe({
       next: (view) => {
         this.isRequesting.set(false);
         if (view.status === 'done' && view.id === before?.id) {

@@ -50,6 +50,8 @@ describe('PlansSection', () => {
     for (const request of http.match((candidate) => candidate.url.endsWith('/assessments'))) {
       request.flush([]);
     }
+    // The presenter's cards read the safety profiles to judge by.
+    for (const request of http.match('/api/safety-profiles')) request.flush([]);
     await fixture.whenStable();
   }
 
@@ -129,6 +131,7 @@ describe('PlansSection', () => {
     for (const read of http.match((candidate) => candidate.url.endsWith('/assessments'))) {
       read.flush([]);
     }
+    for (const read of http.match('/api/safety-profiles')) read.flush([]);
     await fixture.whenStable();
     const cards = Array.from(element.querySelectorAll<HTMLElement>('section[data-plan]'));
     expect(cards.map((card) => card.dataset['plan'])).toEqual(['plan-1', 'plan-2', 'plan-3']);

@@ -22,6 +22,7 @@ import { PlanApi } from './plan-api';
 import { PlanAssessment } from './plan-assessment';
 import { PlanAssessments } from './plan-assessments';
 import { PlanComparison } from './plan-comparison';
+import { SafetyProfileChoices } from './safety-profile-choices';
 
 /** Plans the presenter may copy as a new draft: those no longer open to edits. */
 const copiedStatuses: readonly PlanStatus[] = ['submitted', 'assessed', 'assessment-failed'];
@@ -77,6 +78,11 @@ export class PlansSection {
   protected readonly newDraftId = signal<string | null>(null);
   protected readonly copyNote = signal('');
   protected readonly copyError = signal('');
+
+  constructor() {
+    // Opening the section reads the safety profiles afresh when a card next asks for them.
+    inject(SafetyProfileChoices).forget();
+  }
 
   /** Entry-to-target length of an applicator, millimetres. */
   protected lengthMm(applicator: PlanView['applicators'][number]): number {

@@ -94,19 +94,30 @@ function drawLetters(
   sizePx: number,
   unit: number,
 ): void {
-  context.fillStyle = textColour;
-  context.font = `${11 * unit}px Roboto, sans-serif`;
+  const size = 11 * unit;
+  context.font = `${size}px Roboto, sans-serif`;
   const inset = 4 * unit;
-  context.textAlign = 'center';
-  context.textBaseline = 'top';
-  context.fillText(letters.top, sizePx / 2, inset);
-  context.textBaseline = 'bottom';
-  context.fillText(letters.bottom, sizePx / 2, sizePx - inset);
-  context.textBaseline = 'middle';
-  context.textAlign = 'left';
-  context.fillText(letters.left, inset, sizePx / 2);
-  context.textAlign = 'right';
-  context.fillText(letters.right, sizePx - inset, sizePx / 2);
+  // Each letter on a patch of the ground, so that an outline or the needle under it never
+  // hides it.
+  const letter = (text: string, centreX: number, centreY: number) => {
+    const width = context.measureText(text).width + 4 * unit;
+    const height = size + 2 * unit;
+    context.fillStyle = pictureGround;
+    context.fillRect(centreX - width / 2, centreY - height / 2, width, height);
+    context.fillStyle = textColour;
+    context.textAlign = 'center';
+    context.textBaseline = 'middle';
+    context.fillText(text, centreX, centreY);
+  };
+  const half = size / 2 + unit;
+  letter(letters.top, sizePx / 2, inset + half);
+  letter(letters.bottom, sizePx / 2, sizePx - inset - half);
+  letter(letters.left, inset + context.measureText(letters.left).width / 2 + 2 * unit, sizePx / 2);
+  letter(
+    letters.right,
+    sizePx - inset - context.measureText(letters.right).width / 2 - 2 * unit,
+    sizePx / 2,
+  );
 }
 
 /** A bar with end ticks above its length in words, in the bottom-left corner. */

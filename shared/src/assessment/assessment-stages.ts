@@ -44,17 +44,17 @@ export type TaskStage = keyof typeof taskStageLabels;
 
 /** Rough share of a table-only run's time (measured on the benchmark plan), summing to 1. */
 const TABLE_RUN_SHARES: Record<AssessmentStage, number> = {
-  inventory: 0.05,
+  inventory: 0.02,
   'zone-table': 0.01,
-  crop: 0.04,
-  'distance-fields': 0.45,
-  trajectory: 0.1,
-  'table-zone': 0.03,
-  vessels: 0.12,
+  crop: 0.03,
+  'distance-fields': 0.03,
+  trajectory: 0.02,
+  'table-zone': 0.01,
+  vessels: 0.44,
   'bioheat-zone': 0,
-  coverage: 0.12,
-  'heat-sinks': 0.05,
-  verdict: 0.03,
+  coverage: 0.13,
+  'heat-sinks': 0.3,
+  verdict: 0.01,
 };
 
 /** Share of the bioheat zone when it runs: the physics dominates everything else. */

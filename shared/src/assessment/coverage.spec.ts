@@ -5,8 +5,8 @@ import { addScaled, distance, normalize, type Vec3 } from '../geometry/vector';
 import { assessCoverage, type CoverageInput } from './coverage';
 import { rasteriseEllipsoids, tableZoneEllipsoid, type EllipsoidZone } from './ellipsoid-zone';
 import { kindCode } from './label-inventory';
-import { maskExtent } from './zone-field';
-import { ellipsoidZoneSurface } from './zone-surface';
+import { maskExtent, zoneSignedField } from './zone-field';
+import { ellipsoidZoneSurface, maskZoneSurface } from './zone-surface';
 
 const TUMOUR = 2;
 const GALLBLADDER = 8;
@@ -44,7 +44,12 @@ function paint(isInside: (pointLps: Vec3) => boolean, into: Uint8Array, value: n
   }
 }
 
-function coverageOf(labels: Uint8Array, zones: EllipsoidZone[], marginTargetMm: number) {
+function coverageOf(
+  labels: Uint8Array,
+  zones: EllipsoidZone[],
+  marginTargetMm: number,
+  readsMask = false,
+) {
   const zoneMask = rasteriseEllipsoids(zones, geometry);
   const kindCodes = Uint8Array.from(labels, (label) =>
     label === TUMOUR ? kindCode('tumour') : label === GALLBLADDER ? kindCode('gallbladder') : 0,
@@ -59,8 +64,12 @@ function coverageOf(labels: Uint8Array, zones: EllipsoidZone[], marginTargetMm: 
     cropLabels: labels,
     kindCodes,
     zoneMask,
-    zoneSurface: ellipsoidZoneSurface(zones, geometry),
-    boundaryErrorMm: 0,
+    // The table zone is read from its spheroids; a mask zone (the physics zone's kind) from
+    // its voxelised surface, whose reading error is its boundary error.
+    zoneSurface: readsMask
+      ? maskZoneSurface(zoneSignedField(zoneMask, geometry, [zoneExtent, tumourExtent], 2))
+      : ellipsoidZoneSurface(zones, geometry),
+    boundaryErrorMm: readsMask ? halfVoxelDiagonalMm(spacingMm) : 0,
     tumours: [{ structureId: 'lesion', labelValue: TUMOUR, extent: tumourExtent }],
     marginTargetMm,
   };
@@ -92,6 +101,19 @@ describe('assessCoverage', () => {
     const [tumour] = zone.tumours;
     expect(tumour.coveredPercent).toBe(100);
     expect(Math.abs(tumour.minimalMarginMm - 5)).toBeLessThanOrEqual(marginToleranceMm);
+  });
+
+  it('reads the same margin from the voxelised zone, within its boundary error', () => {
+    // Read as a physics zone is read: from the zone's voxels. Their surface lies within h of
+    // the ellipsoid (zone-field.ts) and the tumour's faces within half a spacing of the sphere,
+    // so the margin is within h + 0.3 mm of b − r; its bound takes off the boundary error h
+    // and never exceeds b − r.
+    const { zone } = coverageOf(sphereLabels(centre, 10), [concentricZone], 5, true);
+    const [tumour] = zone.tumours;
+    const h = halfVoxelDiagonalMm(spacingMm);
+    expect(zone.boundaryErrorMm).toBeCloseTo(h, 12);
+    expect(Math.abs(tumour.minimalMarginMm - 5)).toBeLessThanOrEqual(h + spacingMm[2] / 2);
+    expect(tumour.minimalMarginLowerMm).toBeLessThanOrEqual(5);
   });
 
   it('reads R − r at every surface voxel of a tumour concentric with a spherical zone', () => {

@@ -11,10 +11,11 @@
  * u is read from the field's gradient (a distance field grows away from its nearest feature);
  * where the gradient vanishes (on a ridge) the largest reach, half the voxel diagonal, is taken.
  *
- * Accuracy (checked in coverage.spec.ts against analytic spheres and ellipsoids): the voxelised
- * surfaces of zone and tumour each lie within half a voxel diagonal h of the analytic ones, so
- * a margin read here is within 2h of the analytic margin; the smallest over a surface errs
- * towards the low (cautious) side by about h.
+ * Accuracy: the zone's voxelised surface lies within half a voxel diagonal h of the model's,
+ * so a margin read here at a tumour's face (zone-surface.ts `maskZoneSurface`) is within h of
+ * the margin to the model's zone, plus the linear reading's error on a curved surface, and
+ * within h plus half a spacing of the analytic margin (checked in coverage.spec.ts against
+ * analytic spheres). The table zone is not read here: its spheroids are read exactly.
  */
 import { signedDistanceTransform } from '../geometry/distance-transform';
 import type { GridDimensions, VolumeGeometry } from '../geometry/patient-geometry';
@@ -109,19 +110,6 @@ export function marginAt(field: ZoneField, i: number, j: number, k: number): num
   if (!Number.isFinite(signed)) return -signed;
   const toSurfaceMm = Math.abs(signed) - cellReachMm(field, index);
   return signed > 0 ? -toSurfaceMm : toSurfaceMm;
-}
-
-/**
- * Distance from a crop voxel's centre outside the zone to the zone's voxelised surface (mm,
- * see the top); 0 inside the zone; Infinity for an empty zone.
- */
-export function gapToZoneAt(field: ZoneField, i: number, j: number, k: number): number {
-  const index = fieldIndex(field, i, j, k);
-  if (index < 0) throw new RangeError(`voxel (${i}, ${j}, ${k}) lies outside the zone field`);
-  const signed = field.signedMm[index];
-  if (signed <= 0) return 0;
-  if (!Number.isFinite(signed)) return signed;
-  return Math.max(0, signed - cellReachMm(field, index));
 }
 
 /** Σ|uₐ|·wₐ/2 for the direction u of the field's gradient at a box voxel (see the top). */

@@ -10,8 +10,9 @@
  *
  * A distance transform measures to the centres of a structure's voxels, not to the structure:
  * for a vessel voxelised by its centres that reads 0 to 2 half-diagonals more than the
- * distance to its true wall (path-clearance.spec.ts derives it). Safety thresholds must allow
- * for it, or subtract the bound for a conservative reading.
+ * distance to its true wall (path-clearance.spec.ts derives it). The assessment's clearances
+ * are therefore measured to the faces of the voxels instead, exactly (cell-distance.ts); the
+ * samplers here serve lengths inside structures and fields of other kinds.
  */
 import { lpsToVoxel, voxelCount, type VolumeGeometry } from './patient-geometry';
 import { addScaled, distance, subtract, type Vec3 } from './vector';

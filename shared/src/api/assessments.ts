@@ -122,7 +122,10 @@ export interface ZoneAssessment {
 
 export interface HeatSinkVessel {
   kind: StructureKind;
-  /** Local vessel diameter, mm (from the cross-section area across the vessel's axis). */
+  /**
+   * Local vessel diameter, mm: near the heat-sink calibre from the cross-section area across
+   * the vessel's axis; for clearly wider vessels, twice the largest inscribed radius.
+   */
   diameterMm: number;
   /**
    * The diameters of a round vessel that could give the same reading on this grid, mm: the

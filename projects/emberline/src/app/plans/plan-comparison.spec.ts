@@ -235,7 +235,7 @@ describe('PlanComparison', () => {
     expect(await lineA.getVerdict()).toContain('1 caution');
     // The profile version the assessment ran on is the current one: 10 mm from the gallbladder.
     expect(await lineA.getFigure('clearance')).toEqual({
-      value: 'Gallbladder 8.0 mm (bound 7.2 mm)',
+      value: 'Gallbladder 8.0 mm (≥ 7.2 mm)',
       note: 'Minimum 10.0 mm: 2.0 mm short',
       isShort: true,
     });
@@ -246,7 +246,7 @@ describe('PlanComparison', () => {
     });
     // 6.2 mm meets the 5 mm target; its bound, 4.9 mm, does not.
     expect(await lineA.getFigure('margin')).toEqual({
-      value: '6.2 mm (bound 4.9 mm)',
+      value: '6.2 mm (≥ 4.9 mm)',
       note: 'Target 5.0 mm: met, but not by its bound',
       isShort: true,
     });

@@ -61,7 +61,7 @@ describe('summaryLines', () => {
         }),
       ],
     });
-    expect(line.clearance.text).toBe('Portal vein 5.4 mm (bound 4.6 mm)');
+    expect(line.clearance.text).toBe('Portal vein 5.4 mm (≥ 4.6 mm)');
     expect(line.clearance.note).toBe('Minimum 5.0 mm: met, but not by its bound');
     expect(line.clearance.isShort).toBe(true);
   });

@@ -309,7 +309,8 @@ function primaryZone(result: AssessmentResult): ZoneAssessment | undefined {
 }
 
 function boundText(boundMm: number | undefined): string {
-  return boundMm === undefined ? '' : ` (bound ${formatFigure(boundMm, 1, 'mm')})`;
+  // As the table writes a bound: in brackets, the least the figure could be.
+  return boundMm === undefined ? '' : ` (≥ ${formatFigure(boundMm, 1, 'mm')})`;
 }
 
 function smallestBy<T>(items: readonly T[], value: (item: T) => number): T {

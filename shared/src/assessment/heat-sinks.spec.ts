@@ -178,4 +178,27 @@ describe('findHeatSinks', () => {
     expect(found).toHaveLength(1);
     expect(found[0].distanceMm).toBe(0);
   });
+  it('measures the gap to the nearer of two zones (a plan of two applicators)', () => {
+    // A second spherical zone of 8 mm about (−25, 0, 0); a 5 mm vein along z at x = −25,
+    // y = 8 + 3 + 2.5 mm: its wall lies 3 mm from the second zone (distance from a point to a
+    // sphere), 13.9 mm from the first; approached along y (0.8 mm): within half a voxel.
+    const second = tableZoneEllipsoid([-75, 0, 0], [-25, 0, 0], {
+      zoneLengthMm: 16,
+      zoneWidthMm: 16,
+      tipOffsetMm: 0,
+    });
+    const vein = tubes([{ code: VEIN, radiusMm: 2.5, through: [-24.9, 13.5, 0], axis: [0, 0, 1] }]);
+    const found = findHeatSinks({
+      cropGeometry: geometry,
+      kindCodes: vein,
+      zoneSurface: ellipsoidZoneSurface([zone, second], geometry),
+      boundaryErrorMm: 0,
+      vessels: [{ kind: 'hepatic-vein', calibre: calibreOf(vein, VEIN) }],
+      heatSinkDiameterMm: 3,
+      heatSinkDistanceMm: 10,
+    });
+    expect(found).toHaveLength(1);
+    expect(Math.abs(found[0].distanceMm - 3)).toBeLessThanOrEqual(spacingMm[1] / 2);
+    expect(found[0].distanceLowerMm).toBeLessThanOrEqual(3);
+  });
 });

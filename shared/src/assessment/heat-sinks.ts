@@ -84,10 +84,10 @@ function heatSinksOfKind(
         if (!(diameterMm >= thresholdMm - slackMm)) continue;
         if (!input.zoneSurface.covers(i, j, k)) continue;
         // The gap from the voxel's cell, and from the cell widened by a voxel, to the zone.
-        const { marginMm, cellReachMm } = input.zoneSurface.centreReading(i, j, k);
-        const gapLowerMm = Math.max(0, -(marginMm + 3 * cellReachMm) - input.boundaryErrorMm);
+        const highest = input.zoneSurface.highestOverCells(i, j, k);
+        const gapLowerMm = Math.max(0, -highest.widenedCellMm - input.boundaryErrorMm);
         if (gapLowerMm > input.heatSinkDistanceMm) continue;
-        const gapMm = Math.max(0, -(marginMm + cellReachMm));
+        const gapMm = Math.max(0, -highest.cellMm);
         slotOf.set(index, candidates.length);
         candidates.push(index);
         gapsMm.push(gapMm);

@@ -319,12 +319,12 @@ describe('vessel calibre at the 3 mm heat-sink threshold', () => {
         if (vessels.length === 0) {
           const [nx, ny] = geometry.dimensions;
           const besideZone = [...calibre.sections.keys()].filter((centre) => {
-            const reading = zoneSurface.centreReading(
+            const highest = zoneSurface.highestOverCells(
               centre % nx,
               Math.floor(centre / nx) % ny,
               Math.floor(centre / (nx * ny)),
             );
-            return -(reading.marginMm + 3 * reading.cellReachMm) <= 10;
+            return -highest.widenedCellMm <= 10;
           });
           expect(besideZone.length).toBeGreaterThan(0);
           for (const centre of besideZone) {

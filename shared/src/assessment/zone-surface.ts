@@ -33,12 +33,12 @@ export interface ZoneSurface {
   /** A lower bound of the margin over the voxel's cell widened by `widenVoxels` a side, mm. */
   lowestOverCellMm(i: number, j: number, k: number, widenVoxels: number): number;
   /**
-   * The margin at the voxel's centre and the reach of its cell along the direction the margin
-   * changes fastest (Σ |nₐ|·wₐ/2), mm: the margin over the cell widened by v voxels a side is
-   * at most margin + (1 + 2v)·reach (the tangent plane bounds a concave margin from above; a
-   * mask zone's is read linearly).
+   * Upper bounds of the margin over the voxel's cell and over the cell widened by a voxel, mm:
+   * the margin at the centre plus the cell's reach along the direction the margin changes
+   * fastest, Σ |nₐ|·wₐ/2, once or three times (the tangent plane bounds a spheroid's concave
+   * margin from above; a mask zone's is read linearly). Negated, the gaps from outside.
    */
-  centreReading(i: number, j: number, k: number): { marginMm: number; cellReachMm: number };
+  highestOverCells(i: number, j: number, k: number): { cellMm: number; widenedCellMm: number };
   /** Whether the voxel lies where the surface can be read. */
   covers(i: number, j: number, k: number): boolean;
   /**
@@ -107,20 +107,22 @@ export function ellipsoidZoneSurface(
       }
       return marginMm;
     },
-    centreReading(i, j, k) {
+    highestOverCells(i, j, k) {
       const centre = pointAt(i, j, k);
-      let best = { marginMm: -Infinity, cellReachMm: 0 };
+      // The union's margin is the largest of the zones' (module note): bound each one's.
+      let cellMm = -Infinity;
+      let widenedCellMm = -Infinity;
       for (const zone of zones) {
         const found = distanceTo(zone, centre);
-        if (found.signedMm <= best.marginMm) continue;
         // Reach of the cell along the normal: Σ |n·eₐ|·wₐ/2.
         let reachMm = 0;
         for (let axis = 0; axis < 3; axis++) {
           reachMm += (Math.abs(dot(found.outwardNormal, direction[axis])) * spacingMm[axis]) / 2;
         }
-        best = { marginMm: found.signedMm, cellReachMm: reachMm };
+        cellMm = Math.max(cellMm, found.signedMm + reachMm);
+        widenedCellMm = Math.max(widenedCellMm, found.signedMm + 3 * reachMm);
       }
-      return best;
+      return { cellMm, widenedCellMm };
     },
     covers: () => true,
     voxelsWithin(reachMm) {
@@ -182,9 +184,12 @@ export function maskZoneSurface(field: ZoneField): ZoneSurface {
       if (!Number.isFinite(marginMm)) return marginMm;
       return marginMm - cellReachMm(inwards, 0.5 + widenVoxels);
     },
-    centreReading(i, j, k) {
+    highestOverCells(i, j, k) {
       const { marginMm, inwards } = readAt(i, j, k);
-      return { marginMm, cellReachMm: cellReachMm(inwards, 0.5) };
+      return {
+        cellMm: marginMm + cellReachMm(inwards, 0.5),
+        widenedCellMm: marginMm + cellReachMm(inwards, 1.5),
+      };
     },
     covers: (i, j, k) => fieldIndex(field, i, j, k) >= 0,
     // Only the field's box can be read.

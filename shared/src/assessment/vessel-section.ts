@@ -131,7 +131,11 @@ export function sectionBand(
   const tolerance = 1e-9 * Math.max(1, reading.weight);
   const count = shares.length;
   const distancesMm = new Float64Array(count);
-  const order = new Uint32Array(count);
+  // Sort keys: the distance in micrometres (well within exact integers) times 2¹⁶ plus the
+  // voxel's slot, so that a plain numeric sort orders the slots by distance.
+  const keys = new Float64Array(count);
+  const slots = 2 ** 16;
+  if (count >= slots) throw new RangeError(`a section of ${count} voxels is too large to read`);
   let lowerMm = Infinity;
   let upperMm = 0;
   // Two unit vectors across the axis, and the cell's half extent along each.
@@ -158,17 +162,18 @@ export function sectionBand(
         const pz = oz - sz;
         const along = px * axis[0] + py * axis[1] + pz * axis[2];
         distancesMm[n] = Math.sqrt(Math.max(0, px * px + py * py + pz * pz - along * along));
-        order[n] = n;
+        keys[n] = Math.round(distancesMm[n] * 1e3) * slots + n;
       }
-      order.sort((a, b) => distancesMm[a] - distancesMm[b]);
+      keys.sort();
+      const order = (n: number) => keys[n] % slots;
       // Radii at which this placement's count first reaches the reading, and first exceeds it.
       let cumulative = 0;
       let reachesAt = Infinity;
       let exceedsAt = Infinity;
       for (let n = 0; n < count; n++) {
-        const here = distancesMm[order[n]];
-        cumulative += shares[order[n]];
-        const isLastOfTie = n + 1 === count || distancesMm[order[n + 1]] > here;
+        const here = Math.floor(keys[n] / slots) / 1e3;
+        cumulative += shares[order(n)];
+        const isLastOfTie = n + 1 === count || Math.floor(keys[n + 1] / slots) / 1e3 > here;
         if (!isLastOfTie) continue;
         if (reachesAt === Infinity && cumulative >= reading.weight - tolerance) reachesAt = here;
         if (cumulative > reading.weight + tolerance) {

@@ -59,7 +59,16 @@ export type RequestAssessment = z.infer<typeof requestAssessmentSchema>;
 
 /** The named, versioned inputs an assessment ran on, as the plan comparison shows them. */
 export interface AssessmentInputsView {
-  safetyProfile: { id: string; name: string; version: number };
+  /** The safety profile version, with the thresholds the verdict was judged by. */
+  safetyProfile: {
+    id: string;
+    name: string;
+    version: number;
+    /** Minimum path clearance by kind, mm; kinds without a clearance rule are absent. */
+    minimumClearanceMm: Partial<Record<StructureKind, number>>;
+    marginTargetMm: number;
+    marginMinimumMm: number;
+  };
   applicatorProfiles: {
     id: string;
     name: string;

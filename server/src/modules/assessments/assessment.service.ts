@@ -49,6 +49,13 @@ function inputsView(snapshot: AssessmentSnapshot): AssessmentInputsView {
       id: snapshot.safetyProfile.id,
       name: snapshot.safetyProfile.body.name,
       version: snapshot.safetyProfile.version,
+      minimumClearanceMm: Object.fromEntries(
+        snapshot.safetyProfile.body.structureRules
+          .filter((rule) => rule.minimumClearanceMm > 0)
+          .map((rule) => [rule.kind, rule.minimumClearanceMm]),
+      ),
+      marginTargetMm: snapshot.safetyProfile.body.marginTargetMm,
+      marginMinimumMm: snapshot.safetyProfile.body.marginMinimumMm,
     },
     applicatorProfiles: snapshot.applicatorProfiles.map((profile) => ({
       id: profile.id,

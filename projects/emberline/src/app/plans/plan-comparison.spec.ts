@@ -11,7 +11,6 @@ import {
   plan,
   resultA,
   resultB,
-  safetyProfile,
   seriesId,
   tumourId,
 } from './testing/comparison-fixtures';
@@ -59,14 +58,13 @@ describe('PlanComparison', () => {
       }),
     ]);
     http.expectOne('/api/plans/plan-c/assessments').flush([]);
-    // The structures, the default profile and the pictures are pending tasks: the fixture is
+    // The structures and the pictures are pending tasks: the fixture is
     // not stable until they answer.
     TestBed.tick();
     const structures: Partial<StructureView>[] = [
       { id: tumourId, seriesId, name: 'Tumour segment VIII', kind: 'tumour' },
     ];
     http.expectOne(`/api/series/${seriesId}/structures`).flush(structures);
-    http.expectOne('/api/safety-profiles').flush([safetyProfile(3)]);
     http
       .expectOne('/api/assessments/as-a/display')
       .flush(displayBody(ballDisplay([0, 0, 0], 15, 9)));

@@ -236,7 +236,9 @@ export class ViewerSession {
   }
 
   openPlan(plan: PlanView, isEditable: boolean): void {
-    this.startDrafting(drafting.draftOfPlan(plan), isEditable && plan.status === 'draft');
+    // A plan whose assessment failed is a draft again (the server lets it be corrected).
+    const isDraft = plan.status === 'draft' || plan.status === 'assessment-failed';
+    this.startDrafting(drafting.draftOfPlan(plan), isEditable && isDraft);
   }
 
   updateDraft(change: (state: drafting.DraftingState) => drafting.DraftingState): void {

@@ -1,7 +1,6 @@
-import { ChangeDetectionStrategy, Component, computed, inject, input } from '@angular/core';
+import { ChangeDetectionStrategy, Component, computed, input } from '@angular/core';
 import { MatIcon } from '@angular/material/icon';
 import type { PlanView } from '@emberline/shared';
-import { PlanApi } from '../plan-api';
 import type { ComparedPlan } from '../comparison-rows';
 import { VerdictBadge } from '../verdict-badge';
 import { summaryLines, type SummaryFigure, type SummaryLine } from './comparison-summary';
@@ -31,15 +30,9 @@ export class ComparisonSummaryBand {
   readonly columns = input.required<readonly ComparedPlan[]>();
   readonly tumourNames = input<ReadonlyMap<string, string>>(new Map());
 
-  /** The profiles at their current versions: thresholds of assessments that ran on those. */
-  private readonly profiles = inject(PlanApi).safetyProfiles();
   protected readonly rows = computed<BandRow[]>(() => {
     const columns = this.columns();
-    const lines = summaryLines(
-      columns,
-      this.tumourNames(),
-      this.profiles.hasValue() ? this.profiles.value() : [],
-    );
+    const lines = summaryLines(columns, this.tumourNames());
     return lines.map((line, index) => ({
       line,
       plan: columns[index].plan,

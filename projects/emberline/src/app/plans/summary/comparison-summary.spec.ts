@@ -19,14 +19,14 @@ function column(result: AssessmentResult, version = 3): ComparedPlan {
 }
 
 function lineOf(result: AssessmentResult, version = 3) {
-  return summaryLines([column(result, version)], names, [safetyProfile(3)])[0];
+  return summaryLines([column(result, version)], names)[0];
 }
 
 describe('thresholdsFor', () => {
-  it('takes a profile’s thresholds only when it is at the version the assessment ran on', () => {
-    expect(thresholdsFor([safetyProfile(3)], inputs(3))?.clearanceMm.get('gallbladder')).toBe(10);
-    expect(thresholdsFor([safetyProfile(4)], inputs(3))).toBeNull();
-    expect(thresholdsFor([safetyProfile(3)], null)).toBeNull();
+  it('reads the thresholds the assessment recorded, whatever the profile’s version is now', () => {
+    expect(thresholdsFor(inputs(3))?.clearanceMm.get('gallbladder')).toBe(10);
+    expect(thresholdsFor(inputs(3))?.marginTargetMm).toBe(safetyProfile(3).marginTargetMm);
+    expect(thresholdsFor(null)).toBeNull();
   });
 });
 
@@ -94,17 +94,16 @@ describe('summaryLines', () => {
     expect(line.clearance.note).toBe('Minimum 10.0 mm: 7.0 mm short');
   });
 
-  it('says the minimum is not at hand rather than guess it', () => {
-    const line = lineOf(
-      {
-        ...resultA,
-        applicators: [
-          applicator({ clearances: [{ kind: 'hepatic-vein', minDistanceMm: 7, atMm: 20 }] }),
-        ],
-        verdict: { level: 'acceptable', reasons: [] },
-      },
-      2,
-    );
+  it('says the minimum is not at hand rather than guess it (inputs never recorded)', () => {
+    const unrecorded = column({
+      ...resultA,
+      applicators: [
+        applicator({ clearances: [{ kind: 'hepatic-vein', minDistanceMm: 7, atMm: 20 }] }),
+      ],
+      verdict: { level: 'acceptable', reasons: [] },
+    });
+    unrecorded.assessment = { ...unrecorded.assessment, inputs: null };
+    const line = summaryLines([unrecorded], names)[0];
     expect(line.clearance).toEqual({
       text: 'Hepatic vein 7.0 mm',
       note: 'Nearest structure; the minimum of the profile version assessed is not at hand',
@@ -153,7 +152,7 @@ describe('summaryLines', () => {
       ...changed.assessment,
       inputChanges: [{ kind: 'label-map', message: 'The label map has been replaced.' }],
     };
-    expect(summaryLines([changed], names, [])[0].isOnEarlierInputs).toBe(true);
+    expect(summaryLines([changed], names)[0].isOnEarlierInputs).toBe(true);
     expect(lineOf(resultA).isOnEarlierInputs).toBe(false);
   });
 });

@@ -3,17 +3,16 @@
  * against its threshold, the coverage, the minimal margin with its conservative bound, and the
  * zone model the verdict used. Pure: the band only draws these lines.
  *
- * Thresholds come from the safety profile the assessment ran on when that very version is still
- * the profile's current one (same id and version); otherwise from the verdict's own reasons,
- * which carry the threshold of every rule a plan missed. Where neither tells, the line
- * says the threshold is not at hand rather than guess it.
+ * Thresholds are those of the safety profile version the assessment ran on, as the assessment
+ * recorded them (`inputs.safetyProfile`), whatever the profile's current version; the verdict's
+ * own reasons carry the threshold of every rule a plan missed. Where neither tells (an
+ * assessment stored before inputs were recorded), the line says the threshold is not at hand.
  */
 import {
   structureKindLabels,
   type AssessmentInputsView,
   type AssessmentResult,
   type KindClearance,
-  type SafetyProfileView,
   type StructureKind,
   type VerdictLevel,
   type VerdictReason,
@@ -61,28 +60,14 @@ export interface ProfileThresholds {
 /** Kinds a path enters on purpose: their clearance is no safety figure. */
 const enteredOnPurpose = new Set<StructureKind>(['skin', 'liver', 'tumour']);
 
-/**
- * The thresholds of the safety profile an assessment ran on, when one of `profiles` (each at
- * its current version) is that very version; else null.
- */
-export function thresholdsFor(
-  profiles: readonly SafetyProfileView[],
-  inputs: AssessmentInputsView | null,
-): ProfileThresholds | null {
+/** The thresholds of the safety profile version an assessment ran on, as it recorded them. */
+export function thresholdsFor(inputs: AssessmentInputsView | null): ProfileThresholds | null {
   if (!inputs) return null;
   const used = inputs.safetyProfile;
-  const profile = profiles.find(
-    (candidate) => candidate.id === used.id && candidate.version === used.version,
-  );
-  if (!profile) return null;
   return {
-    clearanceMm: new Map(
-      profile.structureRules
-        .filter((rule) => rule.minimumClearanceMm > 0)
-        .map((rule) => [rule.kind, rule.minimumClearanceMm]),
-    ),
-    marginTargetMm: profile.marginTargetMm,
-    marginMinimumMm: profile.marginMinimumMm,
+    clearanceMm: new Map(Object.entries(used.minimumClearanceMm) as [StructureKind, number][]),
+    marginTargetMm: used.marginTargetMm,
+    marginMinimumMm: used.marginMinimumMm,
   };
 }
 
@@ -90,14 +75,13 @@ export function thresholdsFor(
 export function summaryLines(
   columns: readonly ComparedPlan[],
   tumourNames: ReadonlyMap<string, string>,
-  profiles: readonly SafetyProfileView[],
 ): SummaryLine[] {
   const tumourLabel = tumourLabeller(
     columns.map((column) => column.result),
     tumourNames,
   );
   return columns.map(({ plan, assessment, result }) => {
-    const thresholds = thresholdsFor(profiles, assessment.inputs);
+    const thresholds = thresholdsFor(assessment.inputs);
     return {
       planId: plan.id,
       planName: plan.name,

@@ -91,6 +91,13 @@ export function inputs(safetyProfileVersion: number): AssessmentInputsView {
       id: safetyProfileId,
       name: 'Invented thresholds',
       version: safetyProfileVersion,
+      minimumClearanceMm: Object.fromEntries(
+        safetyProfile(safetyProfileVersion)
+          .structureRules.filter((rule) => rule.minimumClearanceMm > 0)
+          .map((rule) => [rule.kind, rule.minimumClearanceMm]),
+      ),
+      marginTargetMm: safetyProfile(safetyProfileVersion).marginTargetMm,
+      marginMinimumMm: safetyProfile(safetyProfileVersion).marginMinimumMm,
     },
     applicatorProfiles: [
       {

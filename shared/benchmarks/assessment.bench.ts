@@ -443,7 +443,10 @@ console.log(
 
 // Brute force on a small grid around the segment VIII tumour: the exact answer, O(N·seeds).
 const small: GridDimensions = [40, 40, 12];
-const [ci, cj, ck] = [60, 60, 40];
+// Centred on the segment VIII tumour, whatever the grid (its axes are those of LPS here).
+const [ci, cj, ck] = [0, 1, 2].map((axis) =>
+  Math.round((phantom.tumours[0].centreLps[axis] - geometry.originLps[axis]) / spacing[axis]),
+);
 const smallMask = new Uint8Array(small[0] * small[1] * small[2]);
 for (let k = 0; k < small[2]; k++) {
   for (let j = 0; j < small[1]; j++) {

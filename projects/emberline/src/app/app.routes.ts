@@ -35,6 +35,10 @@ export const routes: Routes = [
         loadComponent: () => import('./boards/board-detail').then((m) => m.BoardDetail),
       },
       {
+        path: 'meetings',
+        loadChildren: () => import('./meetings/meetings.routes').then((m) => m.meetingRoutes),
+      },
+      {
         path: 'admin',
         canMatch: [roleGuard('administrator')],
         loadChildren: () => import('./admin/admin.routes').then((m) => m.adminRoutes),

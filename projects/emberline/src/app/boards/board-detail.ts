@@ -9,11 +9,20 @@ import { roleLabels, specialtyLabels, type Role } from '@emberline/shared';
 import { problemMessage } from '../core/problem';
 import { BoardApi } from './board-api';
 import { TypedCellDef } from '../core/typed-cell-def';
+import { BoardMeetings } from '../meetings/board-meetings';
 
 /** One board and its members with their specialties. */
 @Component({
   selector: 'em-board-detail',
-  imports: [RouterLink, MatTableModule, TypedCellDef, MatProgressBar, MatButton, MatIcon],
+  imports: [
+    RouterLink,
+    MatTableModule,
+    TypedCellDef,
+    MatProgressBar,
+    MatButton,
+    MatIcon,
+    BoardMeetings,
+  ],
   template: `
     <section class="em-page" aria-labelledby="board-title">
       <a class="back" routerLink="/boards"
@@ -65,6 +74,11 @@ import { TypedCellDef } from '../core/typed-cell-def';
             </table>
           </div>
         </div>
+        <em-board-meetings
+          [boardId]="id()"
+          [boardName]="board()?.name ?? ''"
+          [members]="members.value()"
+        />
       }
     </section>
   `,

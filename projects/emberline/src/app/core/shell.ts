@@ -19,6 +19,10 @@ export class Shell {
 
   protected readonly user = this.session.user;
   protected readonly isAdministrator = this.session.isAdministrator;
+  /** Meetings are for the clinical roles; an administrator alone sees no case. */
+  protected readonly isClinical = computed(() =>
+    this.session.roles().some((role) => role !== 'administrator'),
+  );
   protected readonly mayWork = computed(() => {
     const user = this.user();
     return !!user && !user.mustEnrolTotp && user.roles.length > 0;

@@ -21,6 +21,7 @@ import { healthRoutes } from './modules/health/health.routes';
 import { imagingRoutes } from './modules/imaging/imaging.routes';
 import { adminProfileRoutes } from './modules/plans/admin-profiles.routes';
 import { planRoutes } from './modules/plans/plans.routes';
+import { meetingRoutes } from './modules/meetings/meetings.routes';
 import { samlRoutes, samlStatusRoutes } from './modules/saml/saml.routes';
 import { structuresRoutes } from './modules/structures/structures.routes';
 
@@ -86,6 +87,7 @@ export function createApp(services: Services): Express {
   app.use('/api', imagingRoutes(orm));
   app.use('/api', structuresRoutes(orm));
   app.use('/api', planRoutes(orm));
+  app.use('/api', meetingRoutes(orm));
   app.use(
     '/api',
     assessmentRoutes(orm, {

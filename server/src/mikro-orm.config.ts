@@ -19,6 +19,8 @@ import { SamlAssertionSeen } from './modules/saml/saml-assertion.entity';
 import { SamlRequest } from './modules/saml/saml-request.entity';
 import { ApplicatorProfileVersion } from './modules/plans/applicator-profile-version.entity';
 import { SafetyProfileVersion } from './modules/plans/safety-profile-version.entity';
+import { AgendaItem } from './modules/meetings/agenda-item.entity';
+import { Meeting } from './modules/meetings/meeting.entity';
 import { HttpSession } from './modules/sessions/http-session.entity';
 import { RolePolicy } from './modules/users/role-policy.entity';
 import { User } from './modules/users/user.entity';
@@ -49,6 +51,8 @@ export const entities = [
   SafetyProfileVersion,
   NeedlePlan,
   Assessment,
+  Meeting,
+  AgendaItem,
 ];
 
 /** "NeedlePlan" → "The needle plan": how a miss names what was looked for. */

@@ -7,6 +7,7 @@ import { connectionUrl, dropDatabase, ensureDatabase } from '../../server/script
 const database = `emberline_migrations_${process.pid}`;
 
 const expectedTables = [
+  'agenda_item',
   'app_user',
   'applicator_profile',
   'applicator_profile_version',
@@ -20,6 +21,7 @@ const expectedTables = [
   'lab_panel',
   'label_map',
   'lesion',
+  'meeting',
   'needle_plan',
   'role_policy',
   'safety_profile',

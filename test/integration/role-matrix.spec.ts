@@ -6,6 +6,8 @@ import { configFromEnvironment } from '../../server/src/config';
 import { samlSettingsFromEnvironment } from '../../server/src/modules/saml/saml-settings';
 import { startFakeIdp, type FakeIdp } from '../support/fake-idp';
 import { User } from '../../server/src/modules/users/user.entity';
+import { Board } from '../../server/src/modules/boards/board.entity';
+import { Meeting } from '../../server/src/modules/meetings/meeting.entity';
 import { Lesion } from '../../server/src/modules/cases/lesion.entity';
 import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
 import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
@@ -46,6 +48,9 @@ interface Context {
   submittedPlanId: string;
   applicatorProfileId: string;
   safetyProfileId: string;
+  /** A scheduled meeting of the north board, chaired by the proceduralist. */
+  meetingId: string;
+  proceduralistUserId: string;
 }
 
 interface Route {
@@ -389,6 +394,53 @@ const routes: Route[] = [
     expected: row(401, 404, 201, 403, 403, 404, 404),
   },
   {
+    name: 'GET /api/boards/:north/meetings',
+    call: (c, x) => c.get(`/api/boards/${x.ids.northBoard}/meetings`),
+    expected: row(401, 200, 200, 200, 200, 200, 404),
+  },
+  {
+    name: 'POST /api/boards/:north/meetings',
+    call: (c, x) =>
+      c.post(`/api/boards/${x.ids.northBoard}/meetings`, {
+        startsAt: '2030-01-15T16:00:00+01:00',
+        durationMin: 60,
+        chairId: x.proceduralistUserId,
+      }),
+    expected: row(401, 201, 201, 403, 201, 403, 404),
+  },
+  {
+    name: 'GET /api/meetings',
+    call: (c) => c.get('/api/meetings'),
+    expected: row(401, 200, 200, 200, 200, 200, 200),
+  },
+  {
+    name: 'GET /api/meetings/:north',
+    call: (c, x) => c.get(`/api/meetings/${x.meetingId}`),
+    expected: row(401, 200, 200, 200, 200, 200, 404),
+  },
+  {
+    name: 'POST /api/meetings/:north/agenda { north-ready }',
+    call: (c, x) => c.post(`/api/meetings/${x.meetingId}/agenda`, { caseId: x.ids.northReady }),
+    expected: row(401, 404, 201, 403, 403, 403, 404),
+  },
+  {
+    // Only the chair orders; the chair is told the list is not the agenda (400).
+    name: 'PUT /api/meetings/:north/agenda/order',
+    call: (c, x) =>
+      c.put(`/api/meetings/${x.meetingId}/agenda/order`, {
+        itemIds: ['0d7d0c1e-2b1a-4c6e-8f0a-5a3c9e1b7d24'],
+      }),
+    expected: row(401, 404, 403, 403, 400, 403, 404),
+  },
+  {
+    name: 'PUT /api/admin/boards/:north/quorum',
+    call: (c, x) =>
+      c.put(`/api/admin/boards/${x.ids.northBoard}/quorum`, {
+        requiredSpecialties: ['hepatology'],
+      }),
+    expected: row(401, 200, 403, 403, 403, 403, 403),
+  },
+  {
     name: 'DELETE /api/plans/:north-ready-submitted (not a draft)',
     call: (c, x) => c.delete(`/api/plans/${x.submittedPlanId}`),
     expected: row(401, 404, 409, 403, 403, 404, 404),
@@ -492,6 +544,17 @@ describe.each(who)('role × route matrix: %s', (role) => {
       return plan;
     });
     await em.persist(plans).flush();
+    const proceduralistUser = await em.findOneOrFail(User, {
+      email: 'proceduralist@emberline.test',
+    });
+    const meeting = new Meeting({
+      board: em.getReference(Board, ids.northBoard, { wrapped: true }),
+      startsAt: new Date('2030-01-08T15:00:00Z'),
+      durationMin: 90,
+      chair: em.getReference(User, proceduralistUser.id, { wrapped: true }),
+      scheduledBy: em.getReference(User, proceduralistUser.id, { wrapped: true }),
+    });
+    await em.persist(meeting).flush();
     context = {
       ids,
       lesionId: lesion.id,
@@ -503,6 +566,8 @@ describe.each(who)('role × route matrix: %s', (role) => {
       submittedPlanId: plans[1].id,
       applicatorProfileId,
       safetyProfileId: (await em.findOneOrFail(SafetyProfile, { isDefault: true })).id,
+      meetingId: meeting.id,
+      proceduralistUserId: proceduralistUser.id,
     };
     client = new ApiClient(testApp.app);
     if (role !== 'anonymous')

@@ -8,6 +8,8 @@ export interface BoardView {
   description: string;
   memberCount: number;
   mySpecialty: Specialty | null;
+  /** The specialties that must be present for the board's quorum. */
+  requiredSpecialties: Specialty[];
 }
 
 export interface BoardMemberView {

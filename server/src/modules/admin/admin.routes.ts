@@ -4,6 +4,7 @@ import { z } from 'zod';
 import {
   addMembershipSchema,
   auditQuerySchema,
+  boardQuorumSchema,
   createBoardSchema,
   createUserSchema,
   rolePolicySchema,
@@ -43,6 +44,16 @@ export function adminRoutes(orm: MikroORM): Router {
     response
       .status(201)
       .json(await service().createBoard(actorOf(request), parse(createBoardSchema, request.body)));
+  });
+  router.put('/boards/:id/quorum', async (request, response) => {
+    const { requiredSpecialties } = parse(boardQuorumSchema, request.body);
+    response.json(
+      await service().setQuorum(
+        actorOf(request),
+        pathId(request.params.id, 'The board'),
+        requiredSpecialties,
+      ),
+    );
   });
   router.post('/boards/:id/members', async (request, response) => {
     const body = parse(addMembershipSchema, request.body);

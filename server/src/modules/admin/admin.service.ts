@@ -97,7 +97,27 @@ export class AdminService {
       description: board.description,
       memberCount: board.memberships.count(),
       mySpecialty: null,
+      requiredSpecialties: [...board.requiredSpecialties],
     }));
+  }
+
+  /** The specialties that must be present for the board's quorum. */
+  async setQuorum(
+    actor: Actor,
+    boardId: string,
+    requiredSpecialties: Specialty[],
+  ): Promise<{ requiredSpecialties: Specialty[] }> {
+    const board = await this.em.findOne(Board, boardId);
+    if (!board) throw new NotFoundError('The board');
+    board.requiredSpecialties = [...requiredSpecialties];
+    recordAudit(this.em, actor, {
+      action: 'board.quorum',
+      entityType: 'board',
+      entityId: board.id,
+      detail: { requiredSpecialties },
+    });
+    await this.em.flush();
+    return { requiredSpecialties: [...board.requiredSpecialties] };
   }
 
   async createBoard(actor: Actor, body: { name: string; description: string }): Promise<BoardView> {
@@ -117,6 +137,7 @@ export class AdminService {
       description: board.description,
       memberCount: 0,
       mySpecialty: null,
+      requiredSpecialties: [],
     };
   }
 

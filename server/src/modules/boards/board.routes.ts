@@ -30,6 +30,7 @@ export function boardRoutes(orm: MikroORM): Router {
       description: board.description,
       memberCount: countOf.get(board.id) ?? 0,
       mySpecialty: user.memberships.get(board.id) ?? null,
+      requiredSpecialties: [...board.requiredSpecialties],
     }));
     response.json(views);
   });

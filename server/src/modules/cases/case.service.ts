@@ -26,6 +26,7 @@ import { LabPanel } from './lab-panel.entity';
 import { Lesion } from './lesion.entity';
 import { CaseRepository } from './case.repository';
 import { visibilityFilter } from './case-visibility';
+import { MeetingService } from '../meetings/meeting.service';
 import type { FileStore } from '../imaging/file-store';
 import { ImageSeries } from '../imaging/image-series.entity';
 import { LabelMap } from '../structures/label-map.entity';
@@ -64,7 +65,18 @@ export class CaseService {
 
   async list(user: SignedInUser, query: CaseListQuery): Promise<Page<CaseSummary>> {
     const [items, total] = await this.cases.findVisiblePage(visibilityFilter(user), query);
-    return { items: items.map(toSummary), total, page: query.page, size: query.size };
+    const nextMeetings = await new MeetingService(this.em).nextMeetingOf(
+      items.map((found) => found.id),
+    );
+    return {
+      items: items.map((found) => ({
+        ...toSummary(found),
+        nextMeetingAt: nextMeetings.get(found.id) ?? null,
+      })),
+      total,
+      page: query.page,
+      size: query.size,
+    };
   }
 
   async get(user: SignedInUser, actor: Actor, id: string): Promise<CaseDetail> {

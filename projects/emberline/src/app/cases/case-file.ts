@@ -12,6 +12,7 @@ import { problemMessage } from '../core/problem';
 import { CaseApi } from './case-api';
 import { CaseFileState } from './case-file-state';
 import { CaseStatusBadge } from './case-status-badge';
+import { AgendaPlacement } from '../meetings/agenda-placement';
 
 /**
  * The sections of a case file, in order (DEVELOPERS.md, "Screens"); the others follow as they
@@ -37,6 +38,7 @@ export const caseFileSections: readonly { path: string; label: string }[] = [
     MatButton,
     MatIcon,
     CaseStatusBadge,
+    AgendaPlacement,
   ],
   providers: [CaseFileState],
   templateUrl: './case-file.html',

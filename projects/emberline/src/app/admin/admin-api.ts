@@ -74,6 +74,17 @@ export class AdminApi {
     });
   }
 
+  setQuorum(
+    boardId: string,
+    requiredSpecialties: Specialty[],
+  ): Observable<{ requiredSpecialties: Specialty[] }> {
+    return this.http.put<{ requiredSpecialties: Specialty[] }>(
+      `/api/admin/boards/${encodeURIComponent(boardId)}/quorum`,
+      { requiredSpecialties },
+      { context: shownBeside() },
+    );
+  }
+
   removeMember(boardId: string, userId: string): Observable<null> {
     return this.http.delete<null>(
       `/api/admin/boards/${encodeURIComponent(boardId)}/members/${encodeURIComponent(userId)}`,

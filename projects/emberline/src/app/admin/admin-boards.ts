@@ -17,6 +17,7 @@ import { problemMessage } from '../core/problem';
 import { zodValidator } from '../core/zod-validator';
 import { AdminApi } from './admin-api';
 import { TypedCellDef } from '../core/typed-cell-def';
+import { BoardQuorumEditor } from './board-quorum-editor';
 
 /** Every board, and a form to create one. Members are added from the users' page. */
 @Component({
@@ -32,6 +33,7 @@ import { TypedCellDef } from '../core/typed-cell-def';
     MatButton,
     MatProgressBar,
     FieldError,
+    BoardQuorumEditor,
   ],
   template: `
     <div class="area">
@@ -59,6 +61,12 @@ import { TypedCellDef } from '../core/typed-cell-def';
               <ng-container matColumnDef="memberCount">
                 <th mat-header-cell *matHeaderCellDef>Members</th>
                 <td mat-cell *emCellDef="let board of boards.value()">{{ board.memberCount }}</td>
+              </ng-container>
+              <ng-container matColumnDef="quorum">
+                <th mat-header-cell *matHeaderCellDef>Quorum</th>
+                <td mat-cell *emCellDef="let board of boards.value()">
+                  <em-board-quorum-editor [board]="board" />
+                </td>
               </ng-container>
               <tr mat-header-row *matHeaderRowDef="columns"></tr>
               <tr mat-row *matRowDef="let row; columns: columns"></tr>
@@ -133,7 +141,7 @@ export class AdminBoards {
   private readonly api = inject(AdminApi);
 
   protected readonly boards = this.api.boards();
-  protected readonly columns = ['name', 'description', 'memberCount'];
+  protected readonly columns = ['name', 'description', 'memberCount', 'quorum'];
   protected readonly isSaving = signal(false);
   protected readonly errorText = signal('');
   protected readonly savedText = signal('');

@@ -116,9 +116,11 @@ export class AgendaPlacement {
     const detail = this.caseDetail();
     return detail.status === 'ready-for-board' && detail.presenter.id === this.session.user()?.id;
   });
-  protected readonly meetings = this.api.boardMeetings(() =>
+  /** A string, so that a reloaded case with the same board asks for nothing again. */
+  private readonly boardId = computed(() =>
     this.isEligible() ? this.caseDetail().board.id : undefined,
   );
+  protected readonly meetings = this.api.boardMeetings(this.boardId);
   protected readonly choices = computed(() => {
     if (!this.meetings.hasValue()) return [];
     return meetingTimeline(this.meetings.value(), Date.now()).upcoming.filter(

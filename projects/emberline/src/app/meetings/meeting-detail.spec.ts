@@ -3,7 +3,7 @@ import { HttpTestingController, provideHttpClientTesting } from '@angular/common
 import { provideZonelessChangeDetection } from '@angular/core';
 import { TestBed, type ComponentFixture } from '@angular/core/testing';
 import { provideRouter } from '@angular/router';
-import type { CurrentUser, MeetingView } from '@emberline/shared';
+import type { CurrentUser, MeetingSummary, MeetingView } from '@emberline/shared';
 import { AuthSession } from '../core/auth-session';
 import { textOf } from '../../testing/dom';
 import { MeetingDetail } from './meeting-detail';
@@ -53,16 +53,32 @@ function meetingView(order: string[] = ['item-a', 'item-b', 'item-c']): MeetingV
   };
 }
 
+/** Lets resources take their answers and issue the requests that depend on them. */
+async function settle(): Promise<void> {
+  await new Promise((resolve) => setTimeout(resolve));
+  TestBed.tick();
+}
+
 describe('MeetingDetail', () => {
   let fixture: ComponentFixture<MeetingDetail>;
   let http: HttpTestingController;
 
-  async function open(signedInId: string, view = meetingView()): Promise<void> {
+  async function open(
+    signedInId: string,
+    boardMeetings: MeetingSummary[] = [],
+    view = meetingView(),
+  ): Promise<void> {
     TestBed.inject(AuthSession).replace(user(signedInId));
     fixture = TestBed.createComponent(MeetingDetail);
     fixture.componentRef.setInput('id', 'meeting-1');
     fixture.detectChanges();
     http.expectOne('/api/meetings/meeting-1').flush(view);
+    // whenStable would wait for the board's meetings too: let the resources react first.
+    await settle();
+    if (signedInId === chairId) {
+      // Only the chair needs the board's other meetings, as targets of a move.
+      http.expectOne('/api/boards/board-1/meetings').flush(boardMeetings);
+    }
     await fixture.whenStable();
   }
 
@@ -133,6 +149,45 @@ describe('MeetingDetail', () => {
       );
     await fixture.whenStable();
     expect(textOf(fixture)).toContain('Only the chair orders.');
+  });
+
+  it('moves an item to another scheduled meeting ahead and reloads the agenda', async () => {
+    const view = meetingView();
+    const summary: MeetingSummary = {
+      id: view.id,
+      boardId: view.boardId,
+      boardName: view.boardName,
+      startsAt: view.startsAt,
+      durationMin: view.durationMin,
+      chair: view.chair,
+      place: view.place,
+      state: view.state,
+      agendaCount: view.agendaCount,
+    };
+    await open(chairId, [
+      summary,
+      { ...summary, id: 'meeting-closed', startsAt: '2020-01-01T09:00:00.000Z', state: 'closed' },
+      { ...summary, id: 'meeting-2', startsAt: '2099-01-01T09:00:00.000Z' },
+    ]);
+    const targets = (
+      fixture.componentInstance as unknown as { moveTargets(): MeetingSummary[] }
+    ).moveTargets();
+    expect(targets.map((target) => target.id)).toEqual(['meeting-2']);
+    (
+      fixture.componentInstance as unknown as {
+        moveTo(item: MeetingView['agenda'][number], targetId: string): void;
+      }
+    ).moveTo(meetingView().agenda[1], 'meeting-2');
+    const request = http.expectOne('/api/agenda-items/item-b/move');
+    expect(request.request.method).toBe('POST');
+    expect(request.request.body).toEqual({ meetingId: 'meeting-2' });
+    request.flush({ ...summary, id: 'meeting-2', agenda: [], requiredSpecialties: [] });
+    await settle();
+    http.expectOne('/api/meetings/meeting-1').flush(meetingView(['item-a', 'item-c']));
+    http.expectOne('/api/boards/board-1/meetings').flush([]);
+    await fixture.whenStable();
+    expect(textOf(fixture)).toContain('EL-002 moved to another meeting.');
+    expect(textOf(fixture)).not.toContain('EL-002 ·');
   });
 
   it('disables moving the first item up and the last one down', async () => {

@@ -3,6 +3,7 @@ import { HttpErrorResponse } from '@angular/common/http';
 import { ChangeDetectionStrategy, Component, computed, inject, input, signal } from '@angular/core';
 import { MatButton, MatIconButton } from '@angular/material/button';
 import { MatIcon } from '@angular/material/icon';
+import { MatMenu, MatMenuItem, MatMenuTrigger } from '@angular/material/menu';
 import { MatProgressBar } from '@angular/material/progress-bar';
 import { RouterLink } from '@angular/router';
 import {
@@ -15,6 +16,7 @@ import { AuthSession } from '../core/auth-session';
 import { problemMessage } from '../core/problem';
 import { CaseStatusBadge } from '../cases/case-status-badge';
 import { MeetingApi } from './meeting-api';
+import { meetingTimeline } from './meeting-timeline';
 
 /** One meeting: when, where, who chairs, and its agenda in order; the chair reorders it. */
 @Component({
@@ -26,6 +28,9 @@ import { MeetingApi } from './meeting-api';
     MatIconButton,
     MatIcon,
     MatProgressBar,
+    MatMenu,
+    MatMenuItem,
+    MatMenuTrigger,
     CaseStatusBadge,
   ],
   template: `
@@ -67,6 +72,7 @@ import { MeetingApi } from './meeting-api';
         </div>
         <section class="em-panel" aria-labelledby="agenda-title">
           <h2 id="agenda-title">Agenda</h2>
+          <p class="em-note" role="status">{{ actionNote() }}</p>
           @if (actionError()) {
             <p class="em-error-text" role="alert">{{ actionError() }}</p>
           }
@@ -101,6 +107,24 @@ import { MeetingApi } from './meeting-api';
                       >
                         <mat-icon>arrow_downward</mat-icon>
                       </button>
+                      @if (moveTargets().length) {
+                        <button
+                          mat-button
+                          type="button"
+                          [disabled]="isSaving()"
+                          [matMenuTriggerFor]="targets"
+                          [attr.aria-label]="'Move ' + item.caseCode + ' to another meeting'"
+                        >
+                          Move to…
+                        </button>
+                        <mat-menu #targets="matMenu">
+                          @for (target of moveTargets(); track target.id) {
+                            <button mat-menu-item type="button" (click)="moveTo(item, target.id)">
+                              {{ target.startsAt | date: 'EEE d MMM y, HH:mm' }}
+                            </button>
+                          }
+                        </mat-menu>
+                      }
                     </span>
                   }
                 </li>
@@ -195,6 +219,20 @@ export class MeetingDetail {
     return current.state !== 'closed' && current.chair.id === this.session.user()?.id;
   });
 
+  /** The board's other scheduled meetings ahead, where the chair may move an item. */
+  // A plain string: a reordered meeting (a new object, same board) must not ask again.
+  private readonly targetBoardId = computed(() =>
+    this.mayOrder() && this.meeting.hasValue() ? this.meeting.value().boardId : undefined,
+  );
+  private readonly boardMeetings = this.api.boardMeetings(this.targetBoardId);
+  protected readonly moveTargets = computed(() => {
+    if (!this.boardMeetings.hasValue()) return [];
+    return meetingTimeline(this.boardMeetings.value(), Date.now()).upcoming.filter(
+      (other) => other.state === 'scheduled' && other.id !== this.id(),
+    );
+  });
+  protected readonly actionNote = signal('');
+
   protected readonly quorumText = computed(() => {
     if (!this.meeting.hasValue()) return '';
     const required = this.meeting.value().requiredSpecialties;
@@ -202,6 +240,24 @@ export class MeetingDetail {
       ? `Needs ${required.map((specialty) => specialtyLabels[specialty]).join(', ')}`
       : 'No specialty required';
   });
+
+  protected moveTo(item: AgendaItemView, targetId: string): void {
+    this.isSaving.set(true);
+    this.actionError.set('');
+    this.actionNote.set('');
+    this.api.moveItem(item.id, targetId).subscribe({
+      next: () => {
+        this.isSaving.set(false);
+        this.actionNote.set(`${item.caseCode} moved to another meeting.`);
+        this.meeting.reload();
+        this.boardMeetings.reload();
+      },
+      error: (error: unknown) => {
+        this.isSaving.set(false);
+        this.actionError.set(`${item.caseCode} could not be moved: ${problemMessage(error)}`);
+      },
+    });
+  }
 
   protected move(item: AgendaItemView, step: -1 | 1): void {
     if (!this.meeting.hasValue()) return;
@@ -213,6 +269,7 @@ export class MeetingDetail {
     [ids[from], ids[to]] = [ids[to], ids[from]];
     this.isSaving.set(true);
     this.actionError.set('');
+    this.actionNote.set('');
     this.api.orderAgenda(current.id, ids).subscribe({
       next: (view) => {
         this.isSaving.set(false);

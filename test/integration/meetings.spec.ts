@@ -7,6 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type {
   BoardMemberView,
   BoardView,
+  CaseDetail,
   CaseSummary,
   MeetingSummary,
   MeetingView,
@@ -140,6 +141,8 @@ describe('the agenda', () => {
     const row = register.items.find((item) => item.id === ids.northReady);
     expect(row?.status).toBe('on-agenda');
     expect(row?.nextMeetingAt).toBe(first.startsAt);
+    const detail = (await presenter.get(`/api/cases/${ids.northReady}`)).body as CaseDetail;
+    expect(detail.nextMeeting).toEqual({ id: first.id, startsAt: first.startsAt });
   });
 
   it('refuses a case that is not ready for board (409), one of another board (400), and a member (403)', async () => {

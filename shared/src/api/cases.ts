@@ -213,6 +213,8 @@ export interface LabPanelView {
 }
 
 export interface CaseDetail {
+  /** The meeting whose agenda holds the case, while it is not closed; null or absent otherwise. */
+  nextMeeting?: { id: string; startsAt: string } | null;
   id: string;
   caseCode: string;
   board: { id: string; name: string };

@@ -27,6 +27,7 @@ import { Lesion } from './lesion.entity';
 import { CaseRepository } from './case.repository';
 import { visibilityFilter } from './case-visibility';
 import { MeetingService } from '../meetings/meeting.service';
+import { AgendaItem } from '../meetings/agenda-item.entity';
 import type { FileStore } from '../imaging/file-store';
 import { ImageSeries } from '../imaging/image-series.entity';
 import { LabelMap } from '../structures/label-map.entity';
@@ -294,7 +295,14 @@ export class CaseService {
     const board = found.board.getEntity();
     const presenter = await found.presenter.load();
     const isEditable = canEdit(user, found);
+    const agendaItem = await this.em.findOne(
+      AgendaItem,
+      { clinicalCase: found.id, meeting: { state: { $ne: 'closed' } } },
+      { populate: ['meeting'] },
+    );
+    const meeting = agendaItem?.meeting.getEntity();
     return {
+      nextMeeting: meeting ? { id: meeting.id, startsAt: meeting.startsAt.toISOString() } : null,
       id: found.id,
       caseCode: found.caseCode,
       board: { id: board.id, name: board.name },

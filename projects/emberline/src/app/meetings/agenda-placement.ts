@@ -131,7 +131,11 @@ export class AgendaPlacement {
   protected readonly chosenId = signal('');
   protected readonly isSaving = signal(false);
   protected readonly errorText = signal('');
-  protected readonly placedOn = signal<MeetingView | null>(null);
+  /** The meeting the case was just put on here, or the one the server says holds it. */
+  protected readonly placedOn = computed<{ id: string; startsAt: string } | null>(
+    () => this.justPlaced() ?? this.caseDetail().nextMeeting ?? null,
+  );
+  private readonly justPlaced = signal<MeetingView | null>(null);
 
   protected place(): void {
     const meetingId = this.chosenId();
@@ -141,7 +145,7 @@ export class AgendaPlacement {
     this.api.addToAgenda(meetingId, this.caseDetail().id).subscribe({
       next: (meeting) => {
         this.isSaving.set(false);
-        this.placedOn.set(meeting);
+        this.justPlaced.set(meeting);
         this.placed.emit(meeting);
       },
       error: (error: unknown) => {

@@ -82,17 +82,15 @@ describe('BoardQuorumEditor', () => {
     choose([]);
     await fixture.whenStable();
     saveButton().click();
-    http
-      .expectOne('/api/admin/boards/board-1/quorum')
-      .flush(
-        {
-          type: 'about:blank',
-          title: 'Bad request',
-          status: 400,
-          detail: 'A specialty appears twice',
-        },
-        { status: 400, statusText: 'Bad Request' },
-      );
+    http.expectOne('/api/admin/boards/board-1/quorum').flush(
+      {
+        type: 'about:blank',
+        title: 'Bad request',
+        status: 400,
+        detail: 'A specialty appears twice',
+      },
+      { status: 400, statusText: 'Bad Request' },
+    );
     await fixture.whenStable();
     expect(textOf(fixture)).toContain('The quorum was not saved: A specialty appears twice');
     expect(saveButton().disabled).toBe(false);

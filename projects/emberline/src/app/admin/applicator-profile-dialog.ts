@@ -11,14 +11,13 @@ import {
   type ApplicatorProfileView,
 } from '@emberline/shared';
 import { FieldError } from '../core/field-error';
-import { problemMessage } from '../core/problem';
-import { applyFieldErrors } from '../core/server-field-errors';
 import { AdminApi } from './admin-api';
 import {
   applicatorProfileBody,
   applicatorProfileForm,
   zoneTableSourceOptions,
 } from './applicator-profile-form';
+import { profileSaveRefusal } from './profile-save-refusal';
 import { ProfileDialogShell } from './profile-dialog-shell';
 import { ZoneTableEditor } from './zone-table-editor';
 
@@ -91,14 +90,7 @@ export class ApplicatorProfileDialog {
       next: (saved) => this.dialogRef.close(saved),
       error: (error: unknown) => {
         this.isSaving.set(false);
-        const unmatched = applyFieldErrors(this.form, error);
-        this.errorText.set(
-          [
-            this.profile ? 'The profile was not saved.' : 'The profile was not created.',
-            problemMessage(error),
-            ...unmatched,
-          ].join(' '),
-        );
+        this.errorText.set(profileSaveRefusal(this.form, error, this.profile !== null));
       },
     });
   }

@@ -17,9 +17,8 @@ import {
 } from '@emberline/shared';
 import { map } from 'rxjs';
 import { FieldError } from '../core/field-error';
-import { problemMessage } from '../core/problem';
-import { applyFieldErrors } from '../core/server-field-errors';
 import { AdminApi } from './admin-api';
+import { profileSaveRefusal } from './profile-save-refusal';
 import { ProfileDialogShell } from './profile-dialog-shell';
 import {
   safetyProfileBody,
@@ -141,14 +140,7 @@ export class SafetyProfileDialog {
       next: (saved) => this.dialogRef.close(saved),
       error: (error: unknown) => {
         this.isSaving.set(false);
-        const unmatched = applyFieldErrors(this.form, error);
-        this.errorText.set(
-          [
-            this.profile ? 'The profile was not saved.' : 'The profile was not created.',
-            problemMessage(error),
-            ...unmatched,
-          ].join(' '),
-        );
+        this.errorText.set(profileSaveRefusal(this.form, error, this.profile !== null));
       },
     });
   }

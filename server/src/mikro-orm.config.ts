@@ -19,6 +19,13 @@ import { SamlAssertionSeen } from './modules/saml/saml-assertion.entity';
 import { SamlRequest } from './modules/saml/saml-request.entity';
 import { ApplicatorProfileVersion } from './modules/plans/applicator-profile-version.entity';
 import { SafetyProfileVersion } from './modules/plans/safety-profile-version.entity';
+import { Attendance } from './modules/meetings/attendance.entity';
+import { Minutes } from './modules/meetings/minutes.entity';
+import { Vote } from './modules/votes/vote.entity';
+import { ItemComment } from './modules/votes/comment.entity';
+import { Annotation } from './modules/annotations/annotation.entity';
+import { Decision } from './modules/decisions/decision.entity';
+import { DecisionAmendment } from './modules/decisions/decision-amendment.entity';
 import { AgendaItem } from './modules/meetings/agenda-item.entity';
 import { Meeting } from './modules/meetings/meeting.entity';
 import { HttpSession } from './modules/sessions/http-session.entity';
@@ -53,6 +60,13 @@ export const entities = [
   Assessment,
   Meeting,
   AgendaItem,
+  Attendance,
+  Minutes,
+  Vote,
+  ItemComment,
+  Annotation,
+  Decision,
+  DecisionAmendment,
 ];
 
 /** "NeedlePlan" → "The needle plan": how a miss names what was looked for. */

@@ -7,6 +7,7 @@ export * from './api/cases';
 export * from './api/lesion-label';
 export * from './api/boards';
 export * from './api/meetings';
+export * from './api/board-session';
 export * from './api/audit';
 export * from './api/imaging';
 export * from './api/structures';

@@ -8,20 +8,26 @@ const database = `emberline_migrations_${process.pid}`;
 
 const expectedTables = [
   'agenda_item',
+  'annotation',
   'app_user',
   'applicator_profile',
   'applicator_profile_version',
   'assessment',
+  'attendance',
   'audit_event',
   'board',
   'board_membership',
   'clinical_case',
+  'decision',
+  'decision_amendment',
   'http_session',
   'image_series',
+  'item_comment',
   'lab_panel',
   'label_map',
   'lesion',
   'meeting',
+  'minutes',
   'needle_plan',
   'role_policy',
   'safety_profile',
@@ -30,6 +36,7 @@ const expectedTables = [
   'saml_request',
   'structure',
   'uid_replacement',
+  'vote',
 ];
 
 async function tables(orm: MikroORM): Promise<string[]> {

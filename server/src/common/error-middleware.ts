@@ -6,6 +6,59 @@ import {
 } from '@mikro-orm/core';
 import { AppError, ValidationError } from './errors';
 
+/**
+ * The problem details (RFC 9457) for any error a handler throws: typed errors keep their status
+ * and message, anything unexpected is logged and answered as a 500 without its details. One
+ * function for the HTTP API and for every Socket.IO acknowledgement.
+ */
+export function problemFrom(
+  error: unknown,
+  log: (message: string, error: unknown) => void,
+): ProblemDetails {
+  if (error instanceof AppError) {
+    const problem: ProblemDetails = {
+      type: error.type,
+      title: error.title,
+      status: error.status,
+      detail: error.message,
+    };
+    if (error instanceof ValidationError) problem.errors = error.errors;
+    return problem;
+  }
+  if (error instanceof OrmNotFoundError) {
+    // A lookup that bypassed the configured handler: still a 404, without the ORM's message.
+    return {
+      type: 'about:blank',
+      title: 'Not found',
+      status: 404,
+      detail: 'The record was not found.',
+    };
+  }
+  if (error instanceof UniqueConstraintViolationException) {
+    return {
+      type: 'about:blank',
+      title: 'Conflict',
+      status: 409,
+      detail: 'A record with that value exists already.',
+    };
+  }
+  if (isBodyParserError(error)) {
+    return {
+      type: 'about:blank',
+      title: 'Invalid request',
+      status: error.status,
+      detail: 'The request body could not be read.',
+    };
+  }
+  log('unexpected error', error);
+  return {
+    type: 'about:blank',
+    title: 'Internal error',
+    status: 500,
+    detail: 'Something went wrong on the server; it has been logged.',
+  };
+}
+
 /** Maps typed errors to problem details (RFC 9457); anything else is logged and answered 500. */
 export function errorMiddleware(
   log: (message: string, error: unknown) => void,
@@ -15,46 +68,7 @@ export function errorMiddleware(
       next(error);
       return;
     }
-    let problem: ProblemDetails;
-    if (error instanceof AppError) {
-      problem = {
-        type: error.type,
-        title: error.title,
-        status: error.status,
-        detail: error.message,
-      };
-      if (error instanceof ValidationError) problem.errors = error.errors;
-    } else if (error instanceof OrmNotFoundError) {
-      // A lookup that bypassed the configured handler: still a 404, without the ORM's message.
-      problem = {
-        type: 'about:blank',
-        title: 'Not found',
-        status: 404,
-        detail: 'The record was not found.',
-      };
-    } else if (error instanceof UniqueConstraintViolationException) {
-      problem = {
-        type: 'about:blank',
-        title: 'Conflict',
-        status: 409,
-        detail: 'A record with that value exists already.',
-      };
-    } else if (isBodyParserError(error)) {
-      problem = {
-        type: 'about:blank',
-        title: 'Invalid request',
-        status: error.status,
-        detail: 'The request body could not be read.',
-      };
-    } else {
-      log('unexpected error', error);
-      problem = {
-        type: 'about:blank',
-        title: 'Internal error',
-        status: 500,
-        detail: 'Something went wrong on the server; it has been logged.',
-      };
-    }
+    const problem = problemFrom(error, log);
     response.status(problem.status).type('application/problem+json').json(problem);
   };
 }

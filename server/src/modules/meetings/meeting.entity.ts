@@ -7,7 +7,7 @@ import {
   Property,
   type Ref,
 } from '@mikro-orm/core';
-import type { MeetingState } from '@emberline/shared';
+import type { MeetingState, ViewState } from '@emberline/shared';
 import { BaseEntity } from '../../common/base.entity';
 import { Board } from '../boards/board.entity';
 import { User } from '../users/user.entity';
@@ -39,6 +39,27 @@ export class Meeting extends BaseEntity {
 
   @ManyToOne(() => User, { ref: true })
   scheduledBy: Ref<User>;
+
+  /** Who leads the shared view; the presenter of the first item when the session opens. */
+  @ManyToOne(() => User, { ref: true, nullable: true })
+  lead: Ref<User> | null = null;
+
+  /** The lead's latest view (ViewState), kept so a late joiner starts where the room is. */
+  @Property({ type: 'json', nullable: true })
+  viewState: ViewState | null = null;
+
+  /** Increases with each view update; clients drop anything older than what they hold. */
+  @Property({ type: 'integer', default: 0 })
+  viewSequence: number = 0;
+
+  @Property({ type: 'Date', columnType: 'timestamptz', nullable: true })
+  openedAt: Date | null = null;
+
+  @Property({ type: 'Date', columnType: 'timestamptz', nullable: true })
+  closedAt: Date | null = null;
+
+  @ManyToOne(() => User, { ref: true, nullable: true })
+  closedBy: Ref<User> | null = null;
 
   @OneToMany(() => AgendaItem, (item) => item.meeting, { orderBy: { position: 'asc' } })
   agenda = new Collection<AgendaItem>(this);

@@ -103,6 +103,16 @@ export interface TallyView {
   isClosed: boolean;
 }
 
+/** GET /api/cases/:id/votes: the positions cast on one agenda item of the case. */
+export interface AgendaItemVotes {
+  agendaItemId: string;
+  meetingId: string;
+  meetingStartsAt: string;
+  isClosed: boolean;
+  /** By option, then by when cast. */
+  votes: VoteView[];
+}
+
 // ---------------------------------------------------------------- comments
 
 /** POST /api/agenda-items/:id/comments and `comment:post`. */

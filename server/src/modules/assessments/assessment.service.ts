@@ -16,6 +16,7 @@ import { AppError, ConflictError, ForbiddenError, NotFoundError } from '../../co
 import type { Actor, SignedInUser } from '../../common/request-context';
 import { recordAudit } from '../audit/audit.service';
 import { visibilityFilter } from '../cases/case-visibility';
+import { assertCaseOpenForChanges } from '../cases/case-open-for-changes';
 import { NeedlePlan } from '../plans/needle-plan.entity';
 import { SafetyProfile } from '../plans/safety-profile.entity';
 import { User } from '../users/user.entity';
@@ -104,6 +105,7 @@ export class AssessmentService {
     if (!hasRole(user, 'presenting-physician') || clinicalCase.presenter.id !== user.id) {
       throw new ForbiddenError('Only the presenting physician of the case requests assessments.');
     }
+    assertCaseOpenForChanges(clinicalCase);
     if (plan.status === 'selected' || plan.status === 'set-aside') {
       throw new ConflictError('A plan the board has selected or set aside is not assessed again.');
     }

@@ -26,6 +26,7 @@ import { LabPanel } from './lab-panel.entity';
 import { Lesion } from './lesion.entity';
 import { CaseRepository } from './case.repository';
 import { visibilityFilter } from './case-visibility';
+import { assertCaseOpenForChanges, isCaseOpenForChanges } from './case-open-for-changes';
 import { MeetingService } from '../meetings/meeting.service';
 import { AgendaItem } from '../meetings/agenda-item.entity';
 import type { FileStore } from '../imaging/file-store';
@@ -268,6 +269,7 @@ export class CaseService {
     const found = await this.findVisible(user, id);
     if (!canEdit(user, found))
       throw new ForbiddenError('Only the presenting physician of this case edits it.');
+    assertCaseOpenForChanges(found);
     return found;
   }
 
@@ -294,10 +296,10 @@ export class CaseService {
     );
     const board = found.board.getEntity();
     const presenter = await found.presenter.load();
-    const isEditable = canEdit(user, found);
+    const isEditable = canEdit(user, found) && isCaseOpenForChanges(found.status);
     const agendaItem = await this.em.findOne(
       AgendaItem,
-      { clinicalCase: found.id, meeting: { state: { $ne: 'closed' } } },
+      { clinicalCase: found.id, closedAt: null, meeting: { state: { $ne: 'closed' } } },
       { populate: ['meeting'] },
     );
     const meeting = agendaItem?.meeting.getEntity();

@@ -14,6 +14,7 @@ import { ForbiddenError, NotFoundError } from '../../common/errors';
 import type { Actor, SignedInUser } from '../../common/request-context';
 import { recordAudit, writeAudit } from '../audit/audit.service';
 import { ClinicalCase } from '../cases/case.entity';
+import { assertCaseOpenForChanges } from '../cases/case-open-for-changes';
 import { visibilityFilter } from '../cases/case-visibility';
 import { User } from '../users/user.entity';
 import { CaseDeidentificationKeys } from './case-deidentification-keys';
@@ -76,6 +77,7 @@ export class ImagingService {
     if (!hasRole(user, 'presenting-physician') || found.presenter.id !== user.id) {
       throw new ForbiddenError('Only the presenting physician of this case uploads its images.');
     }
+    assertCaseOpenForChanges(found);
     try {
       return await this.ingest(user, actor, found, request, response);
     } catch (error) {

@@ -5,6 +5,7 @@ import { ConflictError, ForbiddenError, ValidationError } from '../../common/err
 import type { Actor, SignedInUser } from '../../common/request-context';
 import { recordAudit, writeAudit } from '../audit/audit.service';
 import { ClinicalCase } from '../cases/case.entity';
+import { assertCaseOpenForChanges } from '../cases/case-open-for-changes';
 import { ImageSeries } from '../imaging/image-series.entity';
 import { User } from '../users/user.entity';
 import { ApplicatorProfile } from './applicator-profile.entity';
@@ -57,6 +58,7 @@ export class PlanService {
     if (!isPresenterOf(user, found)) {
       throw new ForbiddenError('Only the presenting physician of this case drafts its plans.');
     }
+    assertCaseOpenForChanges(found);
     const series = await this.em.findOne(ImageSeries, {
       id: body.seriesId,
       clinicalCase: found.id,
@@ -124,6 +126,7 @@ export class PlanService {
     if (!isPresenterOf(user, found)) {
       throw new ForbiddenError('Only the presenting physician of this case drafts its plans.');
     }
+    assertCaseOpenForChanges(found);
     const siblings = await this.em.find(
       NeedlePlan,
       { clinicalCase: found.id },
@@ -236,6 +239,7 @@ export class PlanService {
         `Only the plan's author or the case's presenting physician may have it ${change}.`,
       );
     }
+    assertCaseOpenForChanges(found);
     // A plan whose assessment failed is a draft again: it may be corrected and re-assessed.
     if (plan.status !== 'draft' && plan.status !== 'assessment-failed') {
       throw new ConflictError(

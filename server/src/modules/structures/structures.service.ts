@@ -13,6 +13,7 @@ import { hasRole } from '../../common/auth-middleware';
 import { ForbiddenError, NotFoundError } from '../../common/errors';
 import type { Actor, SignedInUser } from '../../common/request-context';
 import { recordAudit, writeAudit } from '../audit/audit.service';
+import { assertCaseOpenForChanges } from '../cases/case-open-for-changes';
 import { visibilityFilter } from '../cases/case-visibility';
 import { Lesion } from '../cases/lesion.entity';
 import type { FileStore } from '../imaging/file-store';
@@ -139,6 +140,7 @@ export class StructuresService {
         'Only the presenting physician of this case changes its structures.',
       );
     }
+    assertCaseOpenForChanges(found);
     const wasTumour = structure.kind === 'tumour';
     const isTumourAfter = body.kind === undefined ? wasTumour : body.kind === 'tumour';
     const touchesLinks = body.isLesionConfirmed !== undefined || wasTumour !== isTumourAfter;
@@ -413,6 +415,7 @@ export class StructuresService {
         'Only the presenting physician of this case imports its structures.',
       );
     }
+    assertCaseOpenForChanges(found);
     return series;
   }
 }

@@ -22,6 +22,11 @@ import { imagingRoutes } from './modules/imaging/imaging.routes';
 import { adminProfileRoutes } from './modules/plans/admin-profiles.routes';
 import { planRoutes } from './modules/plans/plans.routes';
 import { meetingRoutes } from './modules/meetings/meetings.routes';
+import { minutesRoutes } from './modules/meetings/minutes.routes';
+import { decisionRoutes } from './modules/decisions/decisions.routes';
+import { voteRoutes } from './modules/votes/votes.routes';
+import { annotationRoutes } from './modules/annotations/annotations.routes';
+import { BoardRoom } from './modules/board-session/board-room';
 import { samlRoutes, samlStatusRoutes } from './modules/saml/saml.routes';
 import { structuresRoutes } from './modules/structures/structures.routes';
 
@@ -33,6 +38,11 @@ export interface Services {
   log: (message: string, error?: unknown) => void;
   /** The session middleware, when the caller shares it with Socket.IO; made here otherwise. */
   session?: RequestHandler;
+  /**
+   * The board session's rooms, shared with the realtime server so that REST actions reach the
+   * room; a fresh one (emitting nowhere) when the caller runs no sockets.
+   */
+  boardRoom?: BoardRoom;
   /** The assessment queue; without it a request for an assessment answers 503. */
   assessments?: Pick<AssessmentRuntime, 'queue' | 'displays'> | null;
 }
@@ -42,6 +52,7 @@ export const samlCallbackPath = '/api/auth/saml/callback';
 /** The whole HTTP application, with nothing global: tests build one per suite. */
 export function createApp(services: Services): Express {
   const { orm, config } = services;
+  const boardRoom = services.boardRoom ?? new BoardRoom();
   const app = express();
   app.disable('x-powered-by');
   app.set('trust proxy', config.trustProxy);
@@ -79,7 +90,7 @@ export function createApp(services: Services): Express {
   );
 
   app.use('/api/health', healthRoutes(orm));
-  app.use('/api/auth', authRoutes(orm, config));
+  app.use('/api/auth', authRoutes(orm, config, boardRoom));
   app.use('/api/auth/saml', samlStatusRoutes(config));
   if (config.saml) app.use('/api/auth/saml', samlRoutes(orm, config, config.saml));
   app.use('/api/boards', boardRoutes(orm));
@@ -87,7 +98,11 @@ export function createApp(services: Services): Express {
   app.use('/api', imagingRoutes(orm));
   app.use('/api', structuresRoutes(orm));
   app.use('/api', planRoutes(orm));
-  app.use('/api', meetingRoutes(orm));
+  app.use('/api', meetingRoutes(orm, boardRoom));
+  app.use('/api', minutesRoutes(orm, boardRoom));
+  app.use('/api', decisionRoutes(orm, boardRoom));
+  app.use('/api', voteRoutes(orm, boardRoom));
+  app.use('/api', annotationRoutes(orm, boardRoom));
   app.use(
     '/api',
     assessmentRoutes(orm, {
@@ -99,7 +114,7 @@ export function createApp(services: Services): Express {
       log: services.log,
     }),
   );
-  app.use('/api/admin', adminRoutes(orm));
+  app.use('/api/admin', adminRoutes(orm, boardRoom));
   app.use('/api/admin', adminProfileRoutes(orm));
   app.use('/api', notFoundHandler);
 

@@ -12,6 +12,8 @@ import { AssessmentProgressListener } from './modules/assessments/assessment-pro
 import { startAssessmentRuntime } from './modules/assessments/assessment-runtime';
 import { assessmentSocketFeature, relayProgress } from './modules/assessments/assessment.socket';
 import { createRealtimeServer } from './realtime/io';
+import { BoardRoom } from './modules/board-session/board-room';
+import { boardSessionAdapter, boardSessionFeatures } from './modules/board-session/board-session';
 
 const config = configFromEnvironment();
 config.clientDist =
@@ -27,20 +29,36 @@ const assessments = await startAssessmentRuntime({
   isWorking: process.env.ASSESSMENT_IN_SERVER !== '0',
 });
 const session = sessionMiddleware(config, sessionPool);
-const app = createApp({ orm, sessionPool, config, log: logger.error, session, assessments });
+const boardRoom = new BoardRoom();
+const app = createApp({
+  orm,
+  sessionPool,
+  config,
+  log: logger.error,
+  session,
+  assessments,
+  boardRoom,
+});
 
 const port = Number(process.env.PORT ?? 4300);
 const host = process.env.HOST ?? '127.0.0.1';
 const server = createServer(app);
-const io = createRealtimeServer(server, { orm, config, session }, [
-  assessmentSocketFeature(orm, logger.error),
-]);
+const socketAdapter = await boardSessionAdapter(databaseUrl(), logger.error);
+const sessionFeatures = boardSessionFeatures(orm);
+const io = createRealtimeServer(
+  server,
+  { orm, config, session, boardRoom, log: logger.error, adapter: socketAdapter?.adapter },
+  [assessmentSocketFeature(orm, logger.error)],
+  sessionFeatures.features,
+);
 const progress = new AssessmentProgressListener(databaseUrl(), relayProgress(io), logger.error);
 await progress.start();
 server.listen(port, host, () => logger.info(`Emberline listening on http://${host}:${port}`));
 
 async function shutDown(): Promise<void> {
   await io.close();
+  await sessionFeatures.close();
+  await socketAdapter?.close();
   server.close();
   await progress.close();
   await assessments.close();

@@ -33,6 +33,7 @@ import {
 } from '../../server/src/modules/assessments/assessment.socket';
 import { Assessment } from '../../server/src/modules/assessments/assessment.entity';
 import { NeedlePlan } from '../../server/src/modules/plans/needle-plan.entity';
+import { BoardRoom } from '../../server/src/modules/board-session/board-room';
 import { sessionMiddleware } from '../../server/src/modules/auth/session';
 import { createRealtimeServer, type EmberlineServer } from '../../server/src/realtime/io';
 import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
@@ -225,6 +226,8 @@ describe('progress over Socket.IO', () => {
         orm: testApp.orm,
         config: testApp.config,
         session: sessionMiddleware(testApp.config, sessionPool),
+        boardRoom: new BoardRoom(),
+        log: (message) => testApp.logs.push(message),
       },
       [assessmentSocketFeature(testApp.orm, (message) => testApp.logs.push(message))],
     );
@@ -248,7 +251,7 @@ describe('progress over Socket.IO', () => {
     return connectSocket(baseUrl, {
       path: '/socket.io',
       transports: ['websocket'],
-      extraHeaders: { Cookie: cookie },
+      extraHeaders: { Cookie: cookie, Origin: testApp.config.publicUrl },
       reconnection: false,
     });
   }

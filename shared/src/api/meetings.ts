@@ -58,6 +58,8 @@ export interface AgendaItemView {
   primaryDiagnosis: PrimaryDiagnosis;
   caseStatus: CaseStatus;
   presenterName: string;
+  /** Its decision is signed or its meeting closed: voting has ended. */
+  isClosed: boolean;
 }
 
 export interface MeetingSummary {

@@ -15,9 +15,14 @@ import { actorOf, requireRole } from '../../common/auth-middleware';
 import { NotFoundError } from '../../common/errors';
 import { parse, pathId } from '../../common/validate';
 import { listAuditEvents } from '../audit/audit.service';
+import type { BoardRoom } from '../board-session/board-room';
 import { AdminService } from './admin.service';
 
-export function adminRoutes(orm: MikroORM): Router {
+/**
+ * `room` closes the live sockets of a user whose access shrinks (deactivated, roles changed, a
+ * membership removed): they reconnect, if they still may, with what they may now do.
+ */
+export function adminRoutes(orm: MikroORM, room: BoardRoom): Router {
   const router = Router();
   router.use(requireRole('administrator'));
   const service = () => new AdminService(orm.em);
@@ -32,9 +37,10 @@ export function adminRoutes(orm: MikroORM): Router {
   });
   router.patch('/users/:id', async (request, response) => {
     const body = parse(updateUserSchema, request.body);
-    response.json(
-      await service().updateUser(actorOf(request), pathId(request.params.id, 'The user'), body),
-    );
+    const userId = pathId(request.params.id, 'The user');
+    const updated = await service().updateUser(actorOf(request), userId, body);
+    if (body.isActive === false || body.roles !== undefined) room.disconnectUser(userId);
+    response.json(updated);
   });
 
   router.get('/boards', async (_request, response) => {
@@ -66,11 +72,13 @@ export function adminRoutes(orm: MikroORM): Router {
     response.status(204).end();
   });
   router.delete('/boards/:id/members/:userId', async (request, response) => {
+    const userId = pathId(request.params.userId, 'The user');
     await service().removeMembership(
       actorOf(request),
       pathId(request.params.id, 'The board'),
-      pathId(request.params.userId, 'The user'),
+      userId,
     );
+    room.disconnectUser(userId);
     response.status(204).end();
   });
 

@@ -12,11 +12,12 @@ import { verifyPassword } from '../users/password';
 import { isTotpCodeValid, newTotpSecret, totpUri } from '../users/totp';
 import { User } from '../users/user.entity';
 import { loadSignedInUser, toCurrentUser } from '../users/user.service';
+import type { BoardRoom } from '../board-session/board-room';
 import { destroySession, establishSession, sessionCookieName } from './session';
 
 const refusal = 'The e-mail address or password is not correct.';
 
-export function authRoutes(orm: MikroORM, config: AppConfig): Router {
+export function authRoutes(orm: MikroORM, config: AppConfig, room: BoardRoom): Router {
   const router = Router();
 
   const loginLimiter = rateLimit({
@@ -96,6 +97,8 @@ export function authRoutes(orm: MikroORM, config: AppConfig): Router {
         entityId: request.currentUser.id,
       });
     }
+    // The browser session's live sockets close with it, at once.
+    if (request.sessionID) room.disconnectHttpSession(request.sessionID);
     if (request.session) await destroySession(request);
     response.clearCookie(sessionCookieName, { path: '/' });
     delete request.currentUser;

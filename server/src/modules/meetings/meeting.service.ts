@@ -174,7 +174,8 @@ export class MeetingService {
     actor: Actor,
     itemId: string,
     targetMeetingId: string,
-  ): Promise<MeetingView> {
+  ): Promise<{ view: MeetingView; movedFrom: string }> {
+    let movedFrom = '';
     await this.em.transactional(async (em) => {
       const item: AgendaItem | null = await em.findOne(AgendaItem, itemId, {
         populate: ['meeting'],
@@ -183,6 +184,7 @@ export class MeetingService {
         throw new NotFoundError('The agenda item');
       }
       const from = item.meeting.getEntity();
+      movedFrom = from.id;
       this.assertChair(user, from);
       if (from.state !== 'scheduled') {
         throw new ConflictError('Only an item of a scheduled meeting is moved.');
@@ -213,7 +215,7 @@ export class MeetingService {
         detail: { fromMeetingId: from.id, caseId: item.clinicalCase.id },
       });
     });
-    return this.get(user, targetMeetingId);
+    return { view: await this.get(user, targetMeetingId), movedFrom };
   }
 
   /** The next scheduled or running meeting of each case that is on an agenda, by case id. */
@@ -221,7 +223,11 @@ export class MeetingService {
     if (caseIds.length === 0) return new Map();
     const items = await this.em.find(
       AgendaItem,
-      { clinicalCase: { $in: [...caseIds] }, meeting: { state: { $ne: 'closed' } } },
+      {
+        clinicalCase: { $in: [...caseIds] },
+        closedAt: null,
+        meeting: { state: { $ne: 'closed' } },
+      },
       { populate: ['meeting'] },
     );
     return new Map(
@@ -297,6 +303,7 @@ export class MeetingService {
         primaryDiagnosis: found.primaryDiagnosis,
         caseStatus: found.status,
         presenterName: found.presenter.getEntity().displayName,
+        isClosed: item.closedAt !== null,
       };
     });
     return {

@@ -8,6 +8,7 @@ import {
 } from '@emberline/shared';
 import { actorOf, requireSignIn, signedInUser } from '../../common/auth-middleware';
 import { parse, pathId } from '../../common/validate';
+import type { BoardRoom } from '../board-session/board-room';
 import { MeetingService } from './meeting.service';
 
 /**
@@ -20,7 +21,7 @@ import { MeetingService } from './meeting.service';
  *   PUT  /meetings/:id/agenda/order     { itemIds } → MeetingView (the chair)
  *   POST /agenda-items/:id/move         { meetingId } → MeetingView of the target (the chair)
  */
-export function meetingRoutes(orm: MikroORM): Router {
+export function meetingRoutes(orm: MikroORM, room: BoardRoom): Router {
   const router = Router();
   const meetings = () => new MeetingService(orm.em);
   const meetingId = (value: unknown) => pathId(value, 'The meeting');
@@ -48,16 +49,14 @@ export function meetingRoutes(orm: MikroORM): Router {
   });
   router.post('/meetings/:id/agenda', requireSignIn, async (request, response) => {
     const { caseId } = parse(addAgendaItemSchema, request.body);
-    response
-      .status(201)
-      .json(
-        await meetings().addToAgenda(
-          signedInUser(request),
-          actorOf(request),
-          meetingId(request.params.id),
-          caseId,
-        ),
-      );
+    const added = await meetings().addToAgenda(
+      signedInUser(request),
+      actorOf(request),
+      meetingId(request.params.id),
+      caseId,
+    );
+    room.toMeeting(added.id).emit('agenda:changed', { meetingId: added.id, reason: 'order' });
+    response.status(201).json(added);
   });
   router.put('/meetings/:id/agenda/order', requireSignIn, async (request, response) => {
     const { itemIds } = parse(orderAgendaSchema, request.body);
@@ -69,17 +68,24 @@ export function meetingRoutes(orm: MikroORM): Router {
         itemIds,
       ),
     );
+    room.toMeeting(request.params.id as string).emit('agenda:changed', {
+      meetingId: request.params.id as string,
+      reason: 'order',
+    });
   });
   router.post('/agenda-items/:id/move', requireSignIn, async (request, response) => {
     const { meetingId: target } = parse(moveAgendaItemSchema, request.body);
-    response.json(
-      await meetings().move(
-        signedInUser(request),
-        actorOf(request),
-        pathId(request.params.id, 'The agenda item'),
-        target,
-      ),
+    const moved = await meetings().move(
+      signedInUser(request),
+      actorOf(request),
+      pathId(request.params.id, 'The agenda item'),
+      target,
     );
+    // Both agendas changed: the one the item left (named in the answer's audit) and the target.
+    for (const id of [moved.movedFrom, target]) {
+      room.toMeeting(id).emit('agenda:changed', { meetingId: id, reason: 'order' });
+    }
+    response.json(moved.view);
   });
   return router;
 }

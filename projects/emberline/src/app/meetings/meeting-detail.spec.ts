@@ -49,6 +49,7 @@ function meetingView(order: string[] = ['item-a', 'item-b', 'item-c']): MeetingV
       primaryDiagnosis: 'hcc',
       caseStatus: 'on-agenda',
       presenterName: 'Dr Presenter',
+      isClosed: false,
     })),
   };
 }

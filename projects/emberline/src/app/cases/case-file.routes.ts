@@ -22,6 +22,8 @@ export const caseFileRoutes: Routes = [
         // Lazy on its own: vtk.js stays out of every other chunk.
         path: 'imaging/:seriesId/viewer',
         title: 'Case viewer',
+        // The case file hands a workspace section the window's remaining height.
+        data: { isWorkspace: true },
         loadComponent: () => import('../imaging/viewer/viewer-page').then((m) => m.ViewerPage),
       },
       {

@@ -5,7 +5,7 @@ import { MatDialog } from '@angular/material/dialog';
 import { MatIcon } from '@angular/material/icon';
 import { MatProgressBar } from '@angular/material/progress-bar';
 import { MatTabLink, MatTabNav, MatTabNavPanel } from '@angular/material/tabs';
-import { Router, RouterLink, RouterLinkActive, RouterOutlet } from '@angular/router';
+import { Router, RouterLink, RouterLinkActive, RouterOutlet, type Data } from '@angular/router';
 import { primaryDiagnosisLabels } from '@emberline/shared';
 import { ConfirmDialog, type ConfirmDialogData } from '../core/confirm-dialog';
 import { problemMessage } from '../core/problem';
@@ -41,6 +41,7 @@ export const caseFileSections: readonly { path: string; label: string }[] = [
     AgendaPlacement,
   ],
   providers: [CaseFileState],
+  host: { '[class.is-workspace]': 'isWorkspace()' },
   templateUrl: './case-file.html',
   styleUrl: './case-file.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
@@ -56,6 +57,11 @@ export class CaseFile {
   protected readonly resource = this.state.resource;
   protected readonly detail = this.state.detail;
   protected readonly isDeleting = signal(false);
+  /**
+   * The section shown is a workspace (route data `isWorkspace`, the viewer): the case file then
+   * spans the window's width and hands the section all the height below its header.
+   */
+  protected readonly isWorkspace = signal(false);
   protected readonly loadError = computed(() => {
     const error = this.resource.error();
     if (!error) return '';
@@ -64,6 +70,10 @@ export class CaseFile {
     }
     return problemMessage(error);
   });
+
+  protected sectionShown(data: Data): void {
+    this.isWorkspace.set(data['isWorkspace'] === true);
+  }
 
   protected confirmDelete(): void {
     const detail = this.detail();

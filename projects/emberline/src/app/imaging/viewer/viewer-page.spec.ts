@@ -36,3 +36,30 @@ describe('ViewerPage without WebGL2', () => {
     expect(fixture.nativeElement.querySelector('canvas')).toBeNull();
   });
 });
+
+describe('ViewerPage embedded outside the case file', () => {
+  it('reads the plans of the case its host names and offers no way back to a case file', async () => {
+    // The meeting room gives the case and the right to draft itself: no CaseFileState there.
+    await TestBed.configureTestingModule({
+      imports: [ViewerPage],
+      providers: [
+        provideZonelessChangeDetection(),
+        provideHttpClient(),
+        provideHttpClientTesting(),
+        provideRouter([]),
+      ],
+    }).compileComponents();
+    const http = TestBed.inject(HttpTestingController);
+    const fixture = TestBed.createComponent(ViewerPage);
+    fixture.componentRef.setInput('seriesId', 'series-1');
+    fixture.componentRef.setInput('caseId', 'case-9');
+    fixture.componentRef.setInput('canEdit', false);
+    fixture.detectChanges();
+    // Let the resources issue their requests (whenStable would wait for their answers).
+    await new Promise((resolve) => setTimeout(resolve));
+    TestBed.tick();
+
+    expect(http.match((request) => request.url === '/api/cases/case-9/plans')).toHaveLength(1);
+    expect(textOf(fixture)).not.toContain('Back to the imaging');
+  });
+});

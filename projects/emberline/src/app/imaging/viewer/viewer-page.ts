@@ -29,6 +29,7 @@ import { newDraft, settingsForProfile } from './drafting/drafting-state';
 import { SliceView } from './slice-view';
 import { StructureToggles } from './structure-toggles';
 import { ViewerApi } from './viewer-api';
+import { ViewerReadouts } from './viewer-readouts';
 import { ViewerSession, type ViewerMode } from './viewer-session';
 import { ViewerToolbar } from './viewer-toolbar';
 import { VolumeView } from './volume-view';
@@ -40,6 +41,9 @@ import { hasWebGl2, noWebGl2Message } from './webgl-support';
  * drafting of needle plans with live clearance, and the assessed zones and margins of the plan
  * shown. Route `/cases/:id/imaging/:seriesId/viewer`,
  * `?plan=<id>` opens a plan.
+ *
+ * It fills the box its host gives it. Inside the case file it reads the case from
+ * `CaseFileState`; elsewhere (the meeting room) the host passes `caseId` and `canEdit`.
  */
 @Component({
   selector: 'em-viewer-page',
@@ -48,6 +52,7 @@ import { hasWebGl2, noWebGl2Message } from './webgl-support';
     MatButton,
     MatProgressBar,
     ViewerToolbar,
+    ViewerReadouts,
     SliceView,
     VolumeView,
     StructureToggles,
@@ -60,7 +65,8 @@ import { hasWebGl2, noWebGl2Message } from './webgl-support';
   changeDetection: ChangeDetectionStrategy.OnPush,
 })
 export class ViewerPage {
-  private readonly state = inject(CaseFileState);
+  /** Present when the viewer is a section of the case file. */
+  private readonly state = inject(CaseFileState, { optional: true });
   private readonly api = inject(ViewerApi);
   private readonly planApi = inject(PlanApi);
   private readonly router = inject(Router);
@@ -71,17 +77,24 @@ export class ViewerPage {
   readonly seriesId = input.required<string>();
   /** Query parameter: the plan to open. */
   readonly plan = input<string | undefined>();
+  /** The case, when embedded outside the case file (the case file's own otherwise). */
+  readonly caseId = input<string | undefined>();
+  /** Whether plans may be drafted, when embedded outside the case file. */
+  readonly canEdit = input<boolean | undefined>();
 
   protected readonly hasWebGl = hasWebGl2();
   protected readonly noWebGlMessage = noWebGl2Message;
   protected readonly statusLabels = planStatusLabels;
-  protected readonly caseId = this.state.caseId;
-  protected readonly canEdit = computed(() => this.state.detail()?.permissions.canEdit ?? false);
+  protected readonly isInCaseFile = this.state !== null;
+  protected readonly caseIdShown = computed(() => this.caseId() ?? this.state?.caseId());
+  protected readonly mayEdit = computed(
+    () => this.canEdit() ?? this.state?.detail()?.permissions.canEdit ?? false,
+  );
   protected readonly series = signal<ImageSeriesView | null>(null);
   protected readonly loadError = signal('');
   protected readonly isLoaded = signal(false);
 
-  protected readonly plans = this.planApi.list(this.state.caseId);
+  protected readonly plans = this.planApi.list(this.caseIdShown);
   protected readonly seriesPlans = computed<PlanView[]>(() =>
     (this.plans.hasValue() ? this.plans.value() : []).filter(
       (plan) => plan.seriesId === this.seriesId(),
@@ -142,7 +155,7 @@ export class ViewerPage {
     const planId = this.plan();
     const isLoaded = this.isLoaded();
     const plans = this.plans.hasValue() ? this.plans.value() : null;
-    const canEdit = this.canEdit();
+    const canEdit = this.mayEdit();
     if (!planId || !isLoaded || !plans || planId === this.openedPlanId) return;
     untracked(() => {
       this.openedPlanId = planId;
@@ -168,7 +181,7 @@ export class ViewerPage {
   }
 
   protected startNewPlan(): void {
-    if (!this.canEdit()) return;
+    if (!this.mayEdit()) return;
     const first = this.profiles()[0];
     this.shownPlan.set(null);
     this.openedPlanId = null;

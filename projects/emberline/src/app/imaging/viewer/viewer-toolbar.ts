@@ -1,22 +1,19 @@
-import { DecimalPipe } from '@angular/common';
 import { ChangeDetectionStrategy, Component, computed, inject, input, output } from '@angular/core';
 import { MatButton } from '@angular/material/button';
 import { MatButtonToggle, MatButtonToggleGroup } from '@angular/material/button-toggle';
 import { MatFormField, MatLabel, MatSuffix } from '@angular/material/form-field';
 import { MatInput } from '@angular/material/input';
-import type { Vec3 } from '@emberline/shared';
 import { minimumWindowWidth, presetOf, windowPresets, type DisplayWindow } from './display-window';
 import { ViewerSession, type ViewerMode } from './viewer-session';
 
 /**
- * The viewer's controls above the views: what a click does (crosshair, measure, draft), the
- * display window (presets and typed values), and the read-outs of the crosshair, the pointer
- * and the measured distance in patient coordinates.
+ * The viewer's controls above the views, one compact row: what a click does (crosshair, measure,
+ * draft) and the display window (presets and typed values). The read-outs sit under the views
+ * (`viewer-readouts.ts`).
  */
 @Component({
   selector: 'em-viewer-toolbar',
   imports: [
-    DecimalPipe,
     MatButton,
     MatButtonToggleGroup,
     MatButtonToggle,
@@ -49,12 +46,6 @@ export class ViewerToolbar {
     const current = this.window();
     return series.centre === current.centre && series.width === current.width;
   });
-  protected readonly cursor = this.session.cursorLps;
-  protected readonly cursorVoxel = this.session.cursorVoxel;
-  protected readonly cursorValue = this.session.cursorValue;
-  protected readonly hover = this.session.hover;
-  protected readonly measurement = this.session.measurement;
-  protected readonly measurementMm = this.session.measurementMm;
 
   protected chooseMode(mode: ViewerMode): void {
     this.modeRequested.emit(mode);
@@ -74,14 +65,5 @@ export class ViewerToolbar {
     if (Number.isFinite(value)) {
       this.window.update((window) => ({ ...window, width: Math.max(minimumWindowWidth, value) }));
     }
-  }
-
-  protected clearMeasurement(): void {
-    this.measurement.set(null);
-  }
-
-  /** Rounded voxel indices as text: "(96, 80, 32)". */
-  protected voxelText(voxel: Readonly<Vec3>): string {
-    return `(${voxel.map((value) => Math.round(value)).join(', ')})`;
   }
 }

@@ -21,6 +21,8 @@ export async function startTestApp(
   options: {
     /** Starts the assessment queue (and workers) once the database is open. */
     assessments?: (orm: MikroORM) => Promise<NonNullable<Services['assessments']>>;
+    /** The board session's rooms, for a suite that checks what reaches them. */
+    boardRoom?: Services['boardRoom'];
   } = {},
 ): Promise<TestApp> {
   const url = inject('databaseUrl');
@@ -35,6 +37,7 @@ export async function startTestApp(
   const assessments = options.assessments ? await options.assessments(orm) : null;
   const app = createApp({
     assessments,
+    boardRoom: options.boardRoom,
     orm,
     sessionPool,
     config,

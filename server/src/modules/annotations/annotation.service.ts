@@ -1,17 +1,13 @@
+import { LockMode } from '@mikro-orm/core';
 import type { EntityManager } from '@mikro-orm/postgresql';
-import {
-  caseStatuses,
-  type AnnotationView,
-  type CaseStatus,
-  type CreateAnnotation,
-  type UpdateAnnotation,
-} from '@emberline/shared';
+import type { AnnotationView, CreateAnnotation, UpdateAnnotation } from '@emberline/shared';
 import { hasRole } from '../../common/auth-middleware';
-import { ConflictError, ForbiddenError, NotFoundError, ValidationError } from '../../common/errors';
+import { ForbiddenError, NotFoundError, ValidationError } from '../../common/errors';
 import type { Actor, SignedInUser } from '../../common/request-context';
 import { recordAudit } from '../audit/audit.service';
 import type { BoardRoom } from '../board-session/board-room';
 import { ClinicalCase } from '../cases/case.entity';
+import { assertCaseOpenForChanges, isCaseOpenForChanges } from '../cases/case-open-for-changes';
 import { visibilityFilter } from '../cases/case-visibility';
 import { ImageSeries } from '../imaging/image-series.entity';
 import { AgendaItem } from '../meetings/agenda-item.entity';
@@ -19,11 +15,6 @@ import { Meeting } from '../meetings/meeting.entity';
 import { User } from '../users/user.entity';
 import { clinicalRoles } from '../votes/agenda-item-access';
 import { Annotation } from './annotation.entity';
-
-/** From `decided` on, a case's record of the board's work is kept as it was: no more changes. */
-export function isDecidedOrLater(status: CaseStatus): boolean {
-  return caseStatuses.indexOf(status) >= caseStatuses.indexOf('decided');
-}
 
 /**
  * Annotations on a case's series: points, lines and notes the clinical members of the board
@@ -64,7 +55,7 @@ export class AnnotationService {
         'Only the presenting physicians, board members and proceduralists of the board annotate.',
       );
     }
-    assertChangeable(found);
+    assertCaseOpenForChanges(found);
     const series = await this.em.findOne(ImageSeries, {
       id: body.seriesId,
       clinicalCase: found.id,
@@ -74,26 +65,28 @@ export class AnnotationService {
       throw new ValidationError(`seriesId: ${message}`, [{ path: 'seriesId', message }]);
     }
     const meeting = await this.openMeetingOf(found.id);
-    const annotation = new Annotation({
-      clinicalCase: this.em.getReference(ClinicalCase, found.id, { wrapped: true }),
-      series: this.em.getReference(ImageSeries, series.id, { wrapped: true }),
-      author: this.em.getReference(User, user.id, { wrapped: true }),
-      kind: body.kind,
-      points: body.points,
+    const id = await this.whileOpen(found.id, (em) => {
+      const annotation = new Annotation({
+        clinicalCase: em.getReference(ClinicalCase, found.id, { wrapped: true }),
+        series: em.getReference(ImageSeries, series.id, { wrapped: true }),
+        author: em.getReference(User, user.id, { wrapped: true }),
+        kind: body.kind,
+        points: body.points,
+      });
+      annotation.text = body.text || null;
+      if (meeting?.state === 'in-session') {
+        annotation.meeting = em.getReference(Meeting, meeting.id, { wrapped: true });
+      }
+      em.persist(annotation);
+      recordAudit(em, actor, {
+        action: 'annotation.create',
+        entityType: 'annotation',
+        entityId: annotation.id,
+        detail: { caseId: found.id, seriesId: series.id, kind: body.kind },
+      });
+      return annotation.id;
     });
-    annotation.text = body.text || null;
-    if (meeting?.state === 'in-session') {
-      annotation.meeting = this.em.getReference(Meeting, meeting.id, { wrapped: true });
-    }
-    this.em.persist(annotation);
-    recordAudit(this.em, actor, {
-      action: 'annotation.create',
-      entityType: 'annotation',
-      entityId: annotation.id,
-      detail: { caseId: found.id, seriesId: series.id, kind: body.kind },
-    });
-    await this.em.flush();
-    const view = await this.read(annotation.id);
+    const view = await this.read(id);
     if (meeting) this.room.toMeeting(meeting.id).emit('annotation:created', view);
     return { ...view, canEdit: true };
   }
@@ -104,55 +97,75 @@ export class AnnotationService {
     annotationId: string,
     changes: UpdateAnnotation,
   ): Promise<AnnotationView> {
-    const { annotation, meeting } = await this.findEditable(user, annotationId);
+    const { annotation: seen, meeting } = await this.findEditable(user, annotationId);
     if (changes.points) {
-      const expected = annotation.kind === 'line' ? 2 : 1;
+      const expected = seen.kind === 'line' ? 2 : 1;
       if (changes.points.length !== expected) {
-        const message = `A ${annotation.kind} has ${expected} point${expected > 1 ? 's' : ''}`;
+        const message = `A ${seen.kind} has ${expected} point${expected > 1 ? 's' : ''}`;
         throw new ValidationError(`points: ${message}`, [{ path: 'points', message }]);
       }
     }
-    if (changes.text !== undefined && annotation.kind === 'note' && !changes.text) {
+    if (changes.text !== undefined && seen.kind === 'note' && !changes.text) {
       const message = 'A note needs its text';
       throw new ValidationError(`text: ${message}`, [{ path: 'text', message }]);
     }
-    const before = { points: annotation.points, text: annotation.text };
-    if (changes.points) annotation.points = changes.points;
-    if (changes.text !== undefined) annotation.text = changes.text || null;
-    const isChanged =
-      JSON.stringify(before.points) !== JSON.stringify(annotation.points) ||
-      before.text !== annotation.text;
-    if (isChanged) {
-      recordAudit(this.em, actor, {
-        action: 'annotation.update',
-        entityType: 'annotation',
-        entityId: annotation.id,
-        detail: {
-          caseId: annotation.clinicalCase.id,
-          fields: Object.keys(changes),
-          byChair: annotation.author.id !== user.id,
-        },
-      });
-      await this.em.flush();
-    }
-    const view = await this.read(annotation.id);
+    const isChanged = await this.whileOpen(seen.clinicalCase.id, async (em) => {
+      const annotation = await em.findOneOrFail(Annotation, seen.id, { refresh: true });
+      const before = { points: JSON.stringify(annotation.points), text: annotation.text };
+      if (changes.points) annotation.points = changes.points;
+      if (changes.text !== undefined) annotation.text = changes.text || null;
+      const changed =
+        before.points !== JSON.stringify(annotation.points) || before.text !== annotation.text;
+      if (changed) {
+        recordAudit(em, actor, {
+          action: 'annotation.update',
+          entityType: 'annotation',
+          entityId: annotation.id,
+          detail: {
+            caseId: annotation.clinicalCase.id,
+            fields: Object.keys(changes),
+            byChair: annotation.author.id !== user.id,
+          },
+        });
+      }
+      return changed;
+    });
+    const view = await this.read(seen.id);
     if (isChanged && meeting) this.room.toMeeting(meeting.id).emit('annotation:updated', view);
     return { ...view, canEdit: true };
   }
 
   async delete(user: SignedInUser, actor: Actor, annotationId: string): Promise<void> {
-    const { annotation, meeting } = await this.findEditable(user, annotationId);
-    const caseId = annotation.clinicalCase.id;
-    this.em.remove(annotation);
-    recordAudit(this.em, actor, {
-      action: 'annotation.delete',
-      entityType: 'annotation',
-      entityId: annotationId,
-      detail: { caseId, byChair: annotation.author.id !== user.id },
+    const { annotation: seen, meeting } = await this.findEditable(user, annotationId);
+    const caseId = seen.clinicalCase.id;
+    await this.whileOpen(caseId, async (em) => {
+      em.remove(await em.findOneOrFail(Annotation, seen.id));
+      recordAudit(em, actor, {
+        action: 'annotation.delete',
+        entityType: 'annotation',
+        entityId: seen.id,
+        detail: { caseId, byChair: seen.author.id !== user.id },
+      });
     });
-    await this.em.flush();
-    if (meeting)
-      this.room.toMeeting(meeting.id).emit('annotation:deleted', { id: annotationId, caseId });
+    if (meeting) {
+      this.room.toMeeting(meeting.id).emit('annotation:deleted', { id: seen.id, caseId });
+    }
+  }
+
+  /**
+   * A write under a share lock on the case, its status read again: a decision signed meanwhile
+   * (it locks the case for update) waits for this change, or this change sees the case decided
+   * and answers 409.
+   */
+  private whileOpen<T>(caseId: string, write: (em: EntityManager) => T | Promise<T>): Promise<T> {
+    return this.em.transactional(async (em) => {
+      const locked = await em.findOneOrFail(ClinicalCase, caseId, {
+        lockMode: LockMode.PESSIMISTIC_READ,
+        refresh: true,
+      });
+      assertCaseOpenForChanges(locked);
+      return write(em);
+    });
   }
 
   /** 404 when the case is out of reach, 403 unless author or chair, 409 once decided. */
@@ -173,7 +186,7 @@ export class AnnotationService {
         'Only the author of an annotation, or the chair of the meeting discussing the case, changes it.',
       );
     }
-    assertChangeable(found);
+    assertCaseOpenForChanges(found);
     return { annotation, meeting };
   }
 
@@ -199,21 +212,13 @@ export class AnnotationService {
   }
 }
 
-function assertChangeable(found: ClinicalCase): void {
-  if (isDecidedOrLater(found.status)) {
-    throw new ConflictError(
-      `The case is ${found.status}; its annotations are kept as they were when the board decided.`,
-    );
-  }
-}
-
 function mayEdit(
   user: SignedInUser,
   annotation: Annotation,
   found: ClinicalCase,
   meeting: Meeting | null,
 ): boolean {
-  if (isDecidedOrLater(found.status)) return false;
+  if (!isCaseOpenForChanges(found.status)) return false;
   return annotation.author.id === user.id || meeting?.chair.id === user.id;
 }
 

@@ -9,7 +9,7 @@ import type {
   VerdictLevel,
 } from '@emberline/shared';
 import { hasRole } from '../../common/auth-middleware';
-import { ConflictError, ForbiddenError, NotFoundError } from '../../common/errors';
+import { AppError, ConflictError, ForbiddenError, NotFoundError } from '../../common/errors';
 import type { Actor, SignedInUser } from '../../common/request-context';
 import { recordAudit, writeAudit } from '../audit/audit.service';
 import type { BoardRoom } from '../board-session/board-room';
@@ -139,8 +139,13 @@ export class MinutesService {
   async read(user: SignedInUser, actor: Actor, meetingId: string): Promise<StoredMinutes> {
     const meeting = await this.findVisible(user, meetingId);
     const minutes = await this.em.findOne(Minutes, { meeting: meeting.id });
-    // None until the meeting closes.
-    if (!minutes) throw new NotFoundError('The minutes');
+    if (!minutes) {
+      throw new AppError(
+        404,
+        'Not found',
+        'The meeting has no minutes yet: they are written when its chair closes it.',
+      );
+    }
     await writeAudit(this.em, actor, {
       action: 'minutes.read',
       entityType: 'meeting',

@@ -3,6 +3,7 @@ import { seedDemo } from '../../seeders/demo-seed';
 import { seedDemoImaging } from '../../seeders/demo-imaging';
 import { seedDemoPlans, seedDemoProfiles } from '../../seeders/demo-plans';
 import { queueDemoAssessments } from '../../seeders/demo-assessments';
+import { seedDemoMeetings } from '../../seeders/demo-meetings';
 import { databaseUrl } from '../database-url';
 import {
   AssessmentQueue,
@@ -12,7 +13,7 @@ import {
 /**
  * Seeds the invented demo hospital into an empty database, its applicator and safety profiles,
  * then the invented CT and its structures into the demo case that has none, and the demo
- * needle plans on it, and queues their assessments (worked by the server when it starts); each
+ * needle plans on it, the board's meetings (one upcoming, one closed with its minutes), and queues their assessments (worked by the server when it starts); each
  * step is a no-op once done.
  */
 const orm = await openDatabase();
@@ -30,6 +31,10 @@ try {
   const arePlansSeeded = await seedDemoPlans(orm.em.fork());
   process.stderr.write(
     arePlansSeeded ? 'demo needle plans seeded\n' : 'demo needle plans present already\n',
+  );
+  const areMeetingsSeeded = await seedDemoMeetings(orm.em.fork());
+  process.stderr.write(
+    areMeetingsSeeded ? 'demo meetings seeded\n' : 'demo meetings present already\n',
   );
   if (arePlansSeeded) {
     const queue = await AssessmentQueue.start(

@@ -14,6 +14,7 @@ import {
 } from '@emberline/shared';
 import { AuthSession } from '../core/auth-session';
 import { problemMessage } from '../core/problem';
+import { BoardRoom } from '../board-session/board-room';
 import { CaseStatusBadge } from '../cases/case-status-badge';
 import { MeetingApi } from './meeting-api';
 import { meetingTimeline } from './meeting-timeline';
@@ -32,9 +33,10 @@ import { meetingTimeline } from './meeting-timeline';
     MatMenuItem,
     MatMenuTrigger,
     CaseStatusBadge,
+    BoardRoom,
   ],
   template: `
-    <section class="em-page" aria-labelledby="meeting-title">
+    <section class="em-page" [class.live]="isLive()" aria-labelledby="meeting-title">
       <a class="back" routerLink="/meetings"
         ><mat-icon aria-hidden="true">arrow_back</mat-icon> All meetings</a
       >
@@ -68,9 +70,36 @@ import { meetingTimeline } from './meeting-timeline';
             <dt>Quorum</dt>
             <dd>{{ quorumText() }}</dd>
           </dl>
-          <p class="em-muted">The live board session opens here when the meeting starts.</p>
+          @switch (current.state) {
+            @case ('closed') {
+              <p>
+                The meeting is closed.
+                <a [routerLink]="['/meetings', current.id, 'minutes']">Read the minutes</a>
+              </p>
+            }
+            @case ('in-session') {
+              <p class="em-muted">The board session is running below.</p>
+            }
+            @default {
+              @if (isMember() && !isLive()) {
+                <button mat-flat-button type="button" (click)="joinRequested.set(true)">
+                  {{ mayOrder() ? 'Open the board session' : 'Join the board session' }}
+                </button>
+                <p class="em-muted">
+                  {{
+                    mayOrder()
+                      ? 'Opening the session starts the meeting: attendance is recorded from then on.'
+                      : 'The session starts when the chair opens it; you may wait in the room.'
+                  }}
+                </p>
+              }
+            }
+          }
         </div>
-        <section class="em-panel" aria-labelledby="agenda-title">
+        @if (isLive()) {
+          <em-board-room [meeting]="current" (changed)="meeting.reload()" />
+        }
+        <section class="em-panel" aria-labelledby="agenda-title" [hidden]="isLive()">
           <h2 id="agenda-title">Agenda</h2>
           <p class="em-note" role="status">{{ actionNote() }}</p>
           @if (actionError()) {
@@ -141,6 +170,10 @@ import { meetingTimeline } from './meeting-timeline';
     </section>
   `,
   styles: `
+    .em-page.live {
+      max-width: none;
+    }
+
     .back {
       display: inline-flex;
       align-items: center;
@@ -232,6 +265,20 @@ export class MeetingDetail {
     );
   });
   protected readonly actionNote = signal('');
+
+  /** A member who asked to join a meeting that has not started. */
+  protected readonly joinRequested = signal(false);
+  protected readonly isMember = computed(() => {
+    if (!this.meeting.hasValue()) return false;
+    const boardId = this.meeting.value().boardId;
+    return (this.session.user()?.boards ?? []).some((board) => board.boardId === boardId);
+  });
+  /** The live room: a running meeting, or one a member has chosen to enter. */
+  protected readonly isLive = computed(() => {
+    if (!this.meeting.hasValue() || !this.isMember()) return false;
+    const state = this.meeting.value().state;
+    return state === 'in-session' || (state === 'scheduled' && this.joinRequested());
+  });
 
   protected readonly quorumText = computed(() => {
     if (!this.meeting.hasValue()) return '';

@@ -7,6 +7,11 @@ export const meetingRoutes: Routes = [
     loadComponent: () => import('./my-meetings').then((m) => m.MyMeetings),
   },
   {
+    path: ':id/minutes',
+    title: 'Minutes',
+    loadComponent: () => import('../board-session/minutes-page').then((m) => m.MinutesPage),
+  },
+  {
     path: ':id',
     title: 'Meeting',
     loadComponent: () => import('./meeting-detail').then((m) => m.MeetingDetail),

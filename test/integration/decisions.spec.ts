@@ -278,13 +278,24 @@ describe('the decision', () => {
   });
 
   it('is read by anyone who sees the case, a coordinator included, and by nobody else', async () => {
-    for (const client of [member, coordinator, presenter, proceduralist]) {
+    const readers = [
+      ['member@emberline.test', member],
+      ['coordinator@emberline.test', coordinator],
+      ['presenter@emberline.test', presenter],
+      ['proceduralist@emberline.test', proceduralist],
+    ] as const;
+    for (const [, client] of readers) {
       const response = await client.get(`/api/cases/${ids.northReady}/decision`);
       expect(response.status).toBe(200);
       expect(response.body).toEqual(decision);
     }
     expect((await south.get(`/api/cases/${ids.northReady}/decision`)).status).toBe(404);
     expect((await admin.get(`/api/cases/${ids.northReady}/decision`)).status).toBe(404);
+    // Every read of a case's record is audited (DEVELOPERS.md, "Privacy").
+    const reads = await testApp.orm.em.fork().find(AuditEvent, { action: 'decision.read' });
+    expect(reads.map((event) => event.actorId).sort()).toEqual(
+      readers.map(([email]) => idOf(email)).sort(),
+    );
   });
 });
 

@@ -10,7 +10,7 @@ import {
 import { hasRole } from '../../common/auth-middleware';
 import { ConflictError, ForbiddenError, NotFoundError, ValidationError } from '../../common/errors';
 import type { Actor, SignedInUser } from '../../common/request-context';
-import { recordAudit } from '../audit/audit.service';
+import { recordAudit, writeAudit } from '../audit/audit.service';
 import type { BoardRoom } from '../board-session/board-room';
 import { presenceOf } from '../board-session/presence';
 import { ClinicalCase } from '../cases/case.entity';
@@ -39,10 +39,16 @@ export class DecisionService {
     private readonly room: BoardRoom,
   ) {}
 
-  async get(user: SignedInUser, caseId: string): Promise<DecisionView> {
+  async get(user: SignedInUser, actor: Actor, caseId: string): Promise<DecisionView> {
     const found = await this.em.getRepository(ClinicalCase).findVisibleOrFail(user, caseId);
     const [view] = await loadDecisionViews(this.em, { clinicalCase: found.id });
     if (!view) throw new NotFoundError('The decision');
+    await writeAudit(this.em, actor, {
+      action: 'decision.read',
+      entityType: 'case',
+      entityId: found.id,
+      detail: { decisionId: view.id },
+    });
     return view;
   }
 
@@ -137,6 +143,9 @@ export class DecisionService {
           setAside.push(plan.id);
           plan.status = 'set-aside';
         }
+      }
+      if (body.planId && !decision.selectedPlan) {
+        throw new ConflictError('The selected plan is no longer one of this case’s plans.');
       }
       lockedCase.status = 'decided';
       lockedItem.closedAt = now;

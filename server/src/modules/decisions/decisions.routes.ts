@@ -25,7 +25,9 @@ export function decisionRoutes(orm: MikroORM, room: BoardRoom): Router {
   });
 
   router.get('/cases/:id/decision', requireSignIn, async (request, response) => {
-    response.json(await decisions().get(signedInUser(request), caseId(request.params.id)));
+    response.json(
+      await decisions().get(signedInUser(request), actorOf(request), caseId(request.params.id)),
+    );
   });
 
   router.post('/cases/:id/decision', requireSignIn, async (request, response) => {

@@ -33,6 +33,8 @@ import { ConfirmDialog, type ConfirmDialogData } from '../core/confirm-dialog';
 import { problemMessage } from '../core/problem';
 import { PlanApi } from '../plans/plan-api';
 import { PlanComparison } from '../plans/plan-comparison';
+import { SeriesApi } from '../imaging/series-api';
+import { ViewerPage, type SharedView } from '../imaging/viewer/viewer-page';
 import { BoardSessionApi } from './board-session-api';
 import { CommentThread } from './comment-thread';
 import { BoardSessionSocket } from './session-socket';
@@ -63,6 +65,7 @@ const emptyView: ViewState = {
     CommentThread,
     PlanComparison,
     VotePanel,
+    ViewerPage,
   ],
   providers: [BoardSessionSocket],
   template: `
@@ -169,21 +172,50 @@ const emptyView: ViewState = {
         </header>
         @if (item) {
           <p class="links">
-            <a [routerLink]="['/cases', item.caseId, 'imaging']">Imaging and viewer</a> ·
+            <a [routerLink]="['/cases', item.caseId, 'imaging']">Imaging</a> ·
             <a [routerLink]="['/cases', item.caseId, 'discussion']">Discussion</a> ·
             <a [routerLink]="['/cases', item.caseId, 'decision']">{{
               permissions()?.canRecordDecision ? 'Record the decision' : 'Decision'
             }}</a>
+            @if (!isLead() && isFollowing()) {
+              ·
+              <button type="button" class="em-inline-button" (click)="lookAround()">
+                Look around on my own
+              </button>
+            }
           </p>
-          <div class="comparison">
-            @if (plans.hasValue()) {
-              <em-plan-comparison [plans]="plans.value()" [caseCode]="item.caseCode" />
+          <div class="viewer-box">
+            @if (seriesId(); as shownSeriesId) {
+              @defer (on immediate) {
+                <em-viewer-page
+                  [seriesId]="shownSeriesId"
+                  [caseId]="item.caseId"
+                  [canEdit]="false"
+                  [showSide]="false"
+                  [followed]="followedView()"
+                  (moved)="viewMoved($event)"
+                />
+              } @loading {
+                <p class="em-muted">Opening the viewer…</p>
+              }
+            } @else if (series.hasValue()) {
+              <p class="em-muted">No image series on this case.</p>
             }
           </div>
         }
       </section>
 
-      <aside class="board-work" aria-label="Votes and comments">
+      <aside class="board-work" aria-label="Plans, votes and comments">
+        @if (currentItem(); as item) {
+          <section aria-labelledby="comparison-title">
+            <h2 id="comparison-title">Plan comparison</h2>
+            @if (plans.hasValue() && plans.value().length) {
+              <em-plan-comparison [plans]="plans.value()" [caseCode]="item.caseCode" />
+            } @else {
+              <p class="em-muted">No needle plan on this case.</p>
+            }
+          </section>
+        }
         <section aria-labelledby="votes-title">
           <h2 id="votes-title">Votes</h2>
           <em-vote-panel
@@ -214,11 +246,19 @@ const emptyView: ViewState = {
     :host {
       display: block;
     }
+    // A workspace that fills the window below the page's title: the rail and the board's
+    // work scroll on their own, the review keeps the viewer's four panes in view.
     .room {
       display: grid;
-      grid-template-columns: 260px minmax(0, 1fr) 380px;
-      gap: 16px;
-      align-items: start;
+      grid-template-columns: 240px minmax(0, 1fr) 380px;
+      grid-template-rows: minmax(0, 1fr);
+      gap: 12px;
+      height: calc(100dvh - 150px);
+      min-height: 560px;
+    }
+    .rail,
+    .board-work {
+      overflow: auto;
     }
     .rail,
     .review,
@@ -298,12 +338,41 @@ const emptyView: ViewState = {
     .close {
       margin-top: 16px;
     }
+    .review {
+      display: flex;
+      flex-direction: column;
+      min-height: 0;
+      height: 100%;
+      box-sizing: border-box;
+    }
+    .viewer-box {
+      flex: 1 1 0px;
+      min-height: 0;
+      display: flex;
+      flex-direction: column;
+    }
+    .links {
+      margin: 0 0 6px;
+    }
+    .em-inline-button {
+      background: none;
+      border: 0;
+      padding: 0;
+      color: var(--mat-sys-primary);
+      cursor: pointer;
+      font: inherit;
+      text-decoration: underline;
+    }
     .closed {
       font: var(--mat-sys-label-small);
     }
     @media (max-width: 1100px) {
       .room {
         grid-template-columns: 1fr;
+        height: auto;
+      }
+      .review {
+        height: 80dvh;
       }
     }
   `,
@@ -359,6 +428,19 @@ export class BoardRoom {
   });
   private readonly currentCaseId = computed(() => this.currentItem()?.caseId);
   protected readonly plans = inject(PlanApi).list(this.currentCaseId);
+  protected readonly series = inject(SeriesApi).list(this.currentCaseId);
+  /** The lead's series when following it, else the case's first series. */
+  protected readonly seriesId = computed(() => {
+    const list = this.series.hasValue() ? this.series.value() : [];
+    const led = this.isFollowing() ? this.socket.view()?.state.seriesId : null;
+    return list.find((entry) => entry.id === led)?.id ?? list[0]?.id ?? null;
+  });
+  /** What the viewer follows: the lead's view, unless this member leads or looks around. */
+  protected readonly followedView = computed<SharedView | null>(() => {
+    if (this.isLead() || !this.isFollowing()) return null;
+    const state = this.socket.view()?.state;
+    return state ? { slice: state.slice, window: state.window, camera: state.camera } : null;
+  });
 
   protected readonly tally = signal<TallyView | null>(null);
   protected readonly comments = signal<readonly CommentView[]>([]);
@@ -423,6 +505,21 @@ export class BoardRoom {
     }
     this.isFollowing.set(false);
     this.ownItemId.set(item.id);
+  }
+
+  protected lookAround(): void {
+    this.ownItemId.set(this.currentItem()?.id ?? null);
+    this.isFollowing.set(false);
+  }
+
+  /** The lead's moves become the room's view; anyone else's stay on their own screen. */
+  protected viewMoved(view: SharedView): void {
+    if (!this.isLead()) return;
+    this.socket.sendView({
+      agendaItemId: this.currentItem()?.id ?? null,
+      seriesId: this.seriesId(),
+      ...view,
+    });
   }
 
   protected rejoinLead(): void {

@@ -57,45 +57,47 @@ import { meetingTimeline } from './meeting-timeline';
             current.startsAt | date: 'EEE d MMM y, HH:mm'
           }}</time>
         </h1>
-        <div class="em-panel">
-          <dl class="facts">
-            <dt>State</dt>
-            <dd>{{ stateLabels[current.state] }}</dd>
-            <dt>Duration</dt>
-            <dd>{{ current.durationMin }} min</dd>
-            <dt>Chair</dt>
-            <dd>{{ current.chair.displayName }}</dd>
-            <dt>Place</dt>
-            <dd>{{ current.place ?? 'Not given' }}</dd>
-            <dt>Quorum</dt>
-            <dd>{{ quorumText() }}</dd>
-          </dl>
-          @switch (current.state) {
-            @case ('closed') {
-              <p>
-                The meeting is closed.
-                <a [routerLink]="['/meetings', current.id, 'minutes']">Read the minutes</a>
-              </p>
-            }
-            @case ('in-session') {
-              <p class="em-muted">The board session is running below.</p>
-            }
-            @default {
-              @if (isMember() && !isLive()) {
-                <button mat-flat-button type="button" (click)="joinRequested.set(true)">
-                  {{ mayOrder() ? 'Open the board session' : 'Join the board session' }}
-                </button>
-                <p class="em-muted">
-                  {{
-                    mayOrder()
-                      ? 'Opening the session starts the meeting: attendance is recorded from then on.'
-                      : 'The session starts when the chair opens it; you may wait in the room.'
-                  }}
+        @if (!isLive()) {
+          <div class="em-panel">
+            <dl class="facts">
+              <dt>State</dt>
+              <dd>{{ stateLabels[current.state] }}</dd>
+              <dt>Duration</dt>
+              <dd>{{ current.durationMin }} min</dd>
+              <dt>Chair</dt>
+              <dd>{{ current.chair.displayName }}</dd>
+              <dt>Place</dt>
+              <dd>{{ current.place ?? 'Not given' }}</dd>
+              <dt>Quorum</dt>
+              <dd>{{ quorumText() }}</dd>
+            </dl>
+            @switch (current.state) {
+              @case ('closed') {
+                <p>
+                  The meeting is closed.
+                  <a [routerLink]="['/meetings', current.id, 'minutes']">Read the minutes</a>
                 </p>
               }
+              @case ('in-session') {
+                <p class="em-muted">The board session is running below.</p>
+              }
+              @default {
+                @if (isMember() && !isLive()) {
+                  <button mat-flat-button type="button" (click)="joinRequested.set(true)">
+                    {{ mayOrder() ? 'Open the board session' : 'Join the board session' }}
+                  </button>
+                  <p class="em-muted">
+                    {{
+                      mayOrder()
+                        ? 'Opening the session starts the meeting: attendance is recorded from then on.'
+                        : 'The session starts when the chair opens it; you may wait in the room.'
+                    }}
+                  </p>
+                }
+              }
             }
-          }
-        </div>
+          </div>
+        }
         @if (isLive()) {
           <em-board-room [meeting]="current" (changed)="meeting.reload()" />
         }

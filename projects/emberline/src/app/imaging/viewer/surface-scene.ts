@@ -60,6 +60,13 @@ interface PathActors {
   ballActor: vtkActor;
 }
 
+/** A 3D camera: position, focal point and view-up, LPS millimetres. */
+export interface CameraPose {
+  position: Vec3;
+  focalPoint: Vec3;
+  viewUp: Vec3;
+}
+
 export class SurfaceScene {
   private readonly renderWindow = vtkRenderWindow.newInstance();
   private readonly renderer = vtkRenderer.newInstance({ background: viewerBackground });
@@ -82,6 +89,8 @@ export class SurfaceScene {
   private readonly cursorActor = vtkActor.newInstance();
   private hasCamera = false;
   private isDisposed = false;
+  /** True while a pose from elsewhere is applied: not a move of this user's. */
+  private isPosing = false;
 
   constructor(container: HTMLElement) {
     this.renderWindow.addRenderer(this.renderer);
@@ -291,6 +300,46 @@ export class SurfaceScene {
   setCursor(pointLps: Readonly<Vec3> | null): void {
     if (pointLps) this.cursor.setCenter(pointLps[0], pointLps[1], pointLps[2]);
     this.cursorActor.setVisibility(pointLps !== null);
+  }
+
+  /** Where the camera is and looks, LPS millimetres: what a board session shares. */
+  cameraPose(): CameraPose {
+    const camera = this.renderer.getActiveCamera();
+    const triple = (values: number[]): Vec3 => [values[0], values[1], values[2]];
+    return {
+      position: triple(camera.getPosition()),
+      focalPoint: triple(camera.getFocalPoint()),
+      viewUp: triple(camera.getViewUp()),
+    };
+  }
+
+  /** Puts the camera where another viewer has it (the session's lead). */
+  setCameraPose(pose: CameraPose): void {
+    const camera = this.renderer.getActiveCamera();
+    this.isPosing = true;
+    try {
+      camera.setPosition(...pose.position);
+      camera.setFocalPoint(...pose.focalPoint);
+      camera.setViewUp(...pose.viewUp);
+      this.renderer.resetCameraClippingRange();
+    } finally {
+      this.isPosing = false;
+    }
+    this.hasCamera = true;
+  }
+
+  /** Calls back when the user turns or zooms the camera (not when `setCameraPose` moves it). */
+  onCameraMoved(callback: (pose: CameraPose) => void): void {
+    // The camera is also "modified" by every render's clipping range: report real moves only.
+    let last = '';
+    this.renderer.getActiveCamera().onModified(() => {
+      if (this.isPosing) return;
+      const pose = this.cameraPose();
+      const key = JSON.stringify(pose);
+      if (key === last) return;
+      last = key;
+      callback(pose);
+    });
   }
 
   /** Seen from the front (anterior), head up: the coronal view's way (common practice). */

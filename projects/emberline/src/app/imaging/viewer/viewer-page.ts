@@ -5,6 +5,7 @@ import {
   effect,
   inject,
   input,
+  output,
   signal,
   untracked,
 } from '@angular/core';
@@ -17,6 +18,7 @@ import {
   type ApplicatorProfileView,
   type ImageSeriesView,
   type PlanView,
+  type ViewState,
 } from '@emberline/shared';
 import { EMPTY, catchError, filter, forkJoin, switchMap, tap } from 'rxjs';
 import { CaseFileState } from '../../cases/case-file-state';
@@ -31,6 +33,9 @@ import { StructureToggles } from './structure-toggles';
 import { ViewerApi } from './viewer-api';
 import { ViewerReadouts } from './viewer-readouts';
 import { ViewerSession, type ViewerMode } from './viewer-session';
+
+/** The part of a board session's shared view that a viewer shows (LPS mm, window, camera). */
+export type SharedView = Pick<ViewState, 'slice' | 'window' | 'camera'>;
 import { ViewerToolbar } from './viewer-toolbar';
 import { VolumeView } from './volume-view';
 import { hasWebGl2, noWebGl2Message } from './webgl-support';
@@ -81,6 +86,15 @@ export class ViewerPage {
   readonly caseId = input<string | undefined>();
   /** Whether plans may be drafted, when embedded outside the case file. */
   readonly canEdit = input<boolean | undefined>();
+  /** Whether the side column (plans, structures) shows; a board session hides it. */
+  readonly showSide = input(true);
+  /**
+   * A view to follow (a board session's lead): slice positions, window and 3D camera are put
+   * where it says whenever it changes.
+   */
+  readonly followed = input<SharedView | null>(null);
+  /** The user moved the slices, the window or the camera (not when following put them there). */
+  readonly moved = output<SharedView>();
 
   protected readonly hasWebGl = hasWebGl2();
   protected readonly noWebGlMessage = noWebGl2Message;
@@ -108,8 +122,23 @@ export class ViewerPage {
   protected readonly shownPlan = signal<PlanView | null>(null);
   protected readonly planNotice = signal('');
   private openedPlanId: string | null = null;
+  /** The last view put on screen from `followed`, so that it is not reported back as a move. */
+  private lastFollowedKey = '';
 
   constructor() {
+    effect(() => {
+      const view = this.followed();
+      if (!view || !this.isLoaded()) return;
+      untracked(() => this.follow(view));
+    });
+    effect(() => {
+      const shown = this.shownView();
+      if (!this.isLoaded()) return;
+      untracked(() => {
+        if (!shown || JSON.stringify(shown) === this.lastFollowedKey) return;
+        this.moved.emit(shown);
+      });
+    });
     if (this.hasWebGl) this.loadSeries();
     effect(() => this.openRequestedPlan());
     // The zones of the plan on screen are read once it shows (and again after a save).
@@ -170,6 +199,30 @@ export class ViewerPage {
         this.session.openPlan(plan, canEdit);
       }
     });
+  }
+
+  /** What this viewer shows now, in the shared view's terms. */
+  private readonly shownView = computed<SharedView | null>(() => {
+    const cursor = this.session.cursorLps();
+    const window = this.session.window();
+    const camera = this.session.camera();
+    if (!cursor) return null;
+    return {
+      slice: { axial: cursor[2], coronal: cursor[1], sagittal: cursor[0] },
+      window: { width: window.width, level: window.centre },
+      camera: camera?.pose ?? null,
+    };
+  });
+
+  private follow(view: SharedView): void {
+    if (view.slice) {
+      this.session.cursorLps.set([view.slice.sagittal, view.slice.coronal, view.slice.axial]);
+    }
+    if (view.window)
+      this.session.window.set({ centre: view.window.level, width: view.window.width });
+    if (view.camera) this.session.camera.set({ pose: view.camera, isFollowed: true });
+    const current = this.shownView();
+    this.lastFollowedKey = current ? JSON.stringify(current) : '';
   }
 
   protected modeRequested(mode: ViewerMode): void {

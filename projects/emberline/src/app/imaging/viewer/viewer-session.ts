@@ -11,6 +11,7 @@ import {
 } from '@emberline/shared';
 import { structureKindColours, unmappedStructureColour } from '../structure-kind-colours';
 import type { DisplayWindow } from './display-window';
+import type { CameraPose } from './surface-scene';
 import {
   fieldPaddingMm,
   labelValuesByKind,
@@ -70,6 +71,11 @@ export class ViewerSession {
     return cursor ? this.valueAt(cursor) : null;
   });
   readonly window = signal<DisplayWindow>({ centre: 50, width: 400 });
+  /**
+   * The 3D camera as last moved: by this user (`isFollowed` false), or put there from a board
+   * session's lead (`isFollowed` true, which the 3D view applies).
+   */
+  readonly camera = signal<{ pose: CameraPose; isFollowed: boolean } | null>(null);
   readonly mode = signal<ViewerMode>('navigate');
   readonly hover = signal<HoverReading | null>(null);
 

@@ -103,6 +103,15 @@ export class VolumeView {
     effect(() => this.showAppearance());
     effect(() => this.showPaths());
     effect(() => this.showCursor());
+    // A camera put there by the session's lead is applied; the user's own moves are reported.
+    effect(() => {
+      const camera = this.session.camera();
+      if (!camera?.isFollowed || !this.isSceneReady()) return;
+      untracked(() => {
+        this.scene?.setCameraPose(camera.pose);
+        this.requestRender();
+      });
+    });
     // Surfaces are built once the slices are on screen, so that they never delay them.
     effect(() => {
       if (this.session.hasFirstFrame() && this.isSceneReady())
@@ -120,6 +129,7 @@ export class VolumeView {
   private start(): void {
     const host = this.host().nativeElement;
     this.scene = new SurfaceScene(host);
+    this.scene.onCameraMoved((pose) => this.session.camera.set({ pose, isFollowed: false }));
     host.querySelector('canvas')?.setAttribute('role', 'img');
     host
       .querySelector('canvas')

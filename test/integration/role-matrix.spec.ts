@@ -18,12 +18,21 @@ import { ApplicatorProfile } from '../../server/src/modules/plans/applicator-pro
 import { NeedlePlan } from '../../server/src/modules/plans/needle-plan.entity';
 import { SafetyProfile } from '../../server/src/modules/plans/safety-profile.entity';
 import { insertSeriesRow, planBody, safetyBody } from './plan-fixtures';
+import { AgendaItem } from '../../server/src/modules/meetings/agenda-item.entity';
+import { ItemComment } from '../../server/src/modules/votes/comment.entity';
+import { Annotation } from '../../server/src/modules/annotations/annotation.entity';
+import { Decision } from '../../server/src/modules/decisions/decision.entity';
+import { quorumOf } from '../../server/src/modules/board-session/quorum';
 
 /**
  * Every role and an anonymous client against every route of the foundation, one expected status a
  * cell (DEVELOPERS.md, "Roles": access is per board; a case out of reach answers 404, a forbidden
- * action on a visible case 403; OWASP ASVS 5.0 §8 access control). Cells run in order within a
- * role, on a fresh copy of the demo; the deleting routes come last.
+ * action on a visible case 403; OWASP ASVS 5.0 §8 access control). The board's own routes follow
+ * the module READMEs of votes, annotations, decisions and meetings: administrators read a
+ * meeting's items and minutes but take no part; nurse coordinators neither vote, comment nor
+ * annotate; only proceduralists sign; only the chair marks comments and closes; a closed item or
+ * meeting 409. Cells run in order within a role, on a fresh copy of the demo; the deleting
+ * routes come last, then the decision and the close, which end the agenda item and the meeting.
  */
 const who = [
   'anonymous',
@@ -51,6 +60,18 @@ interface Context {
   /** A scheduled meeting of the north board, chaired by the proceduralist. */
   meetingId: string;
   proceduralistUserId: string;
+  /** A north case on that meeting's agenda (`on-agenda`), its item and a series of it. */
+  agendaCaseId: string;
+  agendaItemId: string;
+  agendaSeriesId: string;
+  /** The board member's comment on that item, and their annotation on its series. */
+  commentId: string;
+  annotationId: string;
+  /** A series of the decided case (which has a signed decision here) and the member's annotation on it. */
+  decidedSeriesId: string;
+  decidedAnnotationId: string;
+  /** A meeting of the north board closed by its chair, with its minutes. */
+  closedMeetingId: string;
 }
 
 interface Route {
@@ -441,6 +462,123 @@ const routes: Route[] = [
     expected: row(401, 200, 403, 403, 403, 403, 403),
   },
   {
+    name: 'GET /api/agenda-items/:item/tally',
+    call: (c, x) => c.get(`/api/agenda-items/${x.agendaItemId}/tally`),
+    expected: row(401, 200, 200, 200, 200, 200, 404),
+  },
+  {
+    name: 'POST /api/agenda-items/:item/votes',
+    call: (c, x) =>
+      c.post(`/api/agenda-items/${x.agendaItemId}/votes`, { option: 'tace', position: 'support' }),
+    expected: row(401, 403, 200, 200, 200, 403, 404),
+  },
+  {
+    name: 'GET /api/agenda-items/:item/comments',
+    call: (c, x) => c.get(`/api/agenda-items/${x.agendaItemId}/comments`),
+    expected: row(401, 200, 200, 200, 200, 200, 404),
+  },
+  {
+    name: 'POST /api/agenda-items/:item/comments',
+    call: (c, x) =>
+      c.post(`/api/agenda-items/${x.agendaItemId}/comments`, {
+        body: 'Segment VIII: the dome is close to the diaphragm.',
+        parentId: x.commentId,
+      }),
+    expected: row(401, 403, 201, 201, 201, 403, 404),
+  },
+  {
+    name: 'PATCH /api/comments/:member-comment',
+    call: (c, x) => c.patch(`/api/comments/${x.commentId}`, { isForMinutes: true }),
+    expected: row(401, 403, 403, 403, 200, 403, 404),
+  },
+  {
+    // Case-level: as the case is seen (a coordinator once it is decided, an administrator never).
+    name: 'GET /api/cases/:agenda-case/comments',
+    call: (c, x) => c.get(`/api/cases/${x.agendaCaseId}/comments`),
+    expected: row(401, 404, 200, 200, 200, 404, 404),
+  },
+  {
+    name: 'GET /api/cases/:agenda-case/votes',
+    call: (c, x) => c.get(`/api/cases/${x.agendaCaseId}/votes`),
+    expected: row(401, 404, 200, 200, 200, 404, 404),
+  },
+  {
+    name: 'GET /api/cases/:north-decided/votes',
+    call: (c, x) => c.get(`/api/cases/${x.ids.northDecided}/votes`),
+    expected: row(401, 404, 200, 200, 200, 200, 404),
+  },
+  {
+    name: 'GET /api/cases/:agenda-case/annotations',
+    call: (c, x) => c.get(`/api/cases/${x.agendaCaseId}/annotations`),
+    expected: row(401, 404, 200, 200, 200, 404, 404),
+  },
+  {
+    name: 'POST /api/cases/:agenda-case/annotations',
+    call: (c, x) =>
+      c.post(`/api/cases/${x.agendaCaseId}/annotations`, {
+        seriesId: x.agendaSeriesId,
+        kind: 'point',
+        points: [[-42, 10, 5]],
+      }),
+    expected: row(401, 404, 201, 201, 201, 404, 404),
+  },
+  {
+    // The coordinator sees a decided case but does not annotate (403); for the others it is
+    // read-only (409).
+    name: 'POST /api/cases/:north-decided/annotations',
+    call: (c, x) =>
+      c.post(`/api/cases/${x.ids.northDecided}/annotations`, {
+        seriesId: x.decidedSeriesId,
+        kind: 'point',
+        points: [[-42, 10, 5]],
+      }),
+    expected: row(401, 404, 409, 409, 409, 403, 404),
+  },
+  {
+    // The author, and the chair of the meeting whose open item holds the case.
+    name: 'PATCH /api/annotations/:member-annotation',
+    call: (c, x) => c.patch(`/api/annotations/${x.annotationId}`, { points: [[-40, 12, 5]] }),
+    expected: row(401, 404, 403, 200, 200, 404, 404),
+  },
+  {
+    // Decided: the author hears 409; the chair has no open item of it, so is not its editor.
+    name: 'PATCH /api/annotations/:member-annotation-on-decided',
+    call: (c, x) =>
+      c.patch(`/api/annotations/${x.decidedAnnotationId}`, { points: [[-40, 12, 5]] }),
+    expected: row(401, 404, 403, 409, 403, 403, 404),
+  },
+  {
+    name: 'GET /api/cases/:north-decided/decision',
+    call: (c, x) => c.get(`/api/cases/${x.ids.northDecided}/decision`),
+    expected: row(401, 404, 200, 200, 200, 200, 404),
+  },
+  {
+    // No decision yet: 404 for those who see the case; the case itself is out of reach for the rest.
+    name: 'GET /api/cases/:agenda-case/decision',
+    call: (c, x) => c.get(`/api/cases/${x.agendaCaseId}/decision`),
+    expected: row(401, 404, 404, 404, 404, 404, 404),
+  },
+  {
+    name: 'POST /api/cases/:north-decided/decision (decided already)',
+    call: (c, x) =>
+      c.post(`/api/cases/${x.ids.northDecided}/decision`, {
+        outcome: 'tace',
+        rationale: 'Signed twice in the matrix.',
+        password: demoPassword,
+      }),
+    expected: row(401, 404, 403, 403, 409, 403, 404),
+  },
+  {
+    name: 'GET /api/meetings/:closed/minutes',
+    call: (c, x) => c.get(`/api/meetings/${x.closedMeetingId}/minutes`),
+    expected: row(401, 200, 200, 200, 200, 200, 404),
+  },
+  {
+    name: 'POST /api/meetings/:closed/close',
+    call: (c, x) => c.post(`/api/meetings/${x.closedMeetingId}/close`),
+    expected: row(401, 403, 403, 403, 409, 403, 404),
+  },
+  {
     name: 'DELETE /api/plans/:north-ready-submitted (not a draft)',
     call: (c, x) => c.delete(`/api/plans/${x.submittedPlanId}`),
     expected: row(401, 404, 409, 403, 403, 404, 404),
@@ -469,6 +607,56 @@ const routes: Route[] = [
     name: 'DELETE /api/cases/:north-draft',
     call: (c, x) => c.delete(`/api/cases/${x.ids.northDraft}`),
     expected: row(401, 404, 204, 403, 403, 404, 404),
+  },
+  {
+    name: 'DELETE /api/annotations/:member-annotation',
+    call: (c, x) => c.delete(`/api/annotations/${x.annotationId}`),
+    expected: row(401, 404, 403, 204, 204, 404, 404),
+  },
+  {
+    name: 'POST /api/cases/:north-decided/decision/amendments',
+    call: (c, x) =>
+      c.post(`/api/cases/${x.ids.northDecided}/decision/amendments`, {
+        reason: 'Dose of the second session recorded wrongly.',
+        text: 'Second session as planned at the first.',
+        password: demoPassword,
+      }),
+    expected: row(401, 404, 403, 403, 201, 403, 404),
+  },
+  {
+    // The chair signs; with quorum the reason is not needed, without it the chair gives it.
+    name: 'POST /api/cases/:agenda-case/decision',
+    call: (c, x) =>
+      c.post(`/api/cases/${x.agendaCaseId}/decision`, {
+        outcome: 'tace',
+        rationale: 'Signed in the matrix.',
+        password: demoPassword,
+        quorumOverrideReason: 'The matrix runs without a room.',
+      }),
+    expected: row(401, 404, 403, 403, 201, 403, 404),
+  },
+  {
+    // Same position again: nothing changes (200), except where the decision closed the item.
+    name: 'POST /api/agenda-items/:item/votes (after the decision)',
+    call: (c, x) =>
+      c.post(`/api/agenda-items/${x.agendaItemId}/votes`, { option: 'tace', position: 'support' }),
+    expected: row(401, 403, 200, 200, 409, 403, 404),
+  },
+  {
+    name: 'POST /api/meetings/:north/close',
+    call: (c, x) => c.post(`/api/meetings/${x.meetingId}/close`),
+    expected: row(401, 403, 403, 403, 200, 403, 404),
+  },
+  {
+    // Only the chair's run closed the meeting; elsewhere it has no minutes yet.
+    name: 'GET /api/meetings/:north/minutes',
+    call: (c, x) => c.get(`/api/meetings/${x.meetingId}/minutes`),
+    expected: row(401, 404, 404, 404, 200, 404, 404),
+  },
+  {
+    name: 'PATCH /api/comments/:member-comment (after the close)',
+    call: (c, x) => c.patch(`/api/comments/${x.commentId}`, { isForMinutes: false }),
+    expected: row(401, 403, 403, 403, 409, 403, 404),
   },
   {
     name: 'POST /api/auth/logout',
@@ -555,10 +743,71 @@ describe.each(who)('role × route matrix: %s', (role) => {
       scheduledBy: em.getReference(User, proceduralistUser.id, { wrapped: true }),
     });
     await em.persist(meeting).flush();
+
+    // The board's work: a case on that meeting's agenda with a series, the member's comment and
+    // annotation on it, a signed decision on the decided case with an annotation made before it,
+    // and another meeting closed by its chair.
+    const presenterRef = northReady.presenter;
+    const memberUser = await em.findOneOrFail(User, { email: 'member@emberline.test' });
+    const memberRef = em.getReference(User, memberUser.id, { wrapped: true });
+    const agendaCase = new ClinicalCase({
+      caseCode: 'NLB-2026-MX1',
+      board: em.getReference(Board, ids.northBoard, { wrapped: true }),
+      presenter: presenterRef,
+      yearOfBirth: 1955,
+      sex: 'female',
+      primaryDiagnosis: 'hcc',
+    });
+    agendaCase.status = 'on-agenda';
+    const agendaItem = new AgendaItem({
+      meeting: em.getReference(Meeting, meeting.id, { wrapped: true }),
+      clinicalCase: em.getReference(ClinicalCase, agendaCase.id, { wrapped: true }),
+      position: 1,
+      addedBy: presenterRef,
+    });
+    await em.persist([agendaCase, agendaItem]).flush();
+    const agendaSeriesId = await insertSeriesRow(testApp.orm, agendaCase.id, presenterRef.id);
+    const decidedSeriesId = await insertSeriesRow(testApp.orm, ids.northDecided, presenterRef.id);
+    const comment = new ItemComment({
+      agendaItem: em.getReference(AgendaItem, agendaItem.id, { wrapped: true }),
+      author: memberRef,
+      body: 'Is the lesion reachable below the ribs?',
+    });
+    const annotationOn = (caseId: string, seriesId: string) =>
+      new Annotation({
+        clinicalCase: em.getReference(ClinicalCase, caseId, { wrapped: true }),
+        series: em.getReference(ImageSeries, seriesId, { wrapped: true }),
+        author: memberRef,
+        kind: 'point',
+        points: [[-30, 8, 4]],
+      });
+    const annotation = annotationOn(agendaCase.id, agendaSeriesId);
+    const decidedAnnotation = annotationOn(ids.northDecided, decidedSeriesId);
+    const decision = new Decision({
+      clinicalCase: em.getReference(ClinicalCase, ids.northDecided, { wrapped: true }),
+      outcome: 'tace',
+      rationale: 'Matrix fixture.',
+      signer: em.getReference(User, proceduralistUser.id, { wrapped: true }),
+      signInMethod: 'local',
+      quorum: quorumOf([], []),
+    });
+    const closedMeeting = new Meeting({
+      board: em.getReference(Board, ids.northBoard, { wrapped: true }),
+      startsAt: new Date('2029-12-18T15:00:00Z'),
+      durationMin: 60,
+      chair: em.getReference(User, proceduralistUser.id, { wrapped: true }),
+      scheduledBy: em.getReference(User, proceduralistUser.id, { wrapped: true }),
+    });
+    await em.persist([comment, annotation, decidedAnnotation, decision, closedMeeting]).flush();
+    const chair = new ApiClient(testApp.app);
+    expect((await chair.signIn('proceduralist@emberline.test', demoPassword)).status).toBe(200);
+    expect((await chair.post(`/api/meetings/${closedMeeting.id}/close`)).status).toBe(200);
+    await chair.post('/api/auth/logout');
+
     context = {
       ids,
       lesionId: lesion.id,
-      memberUserId: (await em.findOneOrFail(User, { email: 'member@emberline.test' })).id,
+      memberUserId: memberUser.id,
       southUserId: (await em.findOneOrFail(User, { email: 'south@emberline.test' })).id,
       runTag: role.toUpperCase(),
       seriesId,
@@ -568,6 +817,14 @@ describe.each(who)('role × route matrix: %s', (role) => {
       safetyProfileId: (await em.findOneOrFail(SafetyProfile, { isDefault: true })).id,
       meetingId: meeting.id,
       proceduralistUserId: proceduralistUser.id,
+      agendaCaseId: agendaCase.id,
+      agendaItemId: agendaItem.id,
+      agendaSeriesId,
+      commentId: comment.id,
+      annotationId: annotation.id,
+      decidedSeriesId,
+      decidedAnnotationId: decidedAnnotation.id,
+      closedMeetingId: closedMeeting.id,
     };
     client = new ApiClient(testApp.app);
     if (role !== 'anonymous')

@@ -35,6 +35,18 @@ export class SessionService {
 
   /** Only members of the meeting's board join; a meeting out of reach is a 404. */
   async findJoinable(user: SignedInUser, meetingId: string): Promise<Meeting> {
+    const meeting = await this.findOfMember(user, meetingId);
+    if (meeting.state === 'closed') {
+      throw new ConflictError('The meeting is closed; its minutes are the record.');
+    }
+    return meeting;
+  }
+
+  /**
+   * A meeting of one of the user's boards, whatever its state: 404 when out of reach, 403 for an
+   * administrator, who sees the meeting but does not take part in its session.
+   */
+  async findOfMember(user: SignedInUser, meetingId: string): Promise<Meeting> {
     const meeting = await this.em.findOne(Meeting, meetingId, { populate: ['board', 'chair'] });
     if (!meeting) throw new NotFoundError('The meeting');
     if (!user.memberships.has(meeting.board.id)) {
@@ -42,9 +54,6 @@ export class SessionService {
         throw new ForbiddenError('The board session is for members of the board.');
       }
       throw new NotFoundError('The meeting');
-    }
-    if (meeting.state === 'closed') {
-      throw new ConflictError('The meeting is closed; its minutes are the record.');
     }
     return meeting;
   }

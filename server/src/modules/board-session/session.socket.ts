@@ -117,7 +117,12 @@ export function sessionFeature(orm: MikroORM): SessionFeatureHandle {
       },
     );
 
-    onSessionEvent(socket, context, 'session:leave', leaveSchema, async ({ meetingId }) => {
+    onSessionEvent(socket, context, 'session:leave', leaveSchema, async ({ meetingId }, user) => {
+      // Only a member of the board has a room to leave (a closed meeting's too). Anyone else hears
+      // what joining would tell them, and the room hears nothing of them: otherwise an answer
+      // that differs between an existing and a missing meeting would tell another board's
+      // member which meetings exist.
+      await new SessionService(orm.em.fork(), context.room).findOfMember(user, meetingId);
       await leaveMeeting(socket, context, meetingId);
       return null;
     });
@@ -129,6 +134,9 @@ export function sessionFeature(orm: MikroORM): SessionFeatureHandle {
       viewUpdateSchema,
       async ({ meetingId, state }, user) => {
         if (socket.data.meetingId !== meetingId) {
+          // Who may not be in the room hears so first (404 off the board, 403 an
+          // administrator), as for any record: "join first" is for those who may.
+          await new SessionService(orm.em.fork(), context.room).findJoinable(user, meetingId);
           throw new ConflictError('Join the meeting before leading its view.');
         }
         const meeting = await leadCheck(leads, orm, context, user, meetingId);

@@ -387,7 +387,7 @@ export class BoardRoom {
 
   readonly meeting = input.required<MeetingView>();
   /** The agenda or the meeting changed: the host reads the meeting again. */
-  readonly changed = output<void>();
+  readonly changed = output();
   private readonly meetingId = computed(() => this.meeting().id);
 
   protected readonly diagnosisLabels = primaryDiagnosisLabels;

@@ -3,8 +3,8 @@ import { CaseFile } from './case-file';
 import { SummarySection } from './summary-section';
 
 /**
- * The case file and its sections. Later sections (plans, discussion, decision,
- * logistics) join `children` and `caseFileSections`.
+ * The case file and its sections. Later sections (logistics) join `children` and
+ * `caseFileSections`.
  */
 export const caseFileRoutes: Routes = [
   {
@@ -30,6 +30,17 @@ export const caseFileRoutes: Routes = [
         path: 'plans',
         title: 'Case plans',
         loadComponent: () => import('../plans/plans-section').then((m) => m.PlansSection),
+      },
+      {
+        path: 'discussion',
+        title: 'Case discussion',
+        loadComponent: () =>
+          import('../discussion/discussion-section').then((m) => m.DiscussionSection),
+      },
+      {
+        path: 'decision',
+        title: 'Case decision',
+        loadComponent: () => import('../decisions/decision-section').then((m) => m.DecisionSection),
       },
     ],
   },

@@ -6,7 +6,7 @@ import { MatIcon } from '@angular/material/icon';
 import { MatProgressBar } from '@angular/material/progress-bar';
 import { MatTabLink, MatTabNav, MatTabNavPanel } from '@angular/material/tabs';
 import { Router, RouterLink, RouterLinkActive, RouterOutlet, type Data } from '@angular/router';
-import { primaryDiagnosisLabels } from '@emberline/shared';
+import { caseStatuses, primaryDiagnosisLabels } from '@emberline/shared';
 import { ConfirmDialog, type ConfirmDialogData } from '../core/confirm-dialog';
 import { problemMessage } from '../core/problem';
 import { CaseApi } from './case-api';
@@ -22,6 +22,8 @@ export const caseFileSections: readonly { path: string; label: string }[] = [
   { path: 'summary', label: 'Summary' },
   { path: 'imaging', label: 'Imaging' },
   { path: 'plans', label: 'Plans' },
+  { path: 'discussion', label: 'Discussion' },
+  { path: 'decision', label: 'Decision' },
 ];
 
 /** The case file: its header and the navigation between its sections. */
@@ -62,6 +64,11 @@ export class CaseFile {
    * spans the window's width and hands the section all the height below its header.
    */
   protected readonly isWorkspace = signal(false);
+  /** Decided or later: the record is frozen, corrected only by amendments to the decision. */
+  protected readonly isDecided = computed(() => {
+    const status = this.detail()?.status;
+    return !!status && caseStatuses.indexOf(status) >= caseStatuses.indexOf('decided');
+  });
   protected readonly loadError = computed(() => {
     const error = this.resource.error();
     if (!error) return '';

@@ -299,7 +299,13 @@ describe('two server processes sharing the board session', () => {
     expect(onA.members.map((entry) => entry.userId).sort()).toEqual(expected);
   });
 
-  it("relays the lead's view from A to the follower on B", async () => {
+  it("relays the lead's view from A to the follower on B, and only the lead's", async () => {
+    // B has never seen this meeting's lead: it asks the database, and refuses the member.
+    const refused = await ask(memberSocket, 'view:update', {
+      meetingId: meeting.id,
+      state: view(7),
+    });
+    expect(refused.ok ? 200 : refused.problem.status).toBe(403);
     const followed = nextEvent<ViewStateEvent>(
       memberSocket,
       'view:state',
@@ -317,6 +323,25 @@ describe('two server processes sharing the board session', () => {
     expect(received.sequence).toBe(sent.sequence);
     expect(received.leadUserId).toBe(idOf('presenter@emberline.test'));
     expect(received.state).toEqual(view(42));
+
+    // A burst sent without waiting: every update is answered, in order, and B ends on the last.
+    const last = nextEvent<ViewStateEvent>(
+      memberSocket,
+      'view:state',
+      (event) => event.state.slice?.axial === 59,
+      eventTimeoutMs,
+    );
+    const answers = await Promise.all(
+      Array.from({ length: 10 }, (_, index) =>
+        ask<{ sequence: number }>(leadSocket, 'view:update', {
+          meetingId: meeting.id,
+          state: view(50 + index),
+        }),
+      ),
+    );
+    const sequences = answers.map((answer) => dataOf(answer).sequence);
+    expect(sequences).toEqual(sequences.map((_, index) => sent.sequence + 1 + index));
+    expect((await last).sequence).toBe(sequences.at(-1));
   });
 
   it('carries a vote cast over REST on A to B, and one cast on B’s socket to A', async () => {

@@ -49,12 +49,17 @@ export function onSessionEvent<Schema extends z.ZodType, Result>(
     user?: 'fresh' | 'recent';
   } = {},
 ): void {
-  let recent: { user: SignedInUser | null; at: number } | null = null;
-  const readUser = async (): Promise<SignedInUser | null> => {
+  // The reading itself is kept, so that events arriving while it runs share it instead of each
+  // starting one (a slow database would otherwise be asked more, the slower it is).
+  let recent: { user: Promise<SignedInUser | null>; at: number } | null = null;
+  const readUser = (): Promise<SignedInUser | null> => {
     if (options.user === 'recent' && recent && Date.now() - recent.at < 1000) return recent.user;
-    const user = await context.currentUser();
-    recent = { user, at: Date.now() };
-    return user;
+    const entry = { user: context.currentUser(), at: Date.now() };
+    recent = entry;
+    entry.user.catch(() => {
+      if (recent === entry) recent = null;
+    });
+    return entry.user;
   };
   const listener = async (payload: unknown, acknowledge: unknown) => {
     if (typeof acknowledge !== 'function') return;

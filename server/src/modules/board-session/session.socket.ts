@@ -190,9 +190,14 @@ export function sessionFeature(orm: MikroORM): SessionFeatureHandle {
   };
 }
 
-type LeadCache = Map<string, { meeting: Meeting; at: number }>;
+type LeadCache = Map<string, { userId: string; meeting: Promise<Meeting>; at: number }>;
 
-async function leadCheck(
+/**
+ * The reading is shared while it runs: the updates that come meanwhile wait for it rather than
+ * each asking the database, which at 20 a second would otherwise ask ever more often the slower
+ * the database answers (and so fall ever further behind). A refusal is not kept.
+ */
+function leadCheck(
   leads: LeadCache,
   orm: MikroORM,
   context: SessionContext,
@@ -200,11 +205,15 @@ async function leadCheck(
   meetingId: string,
 ): Promise<Meeting> {
   const cached = leads.get(meetingId);
-  if (cached && Date.now() - cached.at < 1000 && cached.meeting.lead?.id === user.id) {
+  if (cached && cached.userId === user.id && Date.now() - cached.at < 1000) {
     return cached.meeting;
   }
-  const meeting = await new SessionService(orm.em.fork(), context.room).assertLead(user, meetingId);
-  leads.set(meetingId, { meeting, at: Date.now() });
+  const meeting = new SessionService(orm.em.fork(), context.room).assertLead(user, meetingId);
+  const entry = { userId: user.id, meeting, at: Date.now() };
+  leads.set(meetingId, entry);
+  meeting.catch(() => {
+    if (leads.get(meetingId) === entry) leads.delete(meetingId);
+  });
   return meeting;
 }
 

@@ -195,7 +195,8 @@ type LeadCache = Map<string, { userId: string; meeting: Promise<Meeting>; at: nu
 /**
  * The reading is shared while it runs: the updates that come meanwhile wait for it rather than
  * each asking the database, which at 20 a second would otherwise ask ever more often the slower
- * the database answers (and so fall ever further behind). A refusal is not kept.
+ * the database answers (and so fall ever further behind). A refusal is not kept: the entry
+ * before it comes back.
  */
 function leadCheck(
   leads: LeadCache,
@@ -212,7 +213,10 @@ function leadCheck(
   const entry = { userId: user.id, meeting, at: Date.now() };
   leads.set(meetingId, entry);
   meeting.catch(() => {
-    if (leads.get(meetingId) === entry) leads.delete(meetingId);
+    // The lead's own reading stays, however often someone else is refused.
+    if (leads.get(meetingId) !== entry) return;
+    if (cached) leads.set(meetingId, cached);
+    else leads.delete(meetingId);
   });
   return meeting;
 }

@@ -143,6 +143,6 @@ export function createRealtimeServer(
     void socket.join([userRoom(socket.data.userId), httpSessionRoom(socket.data.httpSessionId)]);
     for (const feature of sessionFeatures) feature(socket, context);
   });
-  services.boardRoom.attach(sessionNamespace);
+  services.boardRoom.attach(sessionNamespace, services.log);
   return io;
 }

@@ -40,15 +40,19 @@ export const meetingRoom = (meetingId: string) => `meeting:${meetingId}`;
 export const userRoom = (userId: string) => `user:${userId}`;
 export const httpSessionRoom = (sessionId: string) => `http-session:${sessionId}`;
 
+type RoomSockets = Awaited<ReturnType<ReturnType<SessionNamespace['in']>['fetchSockets']>>;
+
 type Emitter = Pick<ReturnType<SessionNamespace['to']>, 'emit'>;
 
 const nowhere: Emitter = { emit: () => true };
 
 export class BoardRoom {
   private namespace: SessionNamespace | null = null;
+  private log: (message: string, error?: unknown) => void = () => undefined;
 
-  attach(namespace: SessionNamespace): void {
+  attach(namespace: SessionNamespace, log?: (message: string, error?: unknown) => void): void {
     this.namespace = namespace;
+    if (log) this.log = log;
   }
 
   /** Emits to every socket in the meeting's room, on every server process. */
@@ -76,8 +80,7 @@ export class BoardRoom {
    * the specialty they hold on `boardId`.
    */
   async membersInRoom(meetingId: string, boardId: string): Promise<PresentMember[]> {
-    if (!this.namespace) return [];
-    const sockets = await this.namespace.in(meetingRoom(meetingId)).fetchSockets();
+    const sockets = await this.socketsInRoom(meetingId);
     const byUser = new Map<string, PresentMember>();
     for (const socket of sockets) {
       const specialty = socket.data.specialties?.[boardId];
@@ -94,8 +97,22 @@ export class BoardRoom {
 
   /** How many of the user's sockets are in the meeting's room now (all processes). */
   async socketsOf(meetingId: string, userId: string): Promise<number> {
-    if (!this.namespace) return 0;
-    const sockets = await this.namespace.in(meetingRoom(meetingId)).fetchSockets();
+    const sockets = await this.socketsInRoom(meetingId);
     return sockets.filter((socket) => socket.data.userId === userId).length;
+  }
+
+  /**
+   * The room's sockets on every process. A peer process that died without saying so leaves the
+   * cluster's question unanswered until the adapter drops it (seconds): rather than fail the
+   * vote or the join meanwhile, this process's own sockets answer, and the miss is logged.
+   */
+  private async socketsInRoom(meetingId: string): Promise<RoomSockets> {
+    if (!this.namespace) return [];
+    try {
+      return await this.namespace.in(meetingRoom(meetingId)).fetchSockets();
+    } catch (error) {
+      this.log('Presence was read from this process only: another process did not answer.', error);
+      return this.namespace.local.in(meetingRoom(meetingId)).fetchSockets();
+    }
   }
 }

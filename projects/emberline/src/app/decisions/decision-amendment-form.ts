@@ -50,7 +50,13 @@ const fields = amendDecisionSchema.shape;
       </p>
       <mat-form-field>
         <mat-label>Reason</mat-label>
-        <textarea matInput id="amendment-reason" formControlName="reason" rows="2"></textarea>
+        <textarea
+          matInput
+          id="amendment-reason"
+          formControlName="reason"
+          rows="2"
+          required
+        ></textarea>
         <mat-hint>Why the decision needs amending</mat-hint>
         @if (form.controls.reason.invalid) {
           <mat-error>{{ form.controls.reason.errors | fieldError }}</mat-error>
@@ -58,7 +64,7 @@ const fields = amendDecisionSchema.shape;
       </mat-form-field>
       <mat-form-field>
         <mat-label>Amendment</mat-label>
-        <textarea matInput id="amendment-text" formControlName="text" rows="4"></textarea>
+        <textarea matInput id="amendment-text" formControlName="text" rows="4" required></textarea>
         @if (form.controls.text.invalid) {
           <mat-error>{{ form.controls.text.errors | fieldError }}</mat-error>
         }

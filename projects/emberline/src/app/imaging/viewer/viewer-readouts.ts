@@ -68,6 +68,8 @@ import { ViewerSession } from './viewer-session';
   styles: `
     :host {
       display: block;
+      /* Material's text button at density −3, so that Clear fits the strip's height. */
+      --mat-button-text-container-height: 28px;
     }
 
     .readouts {
@@ -77,7 +79,7 @@ import { ViewerSession } from './viewer-session';
       gap: 0 24px;
       margin: 0;
       /* Room for one line with the Clear button: the views above do not jump when it comes. */
-      min-height: 36px;
+      min-height: 28px;
     }
 
     .readout {

@@ -191,6 +191,8 @@ const emptyView: ViewState = {
                   [seriesId]="shownSeriesId"
                   [caseId]="item.caseId"
                   [canEdit]="false"
+                  [canAnnotate]="(permissions()?.canAnnotate ?? false) && !item.isClosed"
+                  [annotationsChanged]="annotationsVersion()"
                   [showSide]="false"
                   [followed]="followedView()"
                   (moved)="viewMoved($event)"
@@ -442,6 +444,8 @@ export class BoardRoom {
     return state ? { slice: state.slice, window: state.window, camera: state.camera } : null;
   });
 
+  /** Bumped whenever the room hears of an annotation change: the viewer reads them again. */
+  protected readonly annotationsVersion = signal(0);
   protected readonly tally = signal<TallyView | null>(null);
   protected readonly comments = signal<readonly CommentView[]>([]);
   protected readonly isVoting = signal(false);
@@ -492,6 +496,11 @@ export class BoardRoom {
           : [...held, event],
       );
     });
+    for (const changes of [this.socket.annotations, this.socket.resynced]) {
+      changes
+        .pipe(takeUntilDestroyed(destroyRef))
+        .subscribe(() => this.annotationsVersion.update((version) => version + 1));
+    }
     for (const changes of [this.socket.agendaChanged, this.socket.decisions]) {
       changes.pipe(takeUntilDestroyed(destroyRef)).subscribe(() => this.changed.emit());
     }

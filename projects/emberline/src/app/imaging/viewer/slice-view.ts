@@ -14,6 +14,9 @@ import {
   viewChild,
 } from '@angular/core';
 import { vector3, type Vec3 } from '@emberline/shared';
+import { draftAnnotationId, AnnotationLayer } from './annotations/annotation-layer';
+import { annotationsOnSlice } from './annotations/annotation-geometry';
+import { annotationColour, annotationOutline } from './annotations/annotation-style';
 import { svgPathOfLoops, zoneContourOnPlane } from './assessment/zone-contour';
 import { ZoneOverlay } from './assessment/zone-overlay';
 import { zoneStyles } from './assessment/zone-styles';
@@ -54,7 +57,8 @@ type Gesture =
  * crosshair, and an SVG overlay of the assessed zones' outlines, the crosshair, the applicator
  * paths with their handles and the distance measurement. Wheel or Page Up/Down move through slices, Ctrl+wheel or +/−
  * zoom, Shift+drag or the middle button pan, right-drag sets the window, arrows move the
- * crosshair, Enter acts at it as a click would.
+ * crosshair, Enter acts at it as a click would. The case's annotations near the slice show as
+ * markers with their notes; in annotate mode a click places one.
  */
 @Component({
   selector: 'em-slice-view',
@@ -68,6 +72,7 @@ export class SliceView {
 
   private readonly session = inject(ViewerSession);
   private readonly zones = inject(ZoneOverlay);
+  private readonly annotations = inject(AnnotationLayer, { optional: true });
   private readonly host = viewChild.required<ElementRef<HTMLElement>>('host');
   private scene: SliceScene | null = null;
   private resizeObserver: ResizeObserver | null = null;
@@ -76,6 +81,8 @@ export class SliceView {
   private gesture: Gesture | null = null;
 
   private readonly isSceneReady = signal(false);
+  protected readonly annotationColour = annotationColour;
+  protected readonly annotationOutline = annotationOutline;
   protected readonly viewport = signal<SliceViewport | null>(null);
   protected readonly title = computed(() => viewTitles[this.view()]);
   protected readonly axes = computed(() => this.session.axes()?.[this.view()] ?? null);
@@ -132,6 +139,19 @@ export class SliceView {
     }));
   });
 
+  /** The annotations (and the one being placed) near this slice, on screen. */
+  private readonly annotationShapes = computed(() => {
+    const axes = this.axes();
+    const viewport = this.viewport();
+    const plane = this.plane();
+    const drawn = this.annotations?.drawn() ?? [];
+    if (!axes || !viewport || !plane || !drawn.length) return [];
+    return annotationsOnSlice(drawn, axes, viewport, plane).map((shape) => ({
+      ...shape,
+      isDraft: shape.id === draftAnnotationId,
+    }));
+  });
+
   protected readonly overlay = computed(() => {
     const axes = this.axes();
     const allAxes = this.session.axes();
@@ -168,6 +188,7 @@ export class SliceView {
       zones,
       crosshair,
       paths,
+      annotations: this.annotationShapes(),
       measured,
       measuredMm: measured.length === 2 ? this.session.measurementMm() : null,
       widthPx: viewport.widthPx,
@@ -311,8 +332,9 @@ export class SliceView {
     }
     const point = this.pointAt(x, y);
     if (!point) return;
-    this.session.act(this.view(), point);
-    this.gesture = this.session.mode() === 'measure' ? null : { kind: 'cursor' };
+    this.actAt(point);
+    const mode = this.session.mode();
+    this.gesture = mode === 'measure' || mode === 'annotate' ? null : { kind: 'cursor' };
   }
 
   protected pointerMove(event: PointerEvent): void {
@@ -410,11 +432,17 @@ export class SliceView {
       if (!plane) return;
       // The crosshair onto this view's plane: what a click on it would pick.
       const depth = vector3.dot(vector3.subtract(plane.pointLps, cursor), axes.normalLps);
-      this.session.act(this.view(), vector3.addScaled(cursor, axes.normalLps, depth));
+      this.actAt(vector3.addScaled(cursor, axes.normalLps, depth));
     } else {
       return;
     }
     event.preventDefault();
+  }
+
+  /** A click (or Enter) at a point of this slice: an annotation's point, or the session's act. */
+  private actAt(pointLps: Vec3): void {
+    if (this.session.mode() === 'annotate' && this.annotations) this.annotations.place(pointLps);
+    else this.session.act(this.view(), pointLps);
   }
 
   protected preventMenu(event: Event): void {

@@ -2,7 +2,8 @@
  * The vtk.js side of the 3D view: the structures' surfaces in patient LPS millimetres (the
  * tumours optionally coloured vertex by vertex by their local margin), the assessed ablation
  * zones (a translucent skin, with a cage of outline rings for some models), the applicator paths as tubes with a
- * ball at each target, and the crosshair point. The camera
+ * ball at each target, the annotations (a ball at each point, a thin tube along each line) and
+ * the crosshair point. The camera
  * turns with the mouse (trackball) or the keys the component forwards. Plain TypeScript: the
  * component owns one and calls `dispose()` when it goes.
  */
@@ -24,6 +25,11 @@ import vtkRenderWindowInteractor from '@kitware/vtk.js/Rendering/Core/RenderWind
 import vtkRenderer from '@kitware/vtk.js/Rendering/Core/Renderer';
 import vtkOpenGLRenderWindow from '@kitware/vtk.js/Rendering/OpenGL/RenderWindow';
 import type { StructureKind, Vec3, ZoneModel } from '@emberline/shared';
+import {
+  annotationBallRadiusMm,
+  annotationColour,
+  annotationTubeRadiusMm,
+} from './annotations/annotation-style';
 import { viewerBackground } from './slice-scene';
 import type { SurfaceMesh } from './surface-mesh';
 import { rgbOf, type LabelAppearance, type PathShape } from './viewer-data';
@@ -37,6 +43,22 @@ const enclosingShare: Partial<Record<StructureKind, number>> = { skin: 0.2, live
 const pathColour = rgbOf('#ff8a3d');
 const selectedPathColour = rgbOf('#ffd23f');
 const cursorColour = rgbOf('#ffffff');
+const annotationRgb = rgbOf(annotationColour);
+
+/** An annotation as the 3D view draws it: its points, LPS mm (two make a line). */
+export interface AnnotationShape {
+  pointsLps: readonly (readonly [number, number, number])[];
+  /** The one being placed: drawn see-through. */
+  isDraft: boolean;
+}
+
+/** One vtk.js source (a ball or a tube) with its mapper and actor. */
+interface SourceActors {
+  source: vtkSphereSource | vtkLineSource;
+  tube: vtkTubeFilter | null;
+  mapper: vtkMapper;
+  actor: vtkActor;
+}
 
 /** How one zone model's surface is drawn (from `assessment/zone-styles.ts`). */
 export interface ZoneSurfaceLook {
@@ -80,6 +102,7 @@ export class SurfaceScene {
   private readonly colouredLabels = new Set<number>();
   private appearance: LabelAppearance | null = null;
   private readonly paths: PathActors[] = [];
+  private annotationActors: SourceActors[] = [];
   private readonly cursor = vtkSphereSource.newInstance({
     radius: 1.5,
     thetaResolution: 16,
@@ -297,6 +320,62 @@ export class SurfaceScene {
     for (const object of Object.values(actors)) object.delete();
   }
 
+  /**
+   * Draws the annotations afresh (a few dozen at most: rebuilding is simpler than matching
+   * them up and costs nothing to see).
+   */
+  setAnnotations(shapes: readonly AnnotationShape[]): void {
+    for (const actors of this.annotationActors.splice(0)) this.disposeSource(actors);
+    for (const shape of shapes) {
+      const opacity = shape.isDraft ? 0.6 : 1;
+      for (const point of shape.pointsLps) {
+        const ball = vtkSphereSource.newInstance({
+          center: [point[0], point[1], point[2]],
+          radius: annotationBallRadiusMm,
+          thetaResolution: 16,
+          phiResolution: 12,
+        });
+        this.annotationActors.push(this.sourceActors(ball, null, opacity));
+      }
+      if (shape.pointsLps.length === 2) {
+        const [a, b] = shape.pointsLps;
+        const line = vtkLineSource.newInstance({ resolution: 1 });
+        line.setPoint1(a[0], a[1], a[2]);
+        line.setPoint2(b[0], b[1], b[2]);
+        const tube = vtkTubeFilter.newInstance({
+          radius: annotationTubeRadiusMm,
+          numberOfSides: 12,
+          capping: true,
+        });
+        tube.setInputConnection(line.getOutputPort());
+        this.annotationActors.push(this.sourceActors(line, tube, opacity));
+      }
+    }
+  }
+
+  private sourceActors(
+    source: vtkSphereSource | vtkLineSource,
+    tube: vtkTubeFilter | null,
+    opacity: number,
+  ): SourceActors {
+    const mapper = vtkMapper.newInstance();
+    mapper.setInputConnection((tube ?? source).getOutputPort());
+    const actor = vtkActor.newInstance();
+    actor.setMapper(mapper);
+    actor.getProperty().setColor(...annotationRgb);
+    actor.getProperty().setOpacity(opacity);
+    this.renderer.addActor(actor);
+    return { source, tube, mapper, actor };
+  }
+
+  private disposeSource(actors: SourceActors): void {
+    this.renderer.removeActor(actors.actor);
+    actors.actor.delete();
+    actors.mapper.delete();
+    actors.tube?.delete();
+    actors.source.delete();
+  }
+
   setCursor(pointLps: Readonly<Vec3> | null): void {
     if (pointLps) this.cursor.setCenter(pointLps[0], pointLps[1], pointLps[2]);
     this.cursorActor.setVisibility(pointLps !== null);
@@ -387,6 +466,7 @@ export class SurfaceScene {
     for (const labelValue of [...this.surfaces.keys()]) this.removeSurface(labelValue);
     this.clearZones();
     for (const actors of this.paths.splice(0)) this.disposePath(actors);
+    for (const actors of this.annotationActors.splice(0)) this.disposeSource(actors);
     this.cursorActor.delete();
     this.cursorMapper.delete();
     this.cursor.delete();

@@ -22,8 +22,13 @@ import {
 } from '@emberline/shared';
 import { EMPTY, catchError, filter, forkJoin, switchMap, tap } from 'rxjs';
 import { CaseFileState } from '../../cases/case-file-state';
+import { AuthSession } from '../../core/auth-session';
 import { problemMessage } from '../../core/problem';
 import { PlanApi } from '../../plans/plan-api';
+import { AnnotationLayer } from './annotations/annotation-layer';
+import { mayAnnotateCase } from './annotations/annotation-permissions';
+import { AnnotationControls } from './annotations/annotation-controls';
+import { AnnotationList } from './annotations/annotation-list';
 import { ZoneOverlay } from './assessment/zone-overlay';
 import { ZonePanel } from './assessment/zone-panel';
 import { DraftingPanel } from './drafting/drafting-panel';
@@ -43,12 +48,13 @@ import { hasWebGl2, noWebGl2Message } from './webgl-support';
 /**
  * The case viewer of one series (README.md here): axial, coronal and sagittal slices and the 3D
  * view, the structures over them, the display window, the distance measurement, and the
- * drafting of needle plans with live clearance, and the assessed zones and margins of the plan
- * shown. Route `/cases/:id/imaging/:seriesId/viewer`,
+ * drafting of needle plans with live clearance, the assessed zones and margins of the plan
+ * shown, and the case's annotations on the series (shown in every view, made in annotate mode). Route `/cases/:id/imaging/:seriesId/viewer`,
  * `?plan=<id>` opens a plan.
  *
  * It fills the box its host gives it. Inside the case file it reads the case from
- * `CaseFileState`; elsewhere (the meeting room) the host passes `caseId` and `canEdit`.
+ * `CaseFileState`; elsewhere (the meeting room) the host passes `caseId`, `canEdit`,
+ * `canAnnotate` and bumps `annotationsChanged` when it hears that annotations changed.
  */
 @Component({
   selector: 'em-viewer-page',
@@ -63,8 +69,10 @@ import { hasWebGl2, noWebGl2Message } from './webgl-support';
     StructureToggles,
     DraftingPanel,
     ZonePanel,
+    AnnotationControls,
+    AnnotationList,
   ],
-  providers: [ViewerSession, ZoneOverlay],
+  providers: [ViewerSession, ZoneOverlay, AnnotationLayer],
   templateUrl: './viewer-page.html',
   styleUrl: './viewer-page.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
@@ -77,6 +85,8 @@ export class ViewerPage {
   private readonly router = inject(Router);
   protected readonly session = inject(ViewerSession);
   private readonly zones = inject(ZoneOverlay);
+  private readonly annotations = inject(AnnotationLayer);
+  private readonly auth = inject(AuthSession);
 
   /** Route parameter. */
   readonly seriesId = input.required<string>();
@@ -86,8 +96,24 @@ export class ViewerPage {
   readonly caseId = input<string | undefined>();
   /** Whether plans may be drafted, when embedded outside the case file. */
   readonly canEdit = input<boolean | undefined>();
+  /**
+   * Whether annotations may be made here. Outside the case file the host says (false unless
+   * it does); in the case file a clinical member of the case's board may, until the decision.
+   */
+  readonly canAnnotate = input<boolean | undefined>();
+  /**
+   * Bumped by the host when the case's annotations changed elsewhere (the meeting room, on its
+   * socket's `annotation:*` events): they are read again.
+   */
+  readonly annotationsChanged = input(0, {
+    transform: (value: number | undefined) => value ?? 0,
+  });
   /** Whether the side column (plans, structures) shows; a board session hides it. */
-  readonly showSide = input(true);
+  readonly showSide = input(true, {
+    // The case file's route binds inputs to its parameters and sets those it lacks to
+    // undefined: only an explicit false hides the column.
+    transform: (value: boolean | undefined) => value !== false,
+  });
   /**
    * A view to follow (a board session's lead): slice positions, window and 3D camera are put
    * where it says whenever it changes.
@@ -104,6 +130,13 @@ export class ViewerPage {
   protected readonly mayEdit = computed(
     () => this.canEdit() ?? this.state?.detail()?.permissions.canEdit ?? false,
   );
+  protected readonly mayAnnotate = computed(() => {
+    const given = this.canAnnotate();
+    if (given !== undefined) return given;
+    const detail = this.state?.detail();
+    return detail ? mayAnnotateCase(detail, this.auth.user()) : false;
+  });
+  protected readonly annotationCount = computed(() => this.annotations.annotations().length);
   protected readonly series = signal<ImageSeriesView | null>(null);
   protected readonly loadError = signal('');
   protected readonly isLoaded = signal(false);
@@ -141,6 +174,21 @@ export class ViewerPage {
     });
     if (this.hasWebGl) this.loadSeries();
     effect(() => this.openRequestedPlan());
+    // The annotations of the series on screen, read again whenever the host says they changed.
+    effect(() => {
+      this.annotationsChanged();
+      const caseId = this.caseIdShown();
+      const seriesId = this.seriesId();
+      if (!caseId || !this.isLoaded()) return;
+      untracked(() => this.annotations.load(caseId, seriesId));
+    });
+    effect(() => {
+      const may = this.mayAnnotate();
+      untracked(() => {
+        this.annotations.canAnnotate.set(may);
+        if (!may && this.session.mode() === 'annotate') this.session.mode.set('navigate');
+      });
+    });
     // The zones of the plan on screen are read once it shows (and again after a save).
     effect(() => {
       const plan = this.shownPlan();

@@ -24,7 +24,12 @@ import { sliceAxesOf, type SliceViewName } from './slice-axes';
 import { stepSlices } from './slice-viewport';
 import type { LabelAppearance, PathShape, ViewerLabelMap, ViewerVolume } from './viewer-data';
 
-export type ViewerMode = 'navigate' | 'measure' | 'draft';
+/**
+ * What a click on a slice view does: move the crosshair, measure a distance, place a plan's
+ * target and entry, or place an annotation (`annotations/annotation-layer.ts` takes those
+ * clicks).
+ */
+export type ViewerMode = 'navigate' | 'measure' | 'draft' | 'annotate';
 
 /** Where the pointer is over a slice view: LPS, the nearest voxel and its value. */
 export interface HoverReading {
@@ -191,6 +196,8 @@ export class ViewerSession {
    */
   act(view: SliceViewName, pointLps: Vec3): void {
     const mode = this.mode();
+    // Annotating leaves the crosshair where it is: the annotation layer takes the click.
+    if (mode === 'annotate') return;
     if (mode === 'measure') {
       const current = this.measurement();
       const isAdding = current && current.view === view && current.pointsLps.length === 1;

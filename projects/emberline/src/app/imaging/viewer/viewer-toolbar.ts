@@ -8,7 +8,7 @@ import { ViewerSession, type ViewerMode } from './viewer-session';
 
 /**
  * The viewer's controls above the views, one compact row: what a click does (crosshair, measure,
- * draft) and the display window (presets and typed values). The read-outs sit under the views
+ * draft, and annotate for those who may) and the display window (presets and typed values). The read-outs sit under the views
  * (`viewer-readouts.ts`).
  */
 @Component({
@@ -33,6 +33,11 @@ export class ViewerToolbar {
   readonly seriesWindow = input.required<DisplayWindow>();
   /** Whether a plan may be drafted here (the presenter on a case they edit). */
   readonly canDraft = input(false);
+  /**
+   * Whether annotations may be placed here. Offered only then (not greyed out like drafting):
+   * most readers never annotate, and the row stays short.
+   */
+  readonly canAnnotate = input(false);
   readonly modeRequested = output<ViewerMode>();
 
   protected readonly presets = windowPresets;

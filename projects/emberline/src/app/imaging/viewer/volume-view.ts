@@ -12,6 +12,7 @@ import {
   viewChild,
 } from '@angular/core';
 import type { AssessmentDisplay, DisplayZone, StructureKind } from '@emberline/shared';
+import { AnnotationLayer, draftAnnotationId } from './annotations/annotation-layer';
 import { MarginLegend } from './assessment/margin-legend';
 import { marginColours } from './assessment/margin-colours';
 import { nearestSampleValues } from './assessment/nearest-sample';
@@ -42,7 +43,7 @@ const marginReachMm = 5;
 /**
  * The 3D view: surface models of the structures (built in a worker, one by one), the assessed
  * zones of the plan on screen with the tumours coloured by local margin and its legend, the
- * applicator paths and the crosshair point. Drag to turn, wheel to zoom; arrow keys turn,
+ * applicator paths, the annotations and the crosshair point. Drag to turn, wheel to zoom; arrow keys turn,
  * plus and minus zoom, 0 resets.
  */
 @Component({
@@ -59,7 +60,7 @@ const marginReachMm = 5;
       class="host"
       tabindex="0"
       role="application"
-      aria-label="3D view of the structures and the applicator paths. Arrow keys turn it, plus and minus zoom, 0 resets."
+      aria-label="3D view of the structures, the applicator paths and the annotations. Arrow keys turn it, plus and minus zoom, 0 resets."
       (keydown)="keyDown($event)"
     >
       <em-margin-legend />
@@ -77,6 +78,7 @@ const marginReachMm = 5;
 export class VolumeView {
   private readonly session = inject(ViewerSession);
   private readonly zones = inject(ZoneOverlay);
+  private readonly annotations = inject(AnnotationLayer, { optional: true });
   private readonly host = viewChild.required<ElementRef<HTMLElement>>('host');
   private scene: SurfaceScene | null = null;
   private builder: SurfaceBuilder | null = null;
@@ -103,6 +105,7 @@ export class VolumeView {
     effect(() => this.showAppearance());
     effect(() => this.showPaths());
     effect(() => this.showCursor());
+    effect(() => this.showAnnotations());
     // A camera put there by the session's lead is applied; the user's own moves are reported.
     effect(() => {
       const camera = this.session.camera();
@@ -307,6 +310,18 @@ export class VolumeView {
     const paths = this.session.paths();
     if (!this.isSceneReady()) return;
     this.scene?.setPaths(paths);
+    this.requestRender();
+  }
+
+  private showAnnotations(): void {
+    const drawn = this.annotations?.drawn() ?? [];
+    if (!this.isSceneReady()) return;
+    this.scene?.setAnnotations(
+      drawn.map((annotation) => ({
+        pointsLps: annotation.points,
+        isDraft: annotation.id === draftAnnotationId,
+      })),
+    );
     this.requestRender();
   }
 

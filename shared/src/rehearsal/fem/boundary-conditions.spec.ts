@@ -20,14 +20,20 @@ describe('conjugate gradients on the step system', () => {
   // Conjugate gradients on a symmetric positive definite system (Hestenes & Stiefel 1952)
   // reach any residual; checked here against Gaussian elimination of the same reduced system
   // A_ff = (M + h·C + h²·K)_ff assembled densely from the definitions.
-  for (const relativeTolerance of [1e-6, 1e-12]) {
-    it(`solveSystem meets the relative tolerance ${relativeTolerance} on the free unknowns`, () => {
+  for (const [preconditioner, relativeTolerance] of [
+    ['incomplete-cholesky', 1e-6],
+    ['incomplete-cholesky', 1e-12],
+    ['jacobi', 1e-6],
+    ['jacobi', 1e-12],
+  ] as const) {
+    it(`solveSystem meets the relative tolerance ${relativeTolerance} (${preconditioner})`, () => {
       const mesh = blockMesh([2, 2, 3], [20, 20, 30]);
       const fixed = nodesOnPlane(mesh, 2, 0).map((node) => ({ node }));
       const solver = new TissueSolver(mesh, {
         timeStepS: H,
         boundary: { fixed },
         relativeTolerance,
+        preconditioner,
       });
       const random = seededRandom(99);
       const turn = rotationMatrix([1, 1, 0], 0.5);

@@ -1,7 +1,7 @@
 /**
  * Preconditioned conjugate gradients (Hestenes & Stiefel, J Res Natl Bur Stand 1952;49:409) on
- * a symmetric positive definite system with some unknowns fixed at zero, with the diagonal
- * (Jacobi) preconditioner.
+ * a symmetric positive definite system with some unknowns fixed at zero; the preconditioner is
+ * the caller's (the solver offers the diagonal, Jacobi, and incomplete Cholesky).
  *
  * Fixed unknowns are handled by projection, the filter S (1 on free unknowns, 0 on fixed) of
  * Baraff & Witkin's modified CG (Large steps in cloth simulation, SIGGRAPH 1998, §5.3): CG runs
@@ -46,43 +46,59 @@ export class PcgWorkspace {
 }
 
 /**
- * Solves S·A·S·y = S·b for y (y = 0 on fixed unknowns), starting from y = 0.
+ * Solves S·A·S·y = S·b for y (y = 0 on fixed unknowns), starting from y = 0 or, with
+ * `isWarmStart`, from the free part of the y passed in (the tolerance stays relative to ‖S·b‖).
  *
  * @param multiply writes A·x into out (the product's values on fixed unknowns are ignored)
- * @param inverseDiagonal 1/A_ii on free unknowns and 0 on fixed ones: both the Jacobi
- *   preconditioner and the filter S
+ * @param precondition writes M⁻¹·r into z for an SPD approximation M of A; it must leave z
+ *   at 0 on fixed unknowns when r is 0 there
+ * @param constrained 1 on fixed unknowns, 0 on free ones: the filter S = I − diag(constrained)
  */
 export function projectedPcg(
   multiply: (x: Float64Array, out: Float64Array) => void,
-  inverseDiagonal: Float64Array,
+  precondition: (r: Float64Array, z: Float64Array) => void,
+  constrained: Uint8Array,
   b: Float64Array,
   y: Float64Array,
   options: PcgOptions,
   work: PcgWorkspace,
+  isWarmStart = false,
 ): PcgReport {
   const { r, z, p, q } = work;
   const n = b.length;
   let bNorm = 0;
-  let rz = 0;
   for (let index = 0; index < n; index++) {
-    const isFree = inverseDiagonal[index] !== 0;
-    const value = isFree ? b[index] : 0;
-    y[index] = 0;
-    r[index] = value;
-    bNorm += value * value;
-    z[index] = inverseDiagonal[index] * value;
-    p[index] = z[index];
-    rz += value * z[index];
+    if (constrained[index] || !isWarmStart) y[index] = 0;
+    if (!constrained[index]) bNorm += b[index] * b[index];
   }
   bNorm = Math.sqrt(bNorm);
-  if (bNorm === 0) return { iterations: 0, relativeResidual: 0, converged: true };
+  if (bNorm === 0) {
+    y.fill(0);
+    return { iterations: 0, relativeResidual: 0, converged: true };
+  }
+  if (isWarmStart) multiply(y, q);
+  let residualNorm = 0;
+  for (let index = 0; index < n; index++) {
+    const value = constrained[index] ? 0 : b[index] - (isWarmStart ? q[index] : 0);
+    r[index] = value;
+    residualNorm += value * value;
+  }
+  residualNorm = Math.sqrt(residualNorm);
   const target = options.relativeTolerance * bNorm;
-  let residualNorm = bNorm;
+  if (residualNorm <= target) {
+    return { iterations: 0, relativeResidual: residualNorm / bNorm, converged: true };
+  }
+  precondition(r, z);
+  let rz = 0;
+  for (let index = 0; index < n; index++) {
+    p[index] = z[index];
+    rz += r[index] * z[index];
+  }
   for (let iteration = 1; iteration <= options.maxIterations; iteration++) {
     multiply(p, q);
     let pq = 0;
     for (let index = 0; index < n; index++) {
-      if (inverseDiagonal[index] === 0) q[index] = 0;
+      if (constrained[index]) q[index] = 0;
       else pq += p[index] * q[index];
     }
     if (!(pq > 0)) {
@@ -91,20 +107,19 @@ export function projectedPcg(
     }
     const alpha = rz / pq;
     let rr = 0;
-    let rzNext = 0;
     for (let index = 0; index < n; index++) {
       y[index] += alpha * p[index];
       const ri = r[index] - alpha * q[index];
       r[index] = ri;
       rr += ri * ri;
-      const zi = inverseDiagonal[index] * ri;
-      z[index] = zi;
-      rzNext += ri * zi;
     }
     residualNorm = Math.sqrt(rr);
     if (residualNorm <= target) {
       return { iterations: iteration, relativeResidual: residualNorm / bNorm, converged: true };
     }
+    precondition(r, z);
+    let rzNext = 0;
+    for (let index = 0; index < n; index++) rzNext += r[index] * z[index];
     const beta = rzNext / rz;
     rz = rzNext;
     for (let index = 0; index < n; index++) p[index] = z[index] + beta * p[index];

@@ -7,9 +7,10 @@
  *
  *   node --import tsx shared/benchmarks/fem-step.bench.ts
  *
- * Prints the median wall and CPU time of 20 steps after 5 warm-up steps, the conjugate-
- * gradient iterations, and the time of one solveSystem() call (what a constraint solver pays
- * per constraint row). On a machine shared with other jobs the CPU time is the steadier figure.
+ * For each preconditioner (incomplete Cholesky, Jacobi) prints the median wall and CPU time of
+ * 20 steps after 5 warm-up steps, the conjugate-gradient iterations, and the time of one
+ * solveSystem() call (what a constraint solver pays per constraint row). On a machine shared
+ * with other jobs the CPU time is the steadier figure.
  */
 import { TissueSolver, type DrivenNode, type SoftAttachment } from '../src/rehearsal/fem';
 import { blockMesh, nodesOnPlane } from '../src/rehearsal/fem/testing/block-mesh';

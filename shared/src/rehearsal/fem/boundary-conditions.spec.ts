@@ -296,5 +296,10 @@ describe('bad input', () => {
     const after = solver.positionsM.slice();
     expect(() => solver.step()).toThrow(FemInputError);
     expect(Array.from(solver.positionsM)).toEqual(Array.from(after));
+    // A static solve that meets the bad position puts everything back too.
+    solver.setState({ timeS: 1 });
+    expect(() => solver.solveStatic()).toThrow(/no finite position/);
+    expect(Array.from(solver.positionsM)).toEqual(Array.from(after));
+    expect(() => solver.solveStatic({ toleranceM: 0 })).toThrow(FemInputError);
   });
 });

@@ -469,10 +469,11 @@ export class TissueSolver {
 
   /**
    * out = A⁻¹·rhs for the current step's A = M + h·C + h²·K with its boundary conditions: fixed
-   * and driven degrees of freedom are eliminated (out is 0 there, rhs is ignored there). With
-   * rhs = h·f_c, out is the velocity change a constraint force f_c (N) would add to the free
-   * motion; so W = H·A⁻¹·Hᵀ·h is the velocity compliance of constraint rows H. Needs
-   * freeMotion() first.
+   * and driven degrees of freedom are eliminated (out is 0 there, rhs is ignored there). An
+   * impulse p (N·s, 3 per node) applied during the step changes the velocities by A⁻¹·p, so with
+   * rhs = Hᵀ·p for constraint rows H, out is that change, and W = H·A⁻¹·Hᵀ maps constraint
+   * impulses to constraint velocities (m/s per N·s); a force f_c held through the step is the
+   * impulse h·f_c. Needs freeMotion() first. The caller owns out; the solve starts from zero.
    */
   solveSystem(rhs: Float64Array, out: Float64Array): PcgReport {
     if (!this.isSystemReady) {
@@ -510,6 +511,9 @@ export class TissueSolver {
   solveStatic(options: { toleranceM?: number; maxIterations?: number } = {}): StaticReport {
     const toleranceM = options.toleranceM ?? 1e-9;
     const maxIterations = options.maxIterations ?? 30;
+    if (!(toleranceM > 0) || !Number.isInteger(maxIterations) || maxIterations < 1) {
+      throw new FemInputError('solveStatic needs toleranceM > 0 and a positive iteration cap.');
+    }
     if (this.constrained.indexOf(1) < 0 && !this.attachments.some((a) => a.stiffnessNPerM > 0)) {
       throw new FemInputError(
         'A static solve needs supports (a fixed, driven or attached node): a free body has none.',
@@ -517,38 +521,45 @@ export class TissueSolver {
     }
     const x = this.positionsM;
     const n = x.length;
+    const start = x.slice();
     this.isSystemReady = false;
-    let pcgIterations = 0;
-    let lastUpdateM = Infinity;
-    for (let iteration = 1; iteration <= maxIterations; iteration++) {
-      for (const entry of this.driven) {
-        const target = this.drivenPosition(entry, this.time);
-        for (const axis of entry.axes) x[3 * entry.node + axis] = target[axis];
-      }
-      this.assemble(true);
-      this.totalForces(this.time, this.rhs);
-      this.prepareSystem(0, 1, 1);
-      this.isSystemReady = false;
-      const solve = this.solveFree(this.rhs, this.solution, false);
-      pcgIterations += solve.iterations;
-      lastUpdateM = 0;
-      for (let dof = 0; dof < n; dof++) {
-        const update = this.solution[dof];
-        if (!Number.isFinite(update)) {
-          throw new FemNumericalError(
-            'The static solve gave a non-finite position; are the supports enough to hold the body?',
-          );
+    try {
+      let pcgIterations = 0;
+      let lastUpdateM = Infinity;
+      for (let iteration = 1; iteration <= maxIterations; iteration++) {
+        for (const entry of this.driven) {
+          const target = this.drivenPosition(entry, this.time);
+          for (const axis of entry.axes) x[3 * entry.node + axis] = target[axis];
         }
-        lastUpdateM = Math.max(lastUpdateM, Math.abs(update));
+        this.assemble(true);
+        this.totalForces(this.time, this.rhs);
+        this.prepareSystem(0, 1, 1);
+        this.isSystemReady = false;
+        const solve = this.solveFree(this.rhs, this.solution, false);
+        pcgIterations += solve.iterations;
+        lastUpdateM = 0;
+        for (let dof = 0; dof < n; dof++) {
+          const update = this.solution[dof];
+          if (!Number.isFinite(update)) {
+            throw new FemNumericalError(
+              'The static solve gave a non-finite position; are the supports enough to hold the body?',
+            );
+          }
+          lastUpdateM = Math.max(lastUpdateM, Math.abs(update));
+        }
+        for (let dof = 0; dof < n; dof++) x[dof] += this.solution[dof];
+        if (lastUpdateM <= toleranceM) {
+          this.velocitiesMPerS.fill(0);
+          return { iterations: iteration, pcgIterations, lastUpdateM, converged: true };
+        }
       }
-      for (let dof = 0; dof < n; dof++) x[dof] += this.solution[dof];
-      if (lastUpdateM <= toleranceM) {
-        this.velocitiesMPerS.fill(0);
-        return { iterations: iteration, pcgIterations, lastUpdateM, converged: true };
-      }
+      this.velocitiesMPerS.fill(0);
+      return { iterations: maxIterations, pcgIterations, lastUpdateM, converged: false };
+    } catch (error) {
+      // Bad input or a numerical failure mid-way: put the positions back as they were.
+      x.set(start);
+      throw error;
     }
-    this.velocitiesMPerS.fill(0);
-    return { iterations: maxIterations, pcgIterations, lastUpdateM, converged: false };
   }
 
   /**

@@ -23,3 +23,4 @@ export * from './api/assessments';
 export * from './api/assessment-snapshot';
 export * from './api/realtime';
 export * from './api/assessment-display';
+export * from './rehearsal';

@@ -1,0 +1,2 @@
+// The insertion rehearsal: the organ's finite-element mesh (mesh/).
+export * from './mesh';

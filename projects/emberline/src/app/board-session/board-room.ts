@@ -130,9 +130,13 @@ const emptyView: ViewState = {
                     type="button"
                     class="hand-over"
                     (click)="handOver(person.userId)"
-                    [attr.aria-label]="'Hand the lead to ' + person.displayName"
+                    [attr.aria-label]="
+                      person.userId === myId()
+                        ? 'Take the lead yourself'
+                        : 'Hand the lead to ' + person.displayName
+                    "
                   >
-                    Hand the lead
+                    {{ person.userId === myId() ? 'Take the lead' : 'Hand the lead' }}
                   </button>
                 }
               </li>
@@ -162,6 +166,8 @@ const emptyView: ViewState = {
           <span class="follow" role="status" data-testid="follow-state">
             @if (isLead()) {
               You lead the review
+            } @else if (isFollowing() && !leadName()) {
+              The lead has not joined yet
             } @else if (isFollowing()) {
               Following {{ leadName() }}
             } @else {
@@ -245,18 +251,22 @@ const emptyView: ViewState = {
     </div>
   `,
   styles: `
+    // Takes the height its page leaves it (at least enough to read the views).
     :host {
-      display: block;
+      flex: 1 1 0px;
+      min-height: 560px;
+      display: flex;
+      flex-direction: column;
     }
     // A workspace that fills the window below the page's title: the rail and the board's
     // work scroll on their own, the review keeps the viewer's four panes in view.
     .room {
       display: grid;
-      grid-template-columns: 240px minmax(0, 1fr) 380px;
+      grid-template-columns: 230px minmax(0, 1fr) 400px;
       grid-template-rows: minmax(0, 1fr);
       gap: 12px;
-      height: calc(100dvh - 150px);
-      min-height: 560px;
+      flex: 1 1 0px;
+      min-height: 0;
     }
     .rail,
     .board-work {
@@ -280,6 +290,10 @@ const emptyView: ViewState = {
       gap: 6px;
       align-items: center;
       margin: 0;
+    }
+    .connection mat-icon,
+    .quorum mat-icon {
+      flex: none;
     }
     .quorum {
       color: var(--mat-sys-error);
@@ -347,11 +361,16 @@ const emptyView: ViewState = {
       height: 100%;
       box-sizing: border-box;
     }
+    // A box of definite size for the viewer, whatever its content would like: the four panes
+    // share exactly what the review leaves them.
     .viewer-box {
       flex: 1 1 0px;
       min-height: 0;
-      display: flex;
-      flex-direction: column;
+      position: relative;
+    }
+    .viewer-box em-viewer-page {
+      position: absolute;
+      inset: 0;
     }
     .links {
       margin: 0 0 6px;
@@ -401,6 +420,7 @@ export class BoardRoom {
   private readonly ownItemId = signal<string | null>(null);
 
   protected readonly permissions = computed(() => this.socket.snapshot()?.permissions ?? null);
+  protected readonly myId = computed(() => this.auth.user()?.id ?? null);
   protected readonly isLead = computed(() => {
     const userId = this.auth.user()?.id;
     const lead = this.socket.presence()?.leadUserId ?? this.socket.view()?.leadUserId;
@@ -412,7 +432,7 @@ export class BoardRoom {
   protected readonly leadName = computed(() => {
     const presence = this.socket.presence();
     const lead = presence?.members.find((member) => member.userId === presence.leadUserId);
-    return lead?.displayName ?? 'the lead';
+    return lead?.displayName ?? '';
   });
 
   protected readonly currentItem = computed<AgendaItemView | null>(() => {

@@ -101,79 +101,101 @@ import { meetingTimeline } from './meeting-timeline';
         @if (isLive()) {
           <em-board-room [meeting]="current" (changed)="meeting.reload()" />
         }
-        <section class="em-panel" aria-labelledby="agenda-title" [hidden]="isLive()">
-          <h2 id="agenda-title">Agenda</h2>
-          <p class="em-note" role="status">{{ actionNote() }}</p>
-          @if (actionError()) {
-            <p class="em-error-text" role="alert">{{ actionError() }}</p>
-          }
-          @if (current.agenda.length) {
-            <ol class="agenda">
-              @for (item of current.agenda; track item.id; let first = $first, last = $last) {
-                <li class="item">
-                  <span class="position">{{ item.position }}</span>
-                  <span class="case">
-                    <a [routerLink]="['/cases', item.caseId]">{{ item.caseCode }}</a>
-                    · {{ diagnosisLabels[item.primaryDiagnosis] }} · presented by
-                    {{ item.presenterName }}
-                  </span>
-                  <em-case-status-badge [status]="item.caseStatus" />
-                  @if (mayOrder()) {
-                    <span class="moves">
-                      <button
-                        mat-icon-button
-                        type="button"
-                        [disabled]="first || isSaving()"
-                        [attr.aria-label]="'Move ' + item.caseCode + ' up'"
-                        (click)="move(item, -1)"
-                      >
-                        <mat-icon>arrow_upward</mat-icon>
-                      </button>
-                      <button
-                        mat-icon-button
-                        type="button"
-                        [disabled]="last || isSaving()"
-                        [attr.aria-label]="'Move ' + item.caseCode + ' down'"
-                        (click)="move(item, 1)"
-                      >
-                        <mat-icon>arrow_downward</mat-icon>
-                      </button>
-                      @if (moveTargets().length) {
-                        <button
-                          mat-button
-                          type="button"
-                          [disabled]="isSaving()"
-                          [matMenuTriggerFor]="targets"
-                          [attr.aria-label]="'Move ' + item.caseCode + ' to another meeting'"
-                        >
-                          Move to…
-                        </button>
-                        <mat-menu #targets="matMenu">
-                          @for (target of moveTargets(); track target.id) {
-                            <button mat-menu-item type="button" (click)="moveTo(item, target.id)">
-                              {{ target.startsAt | date: 'EEE d MMM y, HH:mm' }}
-                            </button>
-                          }
-                        </mat-menu>
-                      }
+        @if (!isLive()) {
+          <section class="em-panel" aria-labelledby="agenda-title">
+            <h2 id="agenda-title">Agenda</h2>
+            <p class="em-note" role="status">{{ actionNote() }}</p>
+            @if (actionError()) {
+              <p class="em-error-text" role="alert">{{ actionError() }}</p>
+            }
+            @if (current.agenda.length) {
+              <ol class="agenda">
+                @for (item of current.agenda; track item.id; let first = $first, last = $last) {
+                  <li class="item">
+                    <span class="position">{{ item.position }}</span>
+                    <span class="case">
+                      <a [routerLink]="['/cases', item.caseId]">{{ item.caseCode }}</a>
+                      · {{ diagnosisLabels[item.primaryDiagnosis] }} · presented by
+                      {{ item.presenterName }}
                     </span>
-                  }
-                </li>
-              }
-            </ol>
-          } @else {
-            <p class="em-muted">
-              No case on the agenda yet. A presenting physician puts a case that is ready for board
-              on it from the case file.
-            </p>
-          }
-        </section>
+                    <em-case-status-badge [status]="item.caseStatus" />
+                    @if (mayOrder()) {
+                      <span class="moves">
+                        <button
+                          mat-icon-button
+                          type="button"
+                          [disabled]="first || isSaving()"
+                          [attr.aria-label]="'Move ' + item.caseCode + ' up'"
+                          (click)="move(item, -1)"
+                        >
+                          <mat-icon>arrow_upward</mat-icon>
+                        </button>
+                        <button
+                          mat-icon-button
+                          type="button"
+                          [disabled]="last || isSaving()"
+                          [attr.aria-label]="'Move ' + item.caseCode + ' down'"
+                          (click)="move(item, 1)"
+                        >
+                          <mat-icon>arrow_downward</mat-icon>
+                        </button>
+                        @if (moveTargets().length) {
+                          <button
+                            mat-button
+                            type="button"
+                            [disabled]="isSaving()"
+                            [matMenuTriggerFor]="targets"
+                            [attr.aria-label]="'Move ' + item.caseCode + ' to another meeting'"
+                          >
+                            Move to…
+                          </button>
+                          <mat-menu #targets="matMenu">
+                            @for (target of moveTargets(); track target.id) {
+                              <button mat-menu-item type="button" (click)="moveTo(item, target.id)">
+                                {{ target.startsAt | date: 'EEE d MMM y, HH:mm' }}
+                              </button>
+                            }
+                          </mat-menu>
+                        }
+                      </span>
+                    }
+                  </li>
+                }
+              </ol>
+            } @else {
+              <p class="em-muted">
+                No case on the agenda yet. A presenting physician puts a case that is ready for
+                board on it from the case file.
+              </p>
+            }
+          </section>
+        }
       }
     </section>
   `,
   styles: `
+    // As the case file does for its viewer: in the shell's main column the page takes the free
+    // height, and a live room fills what is left below the title (the room is a workspace).
+    :host {
+      flex: 1 0 auto;
+      display: flex;
+      flex-direction: column;
+    }
+
+    .em-page {
+      width: 100%;
+    }
+
     .em-page.live {
+      flex: 1 0 auto;
       max-width: none;
+      padding: 8px 16px;
+      gap: 6px;
+    }
+
+    .em-page.live h1 {
+      margin: 0;
+      font: var(--mat-sys-title-large);
     }
 
     .back {

@@ -59,10 +59,8 @@ describe('a board session', () => {
     await chair.waitForURL(/\/meetings\/[0-9a-f-]{36}$/);
     meetingUrl = chair.url();
     await chair.getByRole('button', { name: 'Open the board session' }).click();
-    await chair
-      .getByText('You lead the review')
-      .or(chair.getByText(/^Following/))
-      .waitFor();
+    await chair.getByTestId('follow-state').waitFor();
+    await chair.locator('[data-connection="connected"]').waitFor();
     await expect
       .poll(() => chair.getByTestId('quorum').textContent())
       .toMatch(/Not met: missing Hepatology, Diagnostic radiology/);
@@ -108,8 +106,8 @@ describe('a board session', () => {
   });
 
   it('lets the proceduralist sign the decision with the password; the case is read-only after', async () => {
-    await chair.getByRole('link', { name: 'Record the decision' }).click();
-    await chair.waitForURL(/\/cases\/[0-9a-f-]{36}\/decision/);
+    // Signed in the room, over its socket: the signer stays present, so quorum holds.
+    await chair.getByRole('button', { name: 'Record the decision' }).click();
     await chair.getByRole('combobox', { name: 'Outcome' }).click();
     await chair.getByRole('option', { name: /TACE/ }).click();
     await chair
@@ -117,6 +115,10 @@ describe('a board session', () => {
       .fill('Invented scenario: the board prefers chemoembolisation before any ablation.');
     await chair.getByLabel('Your password', { exact: true }).fill('ember-demo-2026');
     await chair.getByRole('button', { name: 'Sign and record the decision' }).click();
+    await chair.getByText('Voting has closed on this case.').waitFor({ timeout: 20_000 });
+    // Everyone in the room sees the item close.
+    await member.getByText(/voting has closed/).waitFor({ timeout: 20_000 });
+    await chair.getByRole('link', { name: 'Read its decision' }).click();
     await chair.locator('[data-decision] .outcome').waitFor({ timeout: 20_000 });
     expect(await chair.locator('[data-decision] .outcome').textContent()).toMatch(/TACE/);
     await chair.screenshot({ path: join(artefacts, 'decision-signed.png'), fullPage: true });

@@ -11,7 +11,9 @@ import {
   untracked,
   viewChild,
 } from '@angular/core';
+import { HttpErrorResponse } from '@angular/common/http';
 import { takeUntilDestroyed } from '@angular/core/rxjs-interop';
+import { from, map } from 'rxjs';
 import { MatButton } from '@angular/material/button';
 import { MatDialog } from '@angular/material/dialog';
 import { MatIcon } from '@angular/material/icon';
@@ -24,6 +26,7 @@ import {
   type CommentView,
   type MeetingView,
   type PostComment,
+  type RecordDecision,
   type TallyView,
   type ViewState,
 } from '@emberline/shared';
@@ -32,6 +35,7 @@ import { ClinicalCaution } from '../core/clinical-caution';
 import { ConfirmDialog, type ConfirmDialogData } from '../core/confirm-dialog';
 import { problemMessage } from '../core/problem';
 import { PlanApi } from '../plans/plan-api';
+import { DecisionRecordForm } from '../decisions/decision-record-form';
 import { PlanComparison } from '../plans/plan-comparison';
 import { SeriesApi } from '../imaging/series-api';
 import { ViewerPage, type SharedView } from '../imaging/viewer/viewer-page';
@@ -66,6 +70,7 @@ const emptyView: ViewState = {
     PlanComparison,
     VotePanel,
     ViewerPage,
+    DecisionRecordForm,
   ],
   providers: [BoardSessionSocket],
   template: `
@@ -180,9 +185,7 @@ const emptyView: ViewState = {
           <p class="links">
             <a [routerLink]="['/cases', item.caseId, 'imaging']">Imaging</a> ·
             <a [routerLink]="['/cases', item.caseId, 'discussion']">Discussion</a> ·
-            <a [routerLink]="['/cases', item.caseId, 'decision']">{{
-              permissions()?.canRecordDecision ? 'Record the decision' : 'Decision'
-            }}</a>
+            <a [routerLink]="['/cases', item.caseId, 'decision']">Decision</a>
             @if (!isLead() && isFollowing()) {
               ·
               <button type="button" class="em-inline-button" (click)="lookAround()">
@@ -221,6 +224,30 @@ const emptyView: ViewState = {
               <em-plan-comparison [plans]="plans.value()" [caseCode]="item.caseCode" />
             } @else {
               <p class="em-muted">No needle plan on this case.</p>
+            }
+          </section>
+        }
+        @if (permissions()?.canRecordDecision && currentItem(); as item) {
+          <section aria-labelledby="room-decision-title">
+            <h2 id="room-decision-title">Decision</h2>
+            @if (item.isClosed) {
+              <p>
+                Voting has closed on this case.
+                <a [routerLink]="['/cases', item.caseId, 'decision']">Read its decision</a>
+              </p>
+            } @else if (isRecording()) {
+              <em-decision-record-form
+                [caseId]="item.caseId"
+                [plans]="assessedPlans()"
+                [signInMethod]="signInMethod()"
+                [send]="sendDecision"
+                (recorded)="decisionRecorded()"
+                (stale)="changed.emit()"
+              />
+            } @else {
+              <button mat-stroked-button type="button" (click)="isRecording.set(true)">
+                Record the decision
+              </button>
             }
           </section>
         }
@@ -534,6 +561,27 @@ export class BoardRoom {
     }
     this.isFollowing.set(false);
     this.ownItemId.set(item.id);
+  }
+
+  protected readonly isRecording = signal(false);
+  protected readonly signInMethod = computed(() => this.auth.user()?.signInMethod ?? 'local');
+  protected readonly assessedPlans = computed(() =>
+    (this.plans.hasValue() ? this.plans.value() : [])
+      .filter((plan) => plan.status === 'assessed')
+      .map((plan) => ({ id: plan.id, name: plan.name })),
+  );
+  /** The decision goes over the room's socket: the signer stays present for quorum. */
+  protected readonly sendDecision = (caseId: string, body: RecordDecision) =>
+    from(this.socket.recordDecision(caseId, body)).pipe(
+      map((answer) => {
+        if (answer.ok) return answer.data;
+        throw new HttpErrorResponse({ status: answer.problem.status, error: answer.problem });
+      }),
+    );
+
+  protected decisionRecorded(): void {
+    this.isRecording.set(false);
+    this.changed.emit();
   }
 
   protected lookAround(): void {

@@ -87,7 +87,9 @@ import { BoardSessionApi } from './board-session-api';
               <h3>Plans discussed</h3>
               <ul>
                 @for (plan of item.plans; track plan.id) {
-                  <li>{{ plan.name }} · {{ plan.status }} · {{ plan.verdict ?? 'not assessed' }}</li>
+                  <li>
+                    {{ plan.name }} · {{ plan.status }} · {{ plan.verdict ?? 'not assessed' }}
+                  </li>
                 }
               </ul>
             }

@@ -2,8 +2,10 @@ import { DestroyRef, Injectable, InjectionToken, inject, signal } from '@angular
 import type {
   CastVote,
   CommentView,
+  DecisionView,
   PostComment,
   PresenceView,
+  RecordDecision,
   SessionAck,
   SessionClientEvents,
   SessionServerEvents,
@@ -136,6 +138,10 @@ export class BoardSessionSocket {
 
   postComment(agendaItemId: string, comment: PostComment): Promise<SessionAck<CommentView>> {
     return this.ask('comment:post', { agendaItemId, comment });
+  }
+
+  recordDecision(caseId: string, decision: RecordDecision): Promise<SessionAck<DecisionView>> {
+    return this.ask('decision:record', { caseId, decision });
   }
 
   private async join(): Promise<void> {

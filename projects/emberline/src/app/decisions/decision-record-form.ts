@@ -16,6 +16,7 @@ import { MatButton } from '@angular/material/button';
 import { MatError, MatFormField, MatHint, MatLabel } from '@angular/material/form-field';
 import { MatInput } from '@angular/material/input';
 import { MatOption, MatSelect } from '@angular/material/select';
+import type { Observable } from 'rxjs';
 import {
   ablationTreatments,
   recordDecisionSchema,
@@ -71,6 +72,14 @@ export class DecisionRecordForm implements OnInit {
   readonly plans = input.required<readonly { id: string; name: string }[]>();
   /** How the signer signed in: a local account types its password again. */
   readonly signInMethod = input.required<'local' | 'saml'>();
+  /**
+   * How the decision is sent: over the API by default; the board session passes its socket
+   * (`decision:record`), so that the signer stays in the room and counts for quorum. A refusal
+   * arrives as an HttpErrorResponse carrying the problem either way.
+   */
+  readonly send = input<
+    ((caseId: string, body: RecordDecision) => Observable<DecisionView>) | null
+  >(null);
   readonly recorded = output<DecisionView>();
   /** The case changed meanwhile (decided elsewhere, or off the agenda): read it again. */
   readonly stale = output();
@@ -141,7 +150,8 @@ export class DecisionRecordForm implements OnInit {
       return;
     }
     this.isSaving.set(true);
-    this.api.record(this.caseId(), body).subscribe({
+    const send = this.send() ?? ((caseId, request) => this.api.record(caseId, request));
+    send(this.caseId(), body).subscribe({
       next: (decision) => {
         this.isSaving.set(false);
         this.form.reset();

@@ -7,7 +7,11 @@ import { MatIcon } from '@angular/material/icon';
 import { MatProgressBar } from '@angular/material/progress-bar';
 import { RouterLink } from '@angular/router';
 import {
+  planStatusLabels,
   specialtyLabels,
+  verdictLevelLabels,
+  type PlanStatus,
+  type VerdictLevel,
   treatmentLabels,
   votePositionLabels,
   type MinutesItem,
@@ -51,7 +55,7 @@ import { BoardSessionApi } from './board-session-api';
           the meeting. Chair: {{ content.chair }}. {{ content.place ?? '' }}
           <span class="digest">SHA-256 {{ record.sha256 }}</span>
         </p>
-        <button mat-stroked-button type="button" class="no-print" (click)="print()">
+        <button mat-stroked-button type="button" class="no-print print" (click)="print()">
           <mat-icon aria-hidden="true">print</mat-icon> Print
         </button>
         <h2>Attendance</h2>
@@ -156,6 +160,9 @@ import { BoardSessionApi } from './board-session-api';
     </section>
   `,
   styles: `
+    .print {
+      align-self: flex-start;
+    }
     .frozen {
       color: var(--mat-sys-on-surface-variant);
     }
@@ -210,6 +217,15 @@ export class MinutesPage {
     }
     return `The minutes could not be loaded: ${problemMessage(error)}`;
   });
+
+  /** The minutes keep identifiers; the page says them in words. */
+  protected planStatusText(status: string): string {
+    return planStatusLabels[status as PlanStatus] ?? status;
+  }
+
+  protected verdictText(verdict: string | null): string {
+    return verdict ? (verdictLevelLabels[verdict as VerdictLevel] ?? verdict) : 'not assessed';
+  }
 
   protected votedRows(item: MinutesItem) {
     return item.tally.filter((row) => row.support + row.oppose + row.abstain > 0);

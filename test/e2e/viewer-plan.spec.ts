@@ -230,9 +230,17 @@ describe('a presenting physician drafts a needle plan in the viewer', () => {
     const box = await axialView().boundingBox();
     if (!box) throw new Error('no axial view');
     const shot = decodePng(await axialView().screenshot());
-    // 10 px down-right of the target, away from the crosshair lines and the path, still inside
-    // the 12 mm tumour (about 0.4 mm a pixel): the amber tumour colour over grey tissue.
-    const [r, g, b] = meanColour(shot, targetPixel.x - box.x + 10, targetPixel.y - box.y + 10);
+    // 3 mm down-right of the target (the pane's scale from the two points 36.8 mm apart), away
+    // from the crosshair lines and the path, still inside the 12 mm tumour: the amber tumour
+    // colour over grey tissue.
+    const pixelsPerMm =
+      Math.hypot(entryPixel.x - targetPixel.x, entryPixel.y - targetPixel.y) / Math.hypot(34, 14);
+    const offset = Math.max(4, Math.round(3 * pixelsPerMm));
+    const [r, g, b] = meanColour(
+      shot,
+      targetPixel.x - box.x + offset,
+      targetPixel.y - box.y + offset,
+    );
     expect(r).toBeGreaterThan(g);
     expect(g - b).toBeGreaterThan(40);
   });

@@ -76,10 +76,16 @@ import { ViewerSession } from './viewer-session';
       display: flex;
       flex-wrap: wrap;
       align-items: center;
+      align-content: flex-start;
       gap: 0 24px;
       margin: 0;
-      /* Room for one line with the Clear button: the views above do not jump when it comes. */
-      min-height: 28px;
+      /*
+       * A fixed height of two lines (the crosshair, the pointer and the distance with its Clear
+       * button wrap onto a second line on a narrower box): the views above never change size
+       * while the user points and clicks, so a click lands where it was aimed.
+       */
+      height: 56px;
+      overflow: hidden;
     }
 
     .readout {

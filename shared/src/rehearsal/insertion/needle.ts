@@ -386,6 +386,32 @@ export class Needle {
     };
   }
 
+  /**
+   * Holds the tissue at `pointMm` (LPS mm, in the deformed mesh at `positionsM`) on the shaft of
+   * a needle at (pose, depthMm), as if the shaft had passed it: for a needle already in place at
+   * the start of a run, or for tests. Marks the capsule punctured. Returns false if the point
+   * lies outside the mesh.
+   */
+  holdPoint(positionsM: Float64Array, pose: NeedlePose, depthMm: number, pointMm: Vec3): boolean {
+    const found = this.locate(positionsM, [
+      pointMm[0] / 1000,
+      pointMm[1] / 1000,
+      pointMm[2] / 1000,
+    ]);
+    if (!found) return false;
+    const along =
+      (pointMm[0] - pose.baseMm[0]) * pose.direction[0] +
+      (pointMm[1] - pose.baseMm[1]) * pose.direction[1] +
+      (pointMm[2] - pose.baseMm[2]) * pose.direction[2];
+    if (!this.punctured) {
+      this.punctured = true;
+      this.punctureDepthMm = depthMm;
+      this.lastSampleDepthMm = depthMm;
+    }
+    this.points.push({ ...found, offsetFromTipM: (along - depthMm) / 1000, impulsesNs: [0, 0, 0] });
+    return true;
+  }
+
   /** The tet of the deformed mesh holding a point (m) and its weights, or null outside. */
   locate(
     positionsM: Float64Array,

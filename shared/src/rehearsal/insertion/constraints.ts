@@ -45,7 +45,14 @@ export interface ConstraintRow {
   normalRows?: readonly number[];
   /** Friction rows: Coulomb's coefficient μ, |λ| ≤ μ·|λ_n|. */
   frictionCoefficient?: number;
-  /** A starting guess for the impulse (the last step's, say), N·s; clamped to the bounds. */
+  /**
+   * An impulse p already applied along this row during the free motion (as the external force
+   * H_iᵀ·p/h), N·s: λ is then the row's total impulse of the step and the correction applies
+   * λ − p. Carrying the last step's constraint forces into the free motion keeps c(x*) to what
+   * changed in the step (README). Default 0.
+   */
+  preloadImpulseNs?: number;
+  /** A starting guess for the impulse, N·s (default: the preload); clamped to the bounds. */
   initialImpulseNs?: number;
 }
 
@@ -65,7 +72,8 @@ export interface ConstraintSolveOptions {
   refinementPasses?: number;
   /**
    * Passes stop once no bilateral or contact row is violated by more than this after the
-   * correction, m (default 1e-6).
+   * correction, m (default 1e-5: far below the mesh's and the images' resolution; what is left
+   * is corrected in the next step, as every row is a position constraint).
    */
   refinementToleranceM?: number;
   /**
@@ -80,7 +88,7 @@ export interface ConstraintSolution {
   rows: readonly ConstraintRow[];
   /** λ per row, N·s. */
   impulsesNs: Float64Array;
-  /** Δv = A⁻¹·Hᵀ·λ, m/s, 3 per node. */
+  /** Δv = A⁻¹·Hᵀ·(λ − p), m/s, 3 per node (p the rows' preloads, usually 0). */
   velocityCorrection: Float64Array;
   /** c(x* + h·Δv) per row, m: what remains of each violation after the correction. */
   residualM: Float64Array;
@@ -123,7 +131,7 @@ export class ConstraintSolver {
     const toleranceM = checkNumber(options.toleranceM ?? 1e-9, 'toleranceM', 0, 1);
     const passes = checkNumber(options.refinementPasses ?? 3, 'refinementPasses', 0, 20);
     const refinementToleranceM = checkNumber(
-      options.refinementToleranceM ?? 1e-6,
+      options.refinementToleranceM ?? 1e-5,
       'refinementToleranceM',
       0,
       1,
@@ -163,11 +171,18 @@ export class ConstraintSolver {
     }
     const complianceMs = monotonicMs() - started;
 
-    // Velocity-level right-hand side: c(x*) + h·W·λ = 0 ⇔ W·λ + c*/h = 0.
+    // Velocity level: c(x*) + h·W·(λ − p) = 0 ⇔ W·λ + b = 0 with b = c*/h − W·p (p the
+    // preload already in the free motion).
+    const preload = new Float64Array(m);
+    for (let i = 0; i < m; i++) preload[i] = rows[i].preloadImpulseNs ?? 0;
     const b = new Float64Array(m);
-    for (let i = 0; i < m; i++) b[i] = rows[i].violationM / h;
+    for (let i = 0; i < m; i++) {
+      let wp = 0;
+      for (let j = 0; j < m; j++) wp += w[i * m + j] * preload[j];
+      b[i] = rows[i].violationM / h - wp;
+    }
     const lambda = new Float64Array(m);
-    for (let i = 0; i < m; i++) lambda[i] = rows[i].initialImpulseNs ?? 0;
+    for (let i = 0; i < m; i++) lambda[i] = rows[i].initialImpulseNs ?? preload[i];
     started = monotonicMs();
     let gs = projectedGaussSeidel(w, b, rows, lambda, maxSweeps, toleranceM / h, omega);
     let gaussSeidelMs = monotonicMs() - started;
@@ -182,12 +197,12 @@ export class ConstraintSolver {
         dv.fill(0);
         for (let j = 0; j < m; j++) {
           const column = columns[j];
-          const lj = lambda[j];
+          const lj = lambda[j] - preload[j];
           if (lj !== 0) for (let dof = 0; dof < dofCount; dof++) dv[dof] += lj * column[dof];
         }
       } else {
         rhs.fill(0);
-        for (let j = 0; j < m; j++) addRowTranspose(rows[j], lambda[j], rhs);
+        for (let j = 0; j < m; j++) addRowTranspose(rows[j], lambda[j] - preload[j], rhs);
         solver.solveSystem(rhs, dv);
         systemSolves++;
       }
@@ -196,16 +211,17 @@ export class ConstraintSolver {
     };
     correct();
     // The precomputed W is approximate; the correction above is exact (A of this step). The
-    // error e = H·Δv − W·λ of the approximation at the current λ is fed back: each pass solves
-    // W·λ' + b + e = 0 (a fixed-point iteration with W as the approximate inverse).
+    // error e = H·Δv − W·(λ − p) of the approximation at the current λ is fed back: each pass
+    // solves W·λ' + b + e = 0 (a fixed-point iteration with W as the approximate inverse).
     for (let pass = 0; columns === null && pass < passes; pass++) {
       const shifted = new Float64Array(m);
       let worstM = 0;
       for (let i = 0; i < m; i++) {
         let wl = 0;
-        for (let j = 0; j < m; j++) wl += w[i * m + j] * lambda[j];
+        for (let j = 0; j < m; j++) wl += w[i * m + j] * (lambda[j] - preload[j]);
         shifted[i] = b[i] + rowVelocity[i] - wl;
-        worstM = Math.max(worstM, violationAfter(rows[i], b[i], rowVelocity[i], lambda[i], h));
+        const after = rows[i].violationM + h * rowVelocity[i];
+        worstM = Math.max(worstM, violationAfter(rows[i], after, lambda[i]));
       }
       if (worstM <= refinementToleranceM) break;
       const gsStart = monotonicMs();
@@ -240,15 +256,8 @@ export class ConstraintSolver {
   }
 }
 
-/** How far row i is from satisfied after a correction, m (0 when it is). */
-function violationAfter(
-  row: ConstraintRow,
-  b: number,
-  velocity: number,
-  lambda: number,
-  h: number,
-): number {
-  const c = h * (b + velocity);
+/** How far a row with value c (m) after the correction is from satisfied, m (0 when it is). */
+function violationAfter(row: ConstraintRow, c: number, lambda: number): number {
   if (row.kind === 'bilateral') return Math.abs(c);
   if (row.kind === 'contact') {
     // Complementarity: c ≥ 0, and c = 0 where the contact pushes below its cap.

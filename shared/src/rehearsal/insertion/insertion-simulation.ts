@@ -102,6 +102,13 @@ export interface StepRecord {
   constraintMs: number;
   /** Conjugate-gradient iterations of the free motion. */
   freeMotionIterations: number;
+  /** The kept constraint solve's parts: building W, Gauss–Seidel, correction solves (ms). */
+  constraintParts: {
+    complianceMs: number;
+    gaussSeidelMs: number;
+    correctionMs: number;
+    systemSolves: number;
+  };
 }
 
 /**
@@ -209,6 +216,9 @@ export class InsertionSimulation {
   private freeMotionMs = 0;
   private freeMotionIterations = 0;
   private isInStep = false;
+  /** The free motion of the step begun carries the needle's last impulses as forces. */
+  private isPreloaded = false;
+  private readonly preloadForces: Float64Array;
 
   constructor(options: InsertionSimulationOptions) {
     const { mesh } = options;
@@ -281,6 +291,7 @@ export class InsertionSimulation {
       this.constraintSolver = new ConstraintSolver(this.solver, { kind: 'exact' });
     }
     this.stepStartPositions = this.solver.positionsM.slice();
+    this.preloadForces = new Float64Array(this.stepStartPositions.length);
   }
 
   get timeS(): number {
@@ -308,10 +319,22 @@ export class InsertionSimulation {
     return this.complianceTable ? { ...this.complianceTable.stats } : null;
   }
 
-  /** The tissue's free motion to the end of the next step (breathing, supports; no needle). */
+  /**
+   * The tissue's free motion to the end of the next step: breathing and supports, and — once
+   * the needle holds tissue — the forces it held it with in the last step (so that the
+   * constraint solve only has to find what changes; README).
+   */
   beginStep(): void {
     if (this.isInStep) refuse('step', 'The step was begun already: commit it first.');
     this.stepStartPositions.set(this.solver.positionsM);
+    this.isPreloaded = this.needle.points.length > 0;
+    if (this.isPreloaded) {
+      this.preloadForces.fill(0);
+      this.needle.addPreloadForces(this.preloadForces, this.solver.timeStepS);
+      this.solver.setExternalForces(this.preloadForces);
+    } else {
+      this.solver.setExternalForces(null);
+    }
     const started = monotonicMs();
     const report = this.solver.freeMotion();
     this.freeMotionMs = monotonicMs() - started;
@@ -329,6 +352,9 @@ export class InsertionSimulation {
     const started = monotonicMs();
     let built: NeedleRows | null = null;
     let tipMm: Vec3 | null = null;
+    if (pose === null && this.isPreloaded) {
+      refuse('pose', 'The needle holds tissue: give its pose (it cannot vanish from the organ).');
+    }
     if (pose !== null) {
       const checked = checkPose(pose);
       checkNumber(depthMm, 'depthMm', -1e4, 1e4);
@@ -337,6 +363,7 @@ export class InsertionSimulation {
         checked,
         depthMm,
         this.solver.timeStepS,
+        this.isPreloaded,
       );
       tipMm = needleTipMm(checked, depthMm);
     }
@@ -412,6 +439,12 @@ export class InsertionSimulation {
       freeMotionMs: this.freeMotionMs,
       constraintMs: trial.solveMs,
       freeMotionIterations: this.freeMotionIterations,
+      constraintParts: {
+        complianceMs: trial.solution.timingMs.compliance,
+        gaussSeidelMs: trial.solution.timingMs.gaussSeidel,
+        correctionMs: trial.solution.timingMs.correction,
+        systemSolves: trial.solution.systemSolves,
+      },
     };
   }
 

@@ -156,8 +156,11 @@ export interface ShaftPoint {
    * keeps it; sliding changes it.
    */
   offsetFromTipM: number;
-  /** The last step's impulses (across1, across2, along), N·s: the next solve's first guess. */
-  impulsesNs: [number, number, number];
+  /**
+   * The impulse the shaft gave this point in the last step, N·s, in the solver's frame (the sum
+   * of its rows' λ·u): the next step's preload and first guess.
+   */
+  impulseNs: Vec3;
 }
 
 /** The nearest point of the deformed surface to a point. */
@@ -224,9 +227,17 @@ export class Needle {
 
   /**
    * The constraint rows for the step ending with the needle at (pose, depthMm), against the
-   * free-motion positions `positionsM` (m) and step h (s). Changes nothing.
+   * free-motion positions `positionsM` (m) and step h (s). Changes nothing. With `preloaded`,
+   * the free motion carried the last step's shaft impulses as forces (`addPreloadForces`) and
+   * the rows say so (their `preloadImpulseNs`).
    */
-  buildRows(positionsM: Float64Array, pose: NeedlePose, depthMm: number, h: number): NeedleRows {
+  buildRows(
+    positionsM: Float64Array,
+    pose: NeedlePose,
+    depthMm: number,
+    h: number,
+    preloaded = false,
+  ): NeedleRows {
     const { axis, across1, across2 } = needleFrame(pose);
     const baseM = pose.baseMm.map((v) => v / 1000) as Vec3;
     const depthM = depthMm / 1000;
@@ -268,19 +279,20 @@ export class Needle {
       const q = embeddedPoint(positionsM, point.nodes, point.weights);
       const rel: Vec3 = [q[0] - baseM[0], q[1] - baseM[1], q[2] - baseM[2]];
       const first = rows.length;
-      for (const [direction, value, guess] of [
-        [across1, dot3(across1, rel), point.impulsesNs[0]],
-        [across2, dot3(across2, rel), point.impulsesNs[1]],
-      ] as const) {
+      // The last impulse in the new frame (exact: the three directions are orthonormal).
+      for (const direction of [across1, across2]) {
+        const guess = dot3(point.impulseNs, direction);
         rows.push({
           kind: 'bilateral',
           nodes: point.nodes,
           weights: point.weights,
           direction,
-          violationM: value,
+          violationM: dot3(direction, rel),
           initialImpulseNs: guess,
+          preloadImpulseNs: preloaded ? guess : 0,
         });
       }
+      const guess = dot3(point.impulseNs, axis);
       // Sticking keeps the point's place on the shaft: axial position = depth + offset.
       rows.push({
         kind: 'friction',
@@ -290,7 +302,8 @@ export class Needle {
         violationM: dot3(axis, rel) - (depthM + point.offsetFromTipM),
         normalRows: [first, first + 1],
         frictionCoefficient: this.parameters.frictionCoefficient,
-        initialImpulseNs: point.impulsesNs[2],
+        initialImpulseNs: guess,
+        preloadImpulseNs: preloaded ? guess : 0,
       });
     }
     return { rows, pose, depthMm, contactRow, contact, shaftRowStart };
@@ -332,7 +345,7 @@ export class Needle {
           nodes: [...built.contact.nodes],
           weights: [...built.contact.weights],
           offsetFromTipM: 0,
-          impulsesNs: [0, 0, 0],
+          impulseNs: [0, 0, 0],
         });
       }
     }
@@ -350,7 +363,12 @@ export class Needle {
         depthM;
       const r = built.shaftRowStart + 3 * j;
       if (j < (rows.length - built.shaftRowStart) / 3) {
-        point.impulsesNs = [lambda[r], lambda[r + 1], lambda[r + 2]];
+        point.impulseNs = [0, 1, 2].map(
+          (a) =>
+            lambda[r] * rows[r].direction[a] +
+            lambda[r + 1] * rows[r + 1].direction[a] +
+            lambda[r + 2] * rows[r + 2].direction[a],
+        ) as Vec3;
         const bound = this.parameters.frictionCoefficient * Math.hypot(lambda[r], lambda[r + 1]);
         if (bound > 0 && Math.abs(lambda[r + 2]) >= bound * (1 - 1e-6)) sliding++;
       }
@@ -371,7 +389,7 @@ export class Needle {
         ];
         const found = this.locate(positionsM, pointM);
         if (found) {
-          this.points.push({ ...found, offsetFromTipM: at - depthM, impulsesNs: [0, 0, 0] });
+          this.points.push({ ...found, offsetFromTipM: at - depthM, impulseNs: [0, 0, 0] });
         }
       }
     }
@@ -384,6 +402,22 @@ export class Needle {
       shaftPoints: this.points.length,
       slidingPoints: sliding,
     };
+  }
+
+  /**
+   * Adds the last step's shaft impulses as nodal forces (Σ impulse·w/h, N) to `forcesN` (3 per
+   * node): with them in the free motion, the next rows (built `preloaded`) only solve for what
+   * changed.
+   */
+  addPreloadForces(forcesN: Float64Array, h: number): void {
+    for (const point of this.points) {
+      for (let c = 0; c < 4; c++) {
+        const w = point.weights[c] / h;
+        if (w === 0) continue;
+        const base = 3 * point.nodes[c];
+        for (let a = 0; a < 3; a++) forcesN[base + a] += w * point.impulseNs[a];
+      }
+    }
   }
 
   /**
@@ -408,7 +442,7 @@ export class Needle {
       this.punctureDepthMm = depthMm;
       this.lastSampleDepthMm = depthMm;
     }
-    this.points.push({ ...found, offsetFromTipM: (along - depthMm) / 1000, impulsesNs: [0, 0, 0] });
+    this.points.push({ ...found, offsetFromTipM: (along - depthMm) / 1000, impulseNs: [0, 0, 0] });
     return true;
   }
 

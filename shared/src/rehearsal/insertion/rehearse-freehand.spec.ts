@@ -83,7 +83,8 @@ describe('the step API a controller uses', () => {
     expect(moved.predictedTargetMm[0] - first.predictedTargetMm[0]).toBeGreaterThan(0.05);
     const record = simulation.commitStep(moved);
     record.targetMm.forEach((v, a) => expect(v).toBeCloseTo(moved.predictedTargetMm[a], 9));
-    expect(record.bilateralResidualM).toBeLessThan(1e-5);
+    // Refinement stops at 10 µm (the default), or after three passes.
+    expect(record.bilateralResidualM).toBeLessThan(5e-5);
   });
 });
 

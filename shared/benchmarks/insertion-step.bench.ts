@@ -26,6 +26,8 @@ console.log(
 const median = (values: number[]) =>
   values.length === 0 ? NaN : [...values].sort((a, b) => a - b)[values.length >> 1];
 const records: StepRecord[] = [];
+const stepCpuMs: number[] = [];
+let lastCpu = process.cpuUsage();
 const cpuStart = process.cpuUsage();
 const wallStart = performance.now();
 const result = rehearseFreehand({
@@ -35,7 +37,12 @@ const result = rehearseFreehand({
   speedMmPerS: 10,
   solver: { timeStepS: 0.02 },
   startPhase: 0.5,
-  onStep: (record) => records.push(record),
+  onStep: (record) => {
+    records.push(record);
+    const now = process.cpuUsage();
+    stepCpuMs.push((now.user - lastCpu.user + now.system - lastCpu.system) / 1000);
+    lastCpu = now;
+  },
 });
 const cpu = process.cpuUsage(cpuStart);
 const wallMs = performance.now() - wallStart;
@@ -55,9 +62,10 @@ const phases: [string, (r: StepRecord) => boolean][] = [
 for (const [label, test] of phases) {
   const chosen = records.filter(test);
   if (chosen.length === 0) continue;
+  const cpuMs = median(stepCpuMs.filter((_, i) => test(records[i])));
   const m = (f: (r: StepRecord) => number) => median(chosen.map(f)).toFixed(1);
   console.log(
-    `${label}: ${chosen.length} steps; free motion ${m((r) => r.freeMotionMs)} ms ` +
+    `${label}: ${chosen.length} steps; whole step CPU ${cpuMs.toFixed(1)} ms; free motion ${m((r) => r.freeMotionMs)} ms ` +
       `(${m((r) => r.freeMotionIterations)} CG it.); constraints ${m((r) => r.constraintMs)} ms ` +
       `= W ${m((r) => r.constraintParts.complianceMs)} + GS ${m((r) => r.constraintParts.gaussSeidelMs)} ` +
       `+ correction ${m((r) => r.constraintParts.correctionMs)} (${m((r) => r.constraintParts.systemSolves)} solves); ` +

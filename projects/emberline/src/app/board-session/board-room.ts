@@ -217,16 +217,6 @@ const emptyView: ViewState = {
       </section>
 
       <aside class="board-work" aria-label="Plans, votes and comments">
-        @if (currentItem(); as item) {
-          <section aria-labelledby="comparison-title">
-            <h2 id="comparison-title">Plan comparison</h2>
-            @if (plans.hasValue() && plans.value().length) {
-              <em-plan-comparison [plans]="plans.value()" [caseCode]="item.caseCode" />
-            } @else {
-              <p class="em-muted">No needle plan on this case.</p>
-            }
-          </section>
-        }
         @if (permissions()?.canRecordDecision && currentItem(); as item) {
           <section aria-labelledby="room-decision-title">
             <h2 id="room-decision-title">Decision</h2>
@@ -273,6 +263,16 @@ const emptyView: ViewState = {
             (mark)="mark($event)"
           />
         </section>
+        @if (currentItem(); as item) {
+          <section aria-labelledby="comparison-title">
+            <h2 id="comparison-title">Plan comparison</h2>
+            @if (plans.hasValue() && plans.value().length) {
+              <em-plan-comparison [plans]="plans.value()" [caseCode]="item.caseCode" />
+            } @else {
+              <p class="em-muted">No needle plan on this case.</p>
+            }
+          </section>
+        }
         <em-clinical-caution />
       </aside>
     </div>

@@ -36,7 +36,7 @@ import { NeedlePlan } from '../../server/src/modules/plans/needle-plan.entity';
 import { BoardRoom } from '../../server/src/modules/board-session/board-room';
 import { sessionMiddleware } from '../../server/src/modules/auth/session';
 import { createRealtimeServer, type EmberlineServer } from '../../server/src/realtime/io';
-import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
+import { ApiClient, sessionCookieOf, startTestApp, type TestApp } from '../support/test-app';
 import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
 import { setEnvironment } from './imaging-fixtures';
 
@@ -256,17 +256,6 @@ describe('progress over Socket.IO', () => {
     });
   }
 
-  function sessionCookie(client: ApiClient): string {
-    const cookie = client.agent.jar.getCookie('emberline.sid', {
-      domain: '127.0.0.1',
-      path: '/',
-      secure: false,
-      script: false,
-    });
-    if (!cookie) throw new Error('not signed in');
-    return `${cookie.name}=${cookie.value}`;
-  }
-
   it('refuses a socket without a session', async () => {
     const socket = socketOf('emberline.sid=nothing');
     const error = await new Promise<Error>((resolve) => socket.on('connect_error', resolve));
@@ -277,7 +266,7 @@ describe('progress over Socket.IO', () => {
   it('pushes each step of a job to the sockets watching it, up to done', async () => {
     await nudgeSafetyProfile();
     const worker = startWorker();
-    const socket = socketOf(sessionCookie(presenter));
+    const socket = socketOf(sessionCookieOf(presenter));
     try {
       await new Promise<void>((resolve, reject) => {
         socket.on('connect', () => resolve());
@@ -316,7 +305,7 @@ describe('progress over Socket.IO', () => {
     const south = await signedIn('south@emberline.test');
     const listed = (await presenter.get(`/api/plans/${plans[1].id}/assessments`))
       .body as AssessmentView[];
-    const socket = socketOf(sessionCookie(south));
+    const socket = socketOf(sessionCookieOf(south));
     try {
       await new Promise<void>((resolve) => socket.on('connect', () => resolve()));
       const acknowledgement = await socket.emitWithAck('assessment:watch', {

@@ -21,7 +21,9 @@ import { boardSessionFeatures } from '../../server/src/modules/board-session/boa
 import { sessionMiddleware } from '../../server/src/modules/auth/session';
 import { createRealtimeServer, type EmberlineServer } from '../../server/src/realtime/io';
 import { demoPassword } from './demo';
-import { ApiClient, startTestApp, type TestApp } from './test-app';
+import { ApiClient, sessionCookieOf, startTestApp, type TestApp } from './test-app';
+
+export { sessionCookieOf };
 
 export type SessionClientSocket = Socket<SessionServerEvents, SessionClientEvents>;
 export type DefaultClientSocket = Socket<ServerToClientEvents, ClientToServerEvents>;
@@ -39,17 +41,6 @@ export interface LiveServer {
     options?: Parameters<typeof connectSocket>[1],
   ): SessionClientSocket;
   close(): Promise<void>;
-}
-
-export function sessionCookieOf(client: ApiClient): string {
-  const cookie = client.agent.jar.getCookie('emberline.sid', {
-    domain: '127.0.0.1',
-    path: '/',
-    secure: false,
-    script: false,
-  });
-  if (!cookie) throw new Error('not signed in');
-  return `${cookie.name}=${cookie.value}`;
 }
 
 export async function startLiveServer(

@@ -130,3 +130,15 @@ export class ApiClient {
     return this.post('/api/auth/login', { email, password, ...(code ? { code } : {}) });
   }
 }
+
+/** The session cookie a signed-in client holds, as a `Cookie` header value for a socket. */
+export function sessionCookieOf(client: ApiClient): string {
+  const cookie = client.agent.jar.getCookie('emberline.sid', {
+    domain: '127.0.0.1',
+    path: '/',
+    secure: false,
+    script: false,
+  });
+  if (!cookie) throw new Error('not signed in');
+  return `${cookie.name}=${cookie.value}`;
+}

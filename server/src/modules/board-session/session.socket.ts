@@ -164,7 +164,7 @@ export function sessionFeature(orm: MikroORM): SessionFeatureHandle {
         const meeting = await em.findOneOrFail(Meeting, meetingId);
         const view = viewOf(meeting, context);
         context.room.toMeeting(meetingId).emit('presence', presence);
-        context.room.toMeeting(meetingId).emit('view:state', { ...view, sequence: view.sequence });
+        context.room.toMeeting(meetingId).emit('view:state', view);
         return presence;
       },
     );

@@ -1,6 +1,7 @@
 import { ChangeDetectionStrategy, Component, computed, input, output, signal } from '@angular/core';
 import { MatButtonToggle, MatButtonToggleGroup } from '@angular/material/button-toggle';
 import {
+  treatments,
   votePositionLabels,
   votePositions,
   type CastVote,
@@ -150,7 +151,7 @@ export class VotePanel {
   }
 }
 
-/** Plan options are ids (uuids); treatments are words. */
+/** An option is a treatment or a plan's id. */
 function isTreatmentRow(option: string): boolean {
-  return !/^[0-9a-f]{8}-/.test(option);
+  return (treatments as readonly string[]).includes(option);
 }

@@ -79,6 +79,9 @@ describe('a board session', () => {
     const axial = presenter.locator('em-slice-view[view="axial"] [tabindex="0"]').first();
     await axial.focus();
     for (let step = 0; step < 6; step += 1) await axial.press('PageUp');
+    // The lead's read-out settles on its next frame: six slices of 2.5 mm up from the centre
+    // slice at −10 mm (the demo grid, sample-data/README.md) is +5 mm.
+    await expect.poll(() => crosshair(presenter), { timeout: 10_000 }).toMatch(/, 5\.0\) mm$/);
     const lead = await crosshair(presenter);
     await expect.poll(() => crosshair(member), { timeout: 10_000 }).toBe(lead);
     // All four panes of the room's viewer are in the window, without scrolling.

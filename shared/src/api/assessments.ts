@@ -223,6 +223,92 @@ export interface AssessmentResult {
   primaryZoneModel: ZoneModel;
   heatSinks: HeatSinkVessel[];
   verdict: Verdict;
+  /**
+   * The insertion rehearsal, one entry per applicator (absent on assessments stored before it
+   * existed, or when it was switched off or stopped; `rehearsalNote` then says why).
+   */
+  rehearsal?: ApplicatorRehearsal[];
+  /** Why the rehearsal is missing or incomplete, in words (switched off, time limit, refused). */
+  rehearsalNote?: string;
+}
+
+/**
+ * How the robot-assisted rehearsal finds the Jacobian of the tip's error with respect to the
+ * needle base's six degrees of freedom (shared/src/rehearsal/assisted/README.md):
+ * 'full-step' a whole simulation step per perturbation; 'resolve-constraints' the step's free
+ * motion reused, the constraint solve and correction repeated; 'pseudo-constraints' the error
+ * read from the constraint-space solve alone; 'factorised' all perturbations as right-hand sides
+ * of one factorised constraint-space system with the active set held.
+ */
+export const rehearsalStrategies = [
+  'full-step',
+  'resolve-constraints',
+  'pseudo-constraints',
+  'factorised',
+] as const;
+export type RehearsalStrategy = (typeof rehearsalStrategies)[number];
+
+export const rehearsalMeshResolutions = ['coarse', 'medium', 'fine'] as const;
+export type RehearsalMeshResolution = (typeof rehearsalMeshResolutions)[number];
+
+/** The tip's error at one insertion depth, free-hand and robot-assisted. */
+export interface RehearsalPathSample {
+  /** Insertion depth from the needle's start outside the liver, mm. */
+  depthMm: number;
+  freehandMm: number;
+  /** Null where the assisted run had stopped (it could not go on). */
+  assistedMm: number | null;
+}
+
+/** The insertion rehearsal of one applicator: a simulation estimate, not a measurement. */
+export interface ApplicatorRehearsal {
+  applicatorIndex: number;
+  /** |tip − target| at the planned depth, straight along the plan without correction, mm. */
+  freehandTipErrorMm: number;
+  /** The same with the base steered every step by inverse simulation, mm (null: not reached). */
+  assistedTipErrorMm: number | null;
+  /** Whether the assisted insertion reached the planned depth with the target in reach. */
+  reached: boolean;
+  /** Why not, in words (absent when reached). */
+  notReachedReason?: string;
+  /** Largest displacement of the target from where it was imaged over one breath, mm. */
+  targetMotionMm: number;
+  /** The target's superior–inferior range over one breath, mm. */
+  targetSiRangeMm: number;
+  errorAlongPath: RehearsalPathSample[];
+  meshNodes: number;
+  meshResolution: RehearsalMeshResolution;
+  /** Breathing the rehearsal ran with (Lujan's model): amplitude, period, shape n. */
+  breathing: { amplitudeMm: number; periodS: number; shapeN: number };
+  strategy: RehearsalStrategy;
+  /** Median wall time of an assisted control step (Jacobian and update included), ms. */
+  stepMs: number;
+}
+
+/** One moment of a rehearsal replay. */
+export interface RehearsalFrame {
+  timeS: number;
+  depthMm: number;
+  /** Positions of the surface's nodes, x y z per node, LPS mm rounded to 0.1 mm. */
+  surfaceMm: number[];
+  baseMm: [number, number, number];
+  tipMm: [number, number, number];
+  targetMm: [number, number, number];
+}
+
+/** The replay of one applicator's rehearsal, for the viewer (GET /api/assessments/:id/rehearsal). */
+export interface RehearsalReplay {
+  applicatorIndex: number;
+  mode: 'freehand' | 'assisted';
+  /** The liver's surface triangles: three indices per triangle into a frame's surface nodes. */
+  triangles: number[];
+  frames: RehearsalFrame[];
+}
+
+export interface RehearsalReplayView {
+  /** The caution every rehearsal display carries. */
+  caution: string;
+  replays: RehearsalReplay[];
 }
 
 export interface AssessmentView {

@@ -184,17 +184,28 @@ export class PrecomputedCompliance {
   /**
    * W ≈ H·R·A₀⁻¹·Rᵀ·Hᵀ for the rows (row-major m × m), with each node's rotation taken at
    * `positionsM` (3 per node, m). `warp = false` uses R = I (for comparison). Extends the
-   * table first for nodes the rows touch that it lacks.
+   * table first for nodes the rows touch that it lacks. `rotationCache` (node → rotation) keeps
+   * the rotations between calls at the same positions: a controller that solves one step for
+   * many needle poses computes them once.
    */
-  compliance(rows: readonly ConstraintRow[], positionsM: Float64Array, warp = true): Float64Array {
+  compliance(
+    rows: readonly ConstraintRow[],
+    positionsM: Float64Array,
+    warp = true,
+    rotationCache?: Map<number, Float64Array>,
+  ): Float64Array {
     const m = rows.length;
     const touched: number[] = [];
     for (const row of rows) {
       for (let c = 0; c < 4; c++) if (row.weights[c] !== 0) touched.push(row.nodes[c]);
     }
     this.addNodes(touched);
-    const rotations = new Map<number, Float64Array>();
-    if (warp) for (const node of touched) rotations.set(node, this.nodeRotation(node, positionsM));
+    const rotations = rotationCache ?? new Map<number, Float64Array>();
+    if (warp) {
+      for (const node of touched) {
+        if (!rotations.has(node)) rotations.set(node, this.nodeRotation(node, positionsM));
+      }
+    }
     // Each row in the rest frame: a_ik = w_ik·R_kᵀ·u_i, per corner.
     const restRows = new Float64Array(12 * m);
     const slots = new Int32Array(4 * m);
@@ -204,7 +215,7 @@ export class PrecomputedCompliance {
       for (let c = 0; c < 4; c++) {
         const weight = row.weights[c];
         slots[4 * i + c] = weight === 0 ? -1 : this.slotOf[row.nodes[c]];
-        const r = rotations.get(row.nodes[c]);
+        const r = warp ? rotations.get(row.nodes[c]) : undefined;
         const o = 12 * i + 3 * c;
         if (!r) {
           restRows[o] = weight * ux;

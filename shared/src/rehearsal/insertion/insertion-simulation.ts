@@ -213,6 +213,8 @@ export class InsertionSimulation {
 
   private readonly constraintOptions: ConstraintSolveOptions;
   private readonly stepStartPositions: Float64Array;
+  private readonly stepStartVelocities: Float64Array;
+  private stepStartTimeS = 0;
   private freeMotionMs = 0;
   private freeMotionIterations = 0;
   private isInStep = false;
@@ -291,6 +293,7 @@ export class InsertionSimulation {
       this.constraintSolver = new ConstraintSolver(this.solver, { kind: 'exact' });
     }
     this.stepStartPositions = this.solver.positionsM.slice();
+    this.stepStartVelocities = this.solver.velocitiesMPerS.slice();
     this.preloadForces = new Float64Array(this.stepStartPositions.length);
   }
 
@@ -327,6 +330,8 @@ export class InsertionSimulation {
   beginStep(): void {
     if (this.isInStep) refuse('step', 'The step was begun already: commit it first.');
     this.stepStartPositions.set(this.solver.positionsM);
+    this.stepStartVelocities.set(this.solver.velocitiesMPerS);
+    this.stepStartTimeS = this.solver.timeS;
     this.isPreloaded = this.needle.points.length > 0;
     if (this.isPreloaded) {
       this.preloadForces.fill(0);
@@ -340,6 +345,78 @@ export class InsertionSimulation {
     this.freeMotionMs = monotonicMs() - started;
     this.freeMotionIterations = report.solve.iterations;
     this.isInStep = true;
+  }
+
+  /**
+   * Goes back to the start of the step begun and solves its free motion again (the same
+   * forces): what a controller that runs a whole simulation step per trial pays (the assisted
+   * rehearsal's 'full-step' Jacobian).
+   */
+  redoFreeMotion(): void {
+    if (!this.isInStep) refuse('step', 'Begin the step (free motion) before redoing it.');
+    this.solver.setState({
+      positionsM: this.stepStartPositions,
+      velocitiesMPerS: this.stepStartVelocities,
+      timeS: this.stepStartTimeS,
+    });
+    const started = monotonicMs();
+    const report = this.solver.freeMotion();
+    this.freeMotionMs = monotonicMs() - started;
+    this.freeMotionIterations = report.solve.iterations;
+  }
+
+  /** Whether a step has been begun and not yet committed. */
+  get inStep(): boolean {
+    return this.isInStep;
+  }
+
+  /** Whether the free motion of the step begun carries the needle's last impulses. */
+  get preloaded(): boolean {
+    return this.isPreloaded;
+  }
+
+  /** Node positions at the start of the step begun, m (where the warped compliance rotates). */
+  get stepStartPositionsM(): Float64Array {
+    return this.stepStartPositions;
+  }
+
+  /** The settings of the constraint solve. */
+  get constraintSolveOptions(): ConstraintSolveOptions {
+    return this.constraintOptions;
+  }
+
+  /**
+   * The needle's constraint rows for the step begun with the needle at (pose, depthMm): pure,
+   * for a controller that solves in constraint space itself.
+   */
+  buildNeedleRows(pose: NeedlePose, depthMm: number): NeedleRows {
+    if (!this.isInStep) refuse('step', 'Begin the step (free motion) before building rows.');
+    return this.needle.buildRows(
+      this.solver.positionsM,
+      pose,
+      depthMm,
+      this.solver.timeStepS,
+      this.isPreloaded,
+    );
+  }
+
+  /** Where embedded points would be if this trial were kept, LPS mm. */
+  predictedPointsMm(trial: ConstraintTrial, points: readonly Embedding[]): Vec3[] {
+    const h = this.solver.timeStepS;
+    const x = this.solver.positionsM;
+    const dv = trial.solution.velocityCorrection;
+    return points.map((point) => {
+      const out: Vec3 = [0, 0, 0];
+      for (let c = 0; c < 4; c++) {
+        const node = this.mesh.tets[4 * point.tet + c];
+        const weight = point.weights[c];
+        for (let a = 0; a < 3; a++) {
+          const dof = 3 * node + a;
+          out[a] += weight * 1000 * (x[dof] + (dv.length > 0 ? h * dv[dof] : 0));
+        }
+      }
+      return out;
+    });
   }
 
   /**

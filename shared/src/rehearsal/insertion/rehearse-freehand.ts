@@ -7,7 +7,10 @@
  * > A rehearsal model, not a prediction for a patient: the treating team, local protocols and
  * > licensed practice decide how a needle is placed.
  */
-import { distance, type Vec3 } from '../../geometry/vector';
+import { monotonicMs } from '../../assessment/assessment-stages';
+import { distance, norm, type Vec3 } from '../../geometry/vector';
+import { pathObjective, tipPathErrorMm } from '../assisted/path-objective';
+import { embeddedPosition } from '../mesh/embedding';
 import { resolveBreathing, timeAtPhase } from './breathing';
 import type { ComplianceStats } from './compliance';
 import { checkNumber, refuse } from './insertion-input';
@@ -33,8 +36,29 @@ export interface FreehandOptions extends Omit<InsertionSimulationOptions, 'start
   startGapMm?: number;
   /** Hold the breath from the moment the needle starts (default false: free breathing). */
   breathHold?: boolean;
-  /** Called after every step (for progress or drawing). */
-  onStep?: (record: StepRecord) => void;
+  /** Called after every step (for progress or drawing), with the needle's pose (null before). */
+  onStep?: (record: StepRecord, simulation: InsertionSimulation, pose: NeedlePose | null) => void;
+  /**
+   * Asked before every step: a reason in words stops the run with `RehearsalStopped` (a time
+   * limit, a cancelled job); null goes on.
+   */
+  shouldStop?: () => string | null;
+}
+
+/** A run stopped from outside (`shouldStop`): the message says why. */
+export class RehearsalStopped extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'RehearsalStopped';
+  }
+}
+
+/**
+ * How the needle is moved during the insertion: free-hand keeps the planned pose; a controller
+ * (../assisted) chooses a new one every step. `step` begins, solves and commits one step.
+ */
+export interface Steering {
+  step(pose: NeedlePose, depthMm: number): { record: StepRecord; pose: NeedlePose };
 }
 
 /** One sample of the error along the path. */
@@ -45,6 +69,12 @@ export interface PathSample {
   tipErrorMm: number;
   /** Distance of the target from the needle's line, mm. */
   lateralErrorMm: number;
+  /**
+   * Distance of the tip from where it should be on the planned path at this depth, the path's
+   * ends (entry into the organ, target) moving with the tissue (../assisted/path-objective.ts),
+   * mm: what the robot-assisted controller drives to zero; at the planned depth, the tip error.
+   */
+  pathErrorMm: number;
 }
 
 /** What a free-hand run found. */
@@ -78,6 +108,8 @@ export interface FreehandResult {
     /** Medians over the insertion's steps, ms. */
     freeMotionMedianMs: number;
     constraintMedianMs: number;
+    /** Median wall time of a whole insertion step (for a controller: its control step), ms. */
+    stepMedianMs: number;
     steps: number;
     nodes: number;
   };
@@ -89,6 +121,18 @@ const median = (values: number[]): number =>
 
 /** Runs a free-hand insertion along the plan. Refuses bad options (EngineRefusal). */
 export function rehearseFreehand(options: FreehandOptions): FreehandResult {
+  return runInsertion(options, null);
+}
+
+/**
+ * The insertion run shared by free-hand and steered rehearsals: set-up, warm-up breaths, then
+ * the needle from just before the capsule to the planned depth at the set speed. `steering`
+ * (made once the simulation exists) moves the needle; null keeps the planned pose.
+ */
+export function runInsertion(
+  options: FreehandOptions,
+  makeSteering: ((simulation: InsertionSimulation) => Steering) | null,
+): FreehandResult {
   const breathingOff = options.boundary?.breathing === null;
   const parameters = breathingOff
     ? resolveBreathing({ amplitudeMm: 0 })
@@ -123,7 +167,13 @@ export function rehearseFreehand(options: FreehandOptions): FreehandResult {
   const direction = options.plan.targetMm.map(
     (v, a) => (v - options.plan.startMm[a]) / plannedDepthMm,
   ) as Vec3;
-  const pose: NeedlePose = { baseMm: [...options.plan.startMm], direction, rollRad: 0 };
+  let pose: NeedlePose = { baseMm: [...options.plan.startMm], direction, rollRad: 0 };
+  const steering = makeSteering ? makeSteering(simulation) : null;
+  const objective = pathObjective(simulation.mesh, options.plan, simulation.capsuleEntryMm);
+  const checkStop = (): void => {
+    const reason = options.shouldStop?.() ?? null;
+    if (reason !== null) throw new RehearsalStopped(reason);
+  };
 
   let diaphragmLow = Infinity;
   let diaphragmHigh = -Infinity;
@@ -138,8 +188,9 @@ export function rehearseFreehand(options: FreehandOptions): FreehandResult {
   let breathHigh = -Infinity;
   let breathMax = 0;
   for (let step = 0; step < warmUpSteps; step++) {
+    checkStop();
     const record = simulation.step(null);
-    options.onStep?.(record);
+    options.onStep?.(record, simulation, null);
     trackDiaphragm();
     if (warmUpCycles >= 1 && step >= lastBreathFrom) {
       breathLow = Math.min(breathLow, record.targetMm[2]);
@@ -153,6 +204,7 @@ export function rehearseFreehand(options: FreehandOptions): FreehandResult {
   const path: PathSample[] = [];
   const freeMotionMs: number[] = [];
   const constraintMs: number[] = [];
+  const stepMs: number[] = [];
   let insertionLow = Infinity;
   let insertionHigh = -Infinity;
   let insertionMax = 0;
@@ -160,9 +212,16 @@ export function rehearseFreehand(options: FreehandOptions): FreehandResult {
   let last: StepRecord | null = null;
   const stepLimit = Math.ceil((plannedDepthMm - depthMm) / (speedMmPerS * h)) + 1;
   for (let step = 0; step < stepLimit && (last === null || depthMm < plannedDepthMm); step++) {
+    checkStop();
     depthMm = Math.min(plannedDepthMm, depthMm + speedMmPerS * h);
-    last = simulation.step(pose, depthMm);
-    options.onStep?.(last);
+    const stepStart = monotonicMs();
+    if (steering) {
+      ({ record: last, pose } = steering.step(pose, depthMm));
+    } else {
+      last = simulation.step(pose, depthMm);
+    }
+    stepMs.push(monotonicMs() - stepStart);
+    options.onStep?.(last, simulation, pose);
     trackDiaphragm();
     freeMotionMs.push(last.freeMotionMs);
     constraintMs.push(last.constraintMs);
@@ -177,6 +236,17 @@ export function rehearseFreehand(options: FreehandOptions): FreehandResult {
       depthMm,
       tipErrorMm: last.tipErrorMm ?? Number.NaN,
       lateralErrorMm: last.lateralErrorMm ?? Number.NaN,
+      pathErrorMm: norm(
+        tipPathErrorMm(
+          pose,
+          depthMm,
+          embeddedPosition(simulation.solver.positionsM, simulation.mesh, objective.entry).map(
+            (v) => v * 1000,
+          ) as Vec3,
+          last.targetMm,
+          objective.plannedDepthMm,
+        ),
+      ),
     });
   }
   if (!last || !last.tipMm) refuse('plan', 'The needle never moved: the plan is too short.');
@@ -200,6 +270,7 @@ export function rehearseFreehand(options: FreehandOptions): FreehandResult {
       precomputeMs: simulation.precomputeMs,
       freeMotionMedianMs: median(freeMotionMs),
       constraintMedianMs: median(constraintMs),
+      stepMedianMs: median(stepMs),
       steps: warmUpSteps + path.length,
       nodes: simulation.solver.nodeCount,
     },

@@ -2,6 +2,7 @@ import {
   structureKindLabels,
   structureKinds,
   zoneModels,
+  type ApplicatorRehearsal,
   type ApplicatorSafety,
   type AssessmentResult,
   type AssessmentView,
@@ -50,7 +51,22 @@ export interface AbsentCell {
   text: string;
 }
 
-export type ComparisonCell = FigureCell | ListCell | VerdictCell | AbsentCell;
+/**
+ * One applicator's insertion rehearsal in one plan: its tip error along the path (a plot), how
+ * it ran, and the way to its replay in 3D (`comparison-rehearsal-rows.ts`).
+ */
+export interface RehearsalCell {
+  type: 'rehearsal';
+  assessmentId: string;
+  planName: string;
+  rehearsal: ApplicatorRehearsal;
+  /** Mesh, strategy and breathing of the run, in words. */
+  runLine: string;
+  /** The engine's note on an incomplete rehearsal, or empty. */
+  note: string;
+}
+
+export type ComparisonCell = FigureCell | ListCell | VerdictCell | AbsentCell | RehearsalCell;
 
 export interface ComparisonRow {
   key: string;
@@ -65,6 +81,8 @@ export interface ComparisonGroup {
   key: string;
   title: string;
   rows: ComparisonRow[];
+  /** A caution shown under the group's heading, across every column (the rehearsal's). */
+  caution?: string;
 }
 
 export const zoneModelLabels: Record<ZoneModel, string> = {

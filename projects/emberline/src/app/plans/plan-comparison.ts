@@ -17,8 +17,11 @@ import { ClinicalCaution } from '../core/clinical-caution';
 import { StructureApi } from '../imaging/structure-api';
 import { AssessmentProgress } from './assessment-progress';
 import { inputsGroup } from './comparison-input-rows';
+import { rehearsalGroup } from './comparison-rehearsal-rows';
 import { comparisonGroups, type ComparedPlan } from './comparison-rows';
 import { PlanAssessments, type PlanAssessmentState } from './plan-assessments';
+import { RehearsalCaution } from './rehearsal-caution';
+import { RehearsalCell } from './rehearsal-cell';
 import { ComparisonSummaryBand } from './summary/comparison-summary-band';
 import { VerdictBadge } from './verdict-badge';
 
@@ -50,6 +53,8 @@ interface PendingPlan {
     AssessmentProgress,
     ClinicalCaution,
     ComparisonSummaryBand,
+    RehearsalCaution,
+    RehearsalCell,
     VerdictBadge,
   ],
   // The page prints the comparison alone when it shows (styles.scss, "Printing one part").
@@ -99,6 +104,7 @@ export class PlanComparison {
   );
   protected readonly groups = computed(() => [
     ...comparisonGroups(this.columns(), this.tumourNames()),
+    rehearsalGroup(this.columns()),
     inputsGroup(this.columns()),
   ]);
   protected readonly printedAt = signal(new Date());

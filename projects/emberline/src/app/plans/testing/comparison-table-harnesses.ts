@@ -104,6 +104,7 @@ export class ComparisonGroupHarness extends ComponentHarness {
 
   private readonly toggleButton = this.locatorFor('button.group-toggle');
   private readonly titleElement = this.locatorFor('.group-title');
+  private readonly cautionRow = this.locatorForOptional('tr[data-group-caution]');
 
   async getKey(): Promise<string> {
     return (await (await this.host()).getAttribute('data-group')) ?? '';
@@ -114,6 +115,12 @@ export class ComparisonGroupHarness extends ComponentHarness {
   }
 
   /** Whether the rows show (the toggle's `aria-expanded`, what a screen reader announces). */
+  /** The caution the group carries under its heading (the rehearsal's), or empty. */
+  async getCautionText(): Promise<string> {
+    const row = await this.cautionRow();
+    return row ? squeeze(await row.text({ exclude: 'mat-icon' })) : '';
+  }
+
   async isExpanded(): Promise<boolean> {
     return (await (await this.toggleButton()).getAttribute('aria-expanded')) === 'true';
   }

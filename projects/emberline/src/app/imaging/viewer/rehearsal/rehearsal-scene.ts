@@ -1,0 +1,178 @@
+/**
+ * The vtk.js side of the rehearsal replay: the liver's surface as the simulation deformed it
+ * (see-through, so the needle inside shows), the needle from its base to its tip as a thin tube
+ * and the target as a small ball, all in patient LPS millimetres. Built as the 3D view's scene
+ * (`../surface-scene.ts`): WebGL2, no GPU needed. Plain TypeScript: the component owns one and
+ * calls `dispose()` when it goes.
+ */
+import '@kitware/vtk.js/Rendering/OpenGL/Actor';
+import '@kitware/vtk.js/Rendering/OpenGL/Camera';
+import '@kitware/vtk.js/Rendering/OpenGL/PolyDataMapper';
+import '@kitware/vtk.js/Rendering/OpenGL/Renderer';
+import vtkPolyData from '@kitware/vtk.js/Common/DataModel/PolyData';
+import vtkTubeFilter from '@kitware/vtk.js/Filters/General/TubeFilter';
+import vtkLineSource from '@kitware/vtk.js/Filters/Sources/LineSource';
+import vtkSphereSource from '@kitware/vtk.js/Filters/Sources/SphereSource';
+import vtkInteractorStyleTrackballCamera from '@kitware/vtk.js/Interaction/Style/InteractorStyleTrackballCamera';
+import vtkActor from '@kitware/vtk.js/Rendering/Core/Actor';
+import vtkMapper from '@kitware/vtk.js/Rendering/Core/Mapper';
+import vtkRenderWindow from '@kitware/vtk.js/Rendering/Core/RenderWindow';
+import vtkRenderWindowInteractor from '@kitware/vtk.js/Rendering/Core/RenderWindowInteractor';
+import vtkRenderer from '@kitware/vtk.js/Rendering/Core/Renderer';
+import vtkOpenGLRenderWindow from '@kitware/vtk.js/Rendering/OpenGL/RenderWindow';
+import { structureKindColours } from '../../structure-kind-colours';
+import { viewerBackground } from '../slice-scene';
+import { rgbOf } from '../viewer-data';
+import type { FrameShapes, ReplayGeometry } from './rehearsal-frames';
+
+/**
+ * Looks: the liver in its kind's colour at a third (the needle and target inside must show),
+ * the needle pale steel, the target ember so that it stands apart from both; sizes in mm.
+ */
+export const rehearsalLooks = {
+  liverColour: structureKindColours.liver,
+  liverOpacity: 0.35,
+  needleColour: '#dfe6ec',
+  needleRadiusMm: 0.6,
+  targetColour: '#ff8c58',
+  targetRadiusMm: 2,
+} as const;
+
+/** What the replay component asks of its scene (a test gives it a recorder instead). */
+export interface RehearsalSceneView {
+  /** The surface's triangles (another replay: the points follow with `showFrame`). */
+  setSurface(geometry: ReplayGeometry): void;
+  showFrame(shapes: FrameShapes): void;
+  resetCamera(): void;
+  resize(widthPx: number, heightPx: number): void;
+  render(): void;
+  dispose(): void;
+}
+
+export class RehearsalScene implements RehearsalSceneView {
+  private readonly renderWindow = vtkRenderWindow.newInstance();
+  private readonly renderer = vtkRenderer.newInstance({ background: viewerBackground });
+  private readonly openGlWindow = vtkOpenGLRenderWindow.newInstance();
+  private readonly interactor = vtkRenderWindowInteractor.newInstance();
+  private readonly style = vtkInteractorStyleTrackballCamera.newInstance();
+  private readonly surface = vtkPolyData.newInstance();
+  private readonly surfaceMapper = vtkMapper.newInstance();
+  private readonly surfaceActor = vtkActor.newInstance();
+  private readonly needle = vtkLineSource.newInstance({ resolution: 1 });
+  private readonly needleTube = vtkTubeFilter.newInstance({
+    radius: rehearsalLooks.needleRadiusMm,
+    numberOfSides: 12,
+    capping: true,
+  });
+  private readonly needleMapper = vtkMapper.newInstance();
+  private readonly needleActor = vtkActor.newInstance();
+  private readonly target = vtkSphereSource.newInstance({
+    radius: rehearsalLooks.targetRadiusMm,
+    thetaResolution: 16,
+    phiResolution: 12,
+  });
+  private readonly targetMapper = vtkMapper.newInstance();
+  private readonly targetActor = vtkActor.newInstance();
+  private hasCamera = false;
+  private isDisposed = false;
+
+  constructor(container: HTMLElement) {
+    this.renderWindow.addRenderer(this.renderer);
+    this.renderWindow.addView(this.openGlWindow);
+    this.openGlWindow.setContainer(container);
+    const canvas = this.openGlWindow.getCanvas();
+    if (canvas) canvas.style.cssText = 'display:block;width:100%;height:100%';
+    this.interactor.setView(this.openGlWindow);
+    this.interactor.initialize();
+    this.interactor.setInteractorStyle(this.style);
+    this.interactor.bindEvents(container);
+
+    this.surfaceMapper.setInputData(this.surface);
+    this.surfaceActor.setMapper(this.surfaceMapper);
+    const liver = this.surfaceActor.getProperty();
+    liver.setColor(...rgbOf(rehearsalLooks.liverColour));
+    liver.setOpacity(rehearsalLooks.liverOpacity);
+    liver.setSpecular(0.15);
+    liver.setSpecularPower(20);
+    // vtk.js draws the see-through skin after the opaque needle and target, over them.
+    this.renderer.addActor(this.needleActor);
+    this.renderer.addActor(this.targetActor);
+    this.renderer.addActor(this.surfaceActor);
+
+    this.needleTube.setInputConnection(this.needle.getOutputPort());
+    this.needleMapper.setInputConnection(this.needleTube.getOutputPort());
+    this.needleActor.setMapper(this.needleMapper);
+    this.needleActor.getProperty().setColor(...rgbOf(rehearsalLooks.needleColour));
+
+    this.targetMapper.setInputConnection(this.target.getOutputPort());
+    this.targetActor.setMapper(this.targetMapper);
+    this.targetActor.getProperty().setColor(...rgbOf(rehearsalLooks.targetColour));
+  }
+
+  setSurface(geometry: ReplayGeometry): void {
+    this.surface.getPolys().setData(geometry.polys);
+    this.surface.modified();
+  }
+
+  showFrame(shapes: FrameShapes): void {
+    this.surface.getPoints().setData(shapes.surfacePoints, 3);
+    this.surface.modified();
+    this.needle.setPoint1(shapes.baseMm[0], shapes.baseMm[1], shapes.baseMm[2]);
+    this.needle.setPoint2(shapes.tipMm[0], shapes.tipMm[1], shapes.tipMm[2]);
+    this.target.setCenter(shapes.targetMm[0], shapes.targetMm[1], shapes.targetMm[2]);
+    if (!this.hasCamera) this.resetCamera();
+  }
+
+  /** Seen from the front (anterior), head up, the whole surface in view (the 3D view's way). */
+  resetCamera(): void {
+    const camera = this.renderer.getActiveCamera();
+    camera.setFocalPoint(0, 0, 0);
+    camera.setPosition(0, -1, 0);
+    camera.setViewUp(0, 0, 1);
+    this.renderer.resetCamera();
+    this.hasCamera = this.surface.getPoints().getNumberOfPoints() > 0;
+  }
+
+  resize(widthPx: number, heightPx: number): void {
+    const ratio = globalThis.devicePixelRatio || 1;
+    this.openGlWindow.setSize(
+      Math.max(1, Math.floor(widthPx * ratio)),
+      Math.max(1, Math.floor(heightPx * ratio)),
+    );
+  }
+
+  render(): void {
+    if (this.isDisposed) return;
+    this.renderer.resetCameraClippingRange();
+    this.renderWindow.render();
+  }
+
+  dispose(): void {
+    if (this.isDisposed) return;
+    this.isDisposed = true;
+    this.interactor.unbindEvents();
+    for (const actor of [this.surfaceActor, this.needleActor, this.targetActor]) {
+      this.renderer.removeActor(actor);
+    }
+    for (const object of [
+      this.surfaceActor,
+      this.surfaceMapper,
+      this.surface,
+      this.needleActor,
+      this.needleMapper,
+      this.needleTube,
+      this.needle,
+      this.targetActor,
+      this.targetMapper,
+      this.target,
+      this.interactor,
+      this.style,
+      this.renderer,
+    ]) {
+      object.delete();
+    }
+    this.openGlWindow.setContainer(null);
+    this.openGlWindow.delete();
+    this.renderWindow.delete();
+  }
+}

@@ -155,6 +155,7 @@ type Checked = { replay: Replay; geometry: ReplayGeometry } | { replay: Replay; 
               aria-label="Moment of the replay"
               [attr.aria-valuetext]="readout()"
               [value]="frameIndex()"
+              (input)="scrub($event)"
               (valueChange)="seek($event)"
             />
           </mat-slider>
@@ -383,6 +384,12 @@ export class RehearsalReplay {
   protected seek(index: number): void {
     this.frameIndex.set(clampIndex(index, this.frames().length));
     if (this.isPlaying()) this.schedule();
+  }
+
+  /** Follows the thumb while it is dragged (the slider's own event comes on release). */
+  protected scrub(event: Event): void {
+    const value = Number((event.target as HTMLInputElement).value);
+    if (Number.isFinite(value)) this.seek(value);
   }
 
   protected togglePlay(): void {

@@ -2,10 +2,13 @@ import { DatePipe, DecimalPipe } from '@angular/common';
 import { ChangeDetectionStrategy, Component, computed, inject } from '@angular/core';
 import { MatButton } from '@angular/material/button';
 import { MatCheckbox } from '@angular/material/checkbox';
+import { MatDialog } from '@angular/material/dialog';
 import { MatProgressBar } from '@angular/material/progress-bar';
 import { MatRadioButton, MatRadioGroup } from '@angular/material/radio';
 import type { ZoneModel } from '@emberline/shared';
 import { ClinicalCaution } from '../../../core/clinical-caution';
+import { RehearsalCaution } from '../../../plans/rehearsal-caution';
+import { openRehearsalReplay } from '../rehearsal/rehearsal-replay-dialog';
 import { formatMm } from './margin-colours';
 import { ZoneOverlay } from './zone-overlay';
 import { zoneName, zoneStyles } from './zone-styles';
@@ -20,7 +23,8 @@ const assessmentStates: Record<string, string> = {
  * The side panel of the assessed zones of the plan on screen: which zones show (the primary
  * model's first), the margin colouring of the tumour surfaces in 3D and the zone model it is
  * measured against, each tumour's minimal margin and share of surface under the target, and
- * the clinical caution.
+ * the clinical caution; where the assessment rehearsed the insertion, a button per applicator
+ * opens its 3D replay (`../rehearsal/`), or the engine's note says why it did not.
  */
 @Component({
   selector: 'em-zone-panel',
@@ -33,6 +37,7 @@ const assessmentStates: Record<string, string> = {
     MatRadioButton,
     MatRadioGroup,
     ClinicalCaution,
+    RehearsalCaution,
   ],
   template: `
     <h3 id="zone-panel-title">Assessed zones</h3>
@@ -170,6 +175,28 @@ const assessmentStates: Record<string, string> = {
           Zones and margins are those of this assessment: they do not follow later changes to the
           plan. Surfaces are smoothed for display; the figures are the engine's.
         </p>
+        @if (overlay.assessment(); as assessment) {
+          @if (assessment.result?.rehearsal?.length || assessment.result?.rehearsalNote) {
+            <h4 id="rehearsal-title">Insertion rehearsal</h4>
+            @if (assessment.result?.rehearsal?.length) {
+              <div class="rehearsals" role="group" aria-labelledby="rehearsal-title">
+                @for (entry of assessment.result?.rehearsal ?? []; track entry.applicatorIndex) {
+                  <button
+                    mat-stroked-button
+                    type="button"
+                    data-testid="rehearsal-open-replay"
+                    (click)="openRehearsal(assessment.id, entry.applicatorIndex)"
+                  >
+                    Replay applicator {{ entry.applicatorIndex + 1 }} in 3D
+                  </button>
+                }
+              </div>
+              <em-rehearsal-caution />
+            } @else {
+              <p class="em-note">{{ assessment.result?.rehearsalNote }}</p>
+            }
+          }
+        }
       }
     }
     @if (overlay.phase() !== 'idle') {
@@ -240,6 +267,11 @@ const assessmentStates: Record<string, string> = {
         white-space: nowrap;
       }
     }
+    .rehearsals {
+      display: flex;
+      flex-wrap: wrap;
+      gap: 6px;
+    }
     .em-note,
     .em-muted {
       font: var(--mat-sys-body-small);
@@ -249,6 +281,7 @@ const assessmentStates: Record<string, string> = {
 })
 export class ZonePanel {
   protected readonly overlay = inject(ZoneOverlay);
+  private readonly dialog = inject(MatDialog);
   protected readonly styles = zoneStyles;
   protected readonly zoneName = zoneName;
   protected readonly format = formatMm;
@@ -271,6 +304,15 @@ export class ZonePanel {
     const newer = this.overlay.newer();
     return newer ? `assessment ${assessmentStates[newer.status] ?? newer.status}` : '';
   });
+
+  /** The 3D replay of the applicator's insertion rehearsal of the assessment drawn. */
+  protected openRehearsal(assessmentId: string, applicatorIndex: number): void {
+    openRehearsalReplay(this.dialog, {
+      assessmentId,
+      applicatorIndex,
+      planName: this.overlay.plan()?.name,
+    });
+  }
 
   protected setMarginModel(model: ZoneModel): void {
     this.overlay.marginModel.set(model);

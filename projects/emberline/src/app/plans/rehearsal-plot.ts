@@ -100,6 +100,8 @@ export function tipErrorChartData(
       backgroundColor: rehearsalPlotColours.threshold,
       borderWidth: 1.5,
       borderDash: [6, 4],
+      // The legend draws its key as a line (no dot: the line has no samples).
+      pointStyle: 'line',
       pointRadius: 0,
       pointHoverRadius: 0,
     });

@@ -103,6 +103,8 @@ export class RehearsalScene implements RehearsalSceneView {
     this.needleMapper.setInputConnection(this.needleTube.getOutputPort());
     this.needleActor.setMapper(this.needleMapper);
     this.needleActor.getProperty().setColor(...rgbOf(rehearsalLooks.needleColour));
+    // Some light of its own, so that the thin needle stays pale whichever way it faces.
+    this.needleActor.getProperty().setAmbient(0.35);
 
     this.targetMapper.setInputConnection(this.target.getOutputPort());
     this.targetActor.setMapper(this.targetMapper);

@@ -5,8 +5,8 @@ import {
 } from '../../../plans/testing/rehearsal-fixtures';
 import {
   ReplayDataError,
+  cameraDirection,
   checkedReplay,
-  frameHoldMs,
   frameReadout,
   frameShapes,
   nearestFrameIndex,
@@ -66,12 +66,18 @@ describe('rehearsal frames → the 3D scene', () => {
     expect(nearestFrameIndex(assisted, -1)).toBe(0);
   });
 
-  it('holds a frame as long as the record did, between 16 ms and one second', () => {
-    expect(frameHoldMs(frames, 0)).toBeCloseTo(400, 9);
-    expect(frameHoldMs(frames, 4)).toBe(0);
-    const gappy = [frames[0], { ...frames[1], timeS: 5 }, { ...frames[2], timeS: 5.001 }];
-    expect(frameHoldMs(gappy, 0)).toBe(1000);
-    expect(frameHoldMs(gappy, 1)).toBe(16);
+  it('looks across the needle: from the front unless the needle runs front to back', () => {
+    const dot = (a: readonly number[], b: readonly number[]) =>
+      a[0] * b[0] + a[1] * b[1] + a[2] * b[2];
+    // A needle from the patient's right to left (+x in LPS) is seen from the front.
+    expect(cameraDirection([-50, 0, 0], [10, 0, 0])).toEqual([0, -1, 0]);
+    // An oblique one: the front view less its part along the needle, at right angles to it.
+    const oblique = cameraDirection([0, -100, 0], [0, -50, 50]);
+    expect(dot(oblique, [0, 50, 50])).toBeCloseTo(0, 12);
+    expect(Math.hypot(...oblique)).toBeCloseTo(1, 12);
+    expect(oblique[1]).toBeLessThan(0);
+    // Front to back: from the patient's left (+x).
+    expect(cameraDirection([10, -100, 10], [10, -60, 12])).toEqual([1, 0, 0]);
   });
 
   describe('refuses a replay it cannot draw, saying why', () => {

@@ -148,13 +148,21 @@ export function nearestFrameIndex(frames: readonly RehearsalFrame[], timeS: numb
 }
 
 /**
- * How long to hold a frame while playing, ms: the time to the next frame in the replay, kept
- * between one screen refresh and one second so that a long pause in the record does not stall
- * the player.
+ * Where the camera looks from, as a unit vector from the scene's centre towards it (LPS): from
+ * the front (anterior), turned so that it looks across the needle rather than along it; a
+ * needle within about 25° of front-to-back is seen from the patient's left instead. A needle
+ * seen end-on would show as a dot.
  */
-export function frameHoldMs(frames: readonly RehearsalFrame[], index: number): number {
-  const next = frames[index + 1];
-  if (!next) return 0;
-  const ms = (next.timeS - frames[index].timeS) * 1000;
-  return Math.min(1000, Math.max(16, Number.isFinite(ms) ? ms : 16));
+export function cameraDirection(baseMm: Triple, tipMm: Triple): [number, number, number] {
+  const axis = [0, 1, 2].map((index) => tipMm[index] - baseMm[index]);
+  const length = Math.hypot(axis[0], axis[1], axis[2]);
+  const across = (view: readonly number[]): number[] => {
+    if (length === 0) return [...view];
+    const along = (view[0] * axis[0] + view[1] * axis[1] + view[2] * axis[2]) / length ** 2;
+    return view.map((value, index) => value - along * axis[index]);
+  };
+  let direction = across([0, -1, 0]);
+  if (Math.hypot(direction[0], direction[1], direction[2]) < 0.42) direction = across([1, 0, 0]);
+  const norm = Math.hypot(direction[0], direction[1], direction[2]);
+  return [direction[0] / norm, direction[1] / norm, direction[2] / norm];
 }

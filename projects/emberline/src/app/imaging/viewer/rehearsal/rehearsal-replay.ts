@@ -27,7 +27,6 @@ import {
   ReplayDataError,
   checkedReplay,
   clampIndex,
-  frameHoldMs,
   frameReadout,
   frameShapes,
   nearestFrameIndex,
@@ -321,6 +320,8 @@ export class RehearsalReplay {
   private sceneGeometry: ReplayGeometry | null = null;
   private resizeObserver: ResizeObserver | null = null;
   private timer: ReturnType<typeof setTimeout> | undefined;
+  /** When play started (wall clock, ms) and from which moment of the replay (s). */
+  private playFrom = { wallMs: 0, timeS: 0 };
 
   constructor() {
     afterRenderEffect({ write: () => this.draw() });
@@ -378,12 +379,12 @@ export class RehearsalReplay {
     const time = this.frame()?.timeS ?? 0;
     this.mode.set(mode);
     this.frameIndex.set(nearestFrameIndex(this.frames(), time));
-    if (this.isPlaying()) this.schedule();
+    if (this.isPlaying()) this.playOn();
   }
 
   protected seek(index: number): void {
     this.frameIndex.set(clampIndex(index, this.frames().length));
-    if (this.isPlaying()) this.schedule();
+    if (this.isPlaying()) this.playOn();
   }
 
   /** Follows the thumb while it is dragged (the slider's own event comes on release). */
@@ -400,7 +401,7 @@ export class RehearsalReplay {
     // Play from the start again once the end was reached.
     if (this.frameIndex() >= this.lastIndex()) this.frameIndex.set(0);
     this.isPlaying.set(true);
-    this.schedule();
+    this.playOn();
   }
 
   protected resetView(): void {
@@ -414,20 +415,36 @@ export class RehearsalReplay {
     this.isPlaying.set(false);
   }
 
-  /** Holds the frame for as long as the record did, then shows the next; stops at the last. */
+  /** Plays on from the frame on screen, its moment tied to the wall clock from now. */
+  private playOn(): void {
+    this.playFrom = { wallMs: Date.now(), timeS: this.frame()?.timeS ?? 0 };
+    this.schedule();
+  }
+
+  /**
+   * Waits until the next frame's moment comes on the wall clock, then shows the latest frame
+   * whose moment has come (frames the screen could not keep up with are skipped, so the replay
+   * keeps the recorded pace); stops at the last.
+   */
   private schedule(): void {
     clearTimeout(this.timer);
+    const frames = this.frames();
     const index = this.frameIndex();
     if (index >= this.lastIndex()) {
       this.pause();
       return;
     }
+    const elapsedMs = () => Date.now() - this.playFrom.wallMs;
+    const dueMs = (frames[index + 1].timeS - this.playFrom.timeS) * 1000;
     this.timer = setTimeout(
       () => {
-        this.frameIndex.set(index + 1);
+        const nowS = this.playFrom.timeS + elapsedMs() / 1000;
+        let next = index + 1;
+        while (next < frames.length - 1 && frames[next + 1].timeS <= nowS) next++;
+        this.frameIndex.set(next);
         this.schedule();
       },
-      frameHoldMs(this.frames(), index),
+      Math.max(0, dueMs - elapsedMs()),
     );
   }
 }

@@ -23,7 +23,7 @@ import vtkOpenGLRenderWindow from '@kitware/vtk.js/Rendering/OpenGL/RenderWindow
 import { structureKindColours } from '../../structure-kind-colours';
 import { viewerBackground } from '../slice-scene';
 import { rgbOf } from '../viewer-data';
-import type { FrameShapes, ReplayGeometry } from './rehearsal-frames';
+import { cameraDirection, type FrameShapes, type ReplayGeometry } from './rehearsal-frames';
 
 /**
  * Looks: the liver in its kind's colour at a third (the needle and target inside must show),
@@ -31,11 +31,12 @@ import type { FrameShapes, ReplayGeometry } from './rehearsal-frames';
  */
 export const rehearsalLooks = {
   liverColour: structureKindColours.liver,
-  liverOpacity: 0.35,
+  liverOpacity: 0.4,
   needleColour: '#dfe6ec',
-  needleRadiusMm: 0.6,
+  /** Drawn a little thicker than a typical ablation needle, so that it shows at full view. */
+  needleRadiusMm: 1,
   targetColour: '#ff8c58',
-  targetRadiusMm: 2,
+  targetRadiusMm: 2.5,
 } as const;
 
 /** What the replay component asks of its scene (a test gives it a recorder instead). */
@@ -75,6 +76,8 @@ export class RehearsalScene implements RehearsalSceneView {
   private readonly targetActor = vtkActor.newInstance();
   private hasCamera = false;
   private isDisposed = false;
+  /** Where the camera looks from (`cameraDirection` of the needle shown first). */
+  private viewFrom: [number, number, number] = [0, -1, 0];
 
   constructor(container: HTMLElement) {
     this.renderWindow.addRenderer(this.renderer);
@@ -122,15 +125,19 @@ export class RehearsalScene implements RehearsalSceneView {
     this.needle.setPoint1(shapes.baseMm[0], shapes.baseMm[1], shapes.baseMm[2]);
     this.needle.setPoint2(shapes.tipMm[0], shapes.tipMm[1], shapes.tipMm[2]);
     this.target.setCenter(shapes.targetMm[0], shapes.targetMm[1], shapes.targetMm[2]);
-    if (!this.hasCamera) this.resetCamera();
+    if (!this.hasCamera) {
+      this.viewFrom = cameraDirection(shapes.baseMm, shapes.tipMm);
+      this.resetCamera();
+    }
   }
 
-  /** Seen from the front (anterior), head up, the whole surface in view (the 3D view's way). */
+  /** Across the needle, from the front where it can, head up, the whole surface in view. */
   resetCamera(): void {
     const camera = this.renderer.getActiveCamera();
     camera.setFocalPoint(0, 0, 0);
-    camera.setPosition(0, -1, 0);
+    camera.setPosition(...this.viewFrom);
     camera.setViewUp(0, 0, 1);
+    camera.orthogonalizeViewUp();
     this.renderer.resetCamera();
     this.hasCamera = this.surface.getPoints().getNumberOfPoints() > 0;
   }

@@ -211,7 +211,7 @@ export class AssistedController {
   step(pose: NeedlePose, depthMm: number): ControlStepRecord {
     const started = monotonicMs();
     const sim = this.simulation;
-    sim.beginStep();
+    sim.beginStep({ keepStart: this.strategy === 'full-step' });
     const jacobianStart = monotonicMs();
     const { errorMm, jacobian } = this.jacobianAt(pose, depthMm);
     const jacobianMs = monotonicMs() - jacobianStart;

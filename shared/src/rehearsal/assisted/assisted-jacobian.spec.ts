@@ -47,7 +47,7 @@ function jacobiansAtAHeldNeedle(compliance: 'exact' | 'precomputed') {
   }
   depthMm += 0.8;
   const objective = pathObjective(mesh, plan, simulation.capsuleEntryMm);
-  simulation.beginStep();
+  simulation.beginStep({ keepStart: true });
   const results = strategies.map((strategy) => ({
     strategy,
     ...new AssistedController(simulation, objective, { strategy }).jacobianAt(pose, depthMm),

@@ -138,6 +138,14 @@ const ALL_AXES: readonly Axis[] = [0, 1, 2];
  * `solveSystem()` and `applyCorrection()` calls. The positions and velocities are live arrays
  * owned by the solver: read them, change them only through `setState`.
  */
+/** A solver's state for `restore` (TissueSolver.snapshot). */
+export interface TissueSolverSnapshot {
+  positionsM: Float64Array;
+  velocitiesMPerS: Float64Array;
+  timeS: number;
+  freeChange: Float64Array;
+}
+
 export class TissueSolver {
   readonly nodeCount: number;
   readonly material: Readonly<TissueMaterial>;
@@ -383,6 +391,26 @@ export class TissueSolver {
     if (state.velocitiesMPerS) this.velocitiesMPerS.set(state.velocitiesMPerS);
     if (state.timeS !== undefined) this.time = state.timeS;
     this.isSystemReady = false;
+  }
+
+  /**
+   * Everything the next step depends on: positions, velocities, time and the conjugate
+   * gradients' starting guess (the last free velocity change). `restore` puts it back, so a
+   * step redone from a snapshot costs what the first one did and gives the same result.
+   */
+  snapshot(): TissueSolverSnapshot {
+    return {
+      positionsM: this.positionsM.slice(),
+      velocitiesMPerS: this.velocitiesMPerS.slice(),
+      timeS: this.time,
+      freeChange: this.previousFreeChange.slice(),
+    };
+  }
+
+  restore(snapshot: TissueSolverSnapshot): void {
+    this.setState(snapshot);
+    this.checkVector(snapshot.freeChange, 'The starting guess');
+    this.previousFreeChange.set(snapshot.freeChange);
   }
 
   /** One step without constraint forces: the same as freeMotion(). */

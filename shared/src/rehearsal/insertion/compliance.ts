@@ -54,6 +54,11 @@ export class PrecomputedCompliance {
   /** Node → slot in the table, −1 if absent. */
   private readonly slotOf: Int32Array;
   private slotNodes: number[] = [];
+  /**
+   * The whole columns of A₀⁻¹ of the table's unknowns (3 per slot; null for a fixed or driven
+   * unknown), for the correction without a solve (`correction`).
+   */
+  private readonly fullColumns: (Float64Array | null)[] = [];
   private capacity = 0;
   /** Row-major (3·capacity)², A₀⁻¹ between slot unknowns. */
   private table = new Float64Array(0);
@@ -132,6 +137,7 @@ export class PrecomputedCompliance {
         const dof = 3 * node + axis;
         // A fixed or driven unknown takes no impulse: its column of the constrained inverse is 0.
         if (this.constrained[dof]) {
+          this.fullColumns[col] = null;
           for (let t = 0; t < newCount; t++) {
             for (let a = 0; a < 3; a++) this.table[(3 * t + a) * stride + col] = 0;
           }
@@ -141,6 +147,7 @@ export class PrecomputedCompliance {
         this.reference.solveSystem(rhs, column);
         rhs[dof] = 0;
         this.stats.columnSolves++;
+        this.fullColumns[col] = column.slice();
         for (let t = 0; t < newCount; t++) {
           const base = 3 * this.slotNodes[t];
           for (let a = 0; a < 3; a++) this.table[(3 * t + a) * stride + col] = column[base + a];
@@ -265,6 +272,103 @@ export class PrecomputedCompliance {
       }
     }
     return w;
+  }
+
+  /**
+   * Δv ≈ A⁻¹·Hᵀ·μ from the table's whole columns, without a solve (μ per row, N·s; out m/s, 3
+   * per node, overwritten). Each row's impulse acts on its nodes l; node l's columns give the
+   * response everywhere in the rest frame, turned by the rotations: R_i·A₀⁻¹[i, l]·R_lᵀ for the
+   * table's nodes i — the same warping as `compliance`, so that H·Δv = W·μ on the rows and the
+   * constraint solve's residuals hold — and R_l·A₀⁻¹[i, l]·R_lᵀ elsewhere (the column turned
+   * with its source: exact for a rigid rotation, cheap for the whole mesh). The rest of the
+   * mismatch with this step's A is a one-step error in the far field, which the next step's
+   * free motion, carrying the same impulses as forces, does not repeat (README).
+   */
+  correction(
+    rows: readonly ConstraintRow[],
+    impulsesNs: ArrayLike<number>,
+    positionsM: Float64Array,
+    out: Float64Array,
+    warp = true,
+    rotationCache?: Map<number, Float64Array>,
+  ): void {
+    out.fill(0);
+    const rotations = rotationCache ?? new Map<number, Float64Array>();
+    const rotationOf = (node: number): Float64Array | null => {
+      if (!warp) return null;
+      let r = rotations.get(node);
+      if (!r) {
+        r = this.nodeRotation(node, positionsM);
+        rotations.set(node, r);
+      }
+      return r;
+    };
+    // The force on each touched node, in space.
+    const forces = new Map<number, [number, number, number]>();
+    rows.forEach((row, j) => {
+      const mu = impulsesNs[j];
+      if (mu === 0) return;
+      for (let c = 0; c < 4; c++) {
+        const weight = row.weights[c];
+        if (weight === 0) continue;
+        const node = row.nodes[c];
+        let f = forces.get(node);
+        if (!f) {
+          f = [0, 0, 0];
+          forces.set(node, f);
+        }
+        for (let a = 0; a < 3; a++) f[a] += weight * mu * row.direction[a];
+      }
+    });
+    this.addNodes([...forces.keys()]);
+    const response = new Float64Array(out.length);
+    for (const [node, f] of forces) {
+      const r = rotationOf(node);
+      // g = R_lᵀ·f in the rest frame, then u = Σ_c column_c·g_c.
+      const g = r
+        ? [
+            r[0] * f[0] + r[3] * f[1] + r[6] * f[2],
+            r[1] * f[0] + r[4] * f[1] + r[7] * f[2],
+            r[2] * f[0] + r[5] * f[1] + r[8] * f[2],
+          ]
+        : f;
+      response.fill(0);
+      const slot = this.slotOf[node];
+      for (let c = 0; c < 3; c++) {
+        const column = this.fullColumns[3 * slot + c];
+        const gc = g[c];
+        if (!column || gc === 0) continue;
+        for (let dof = 0; dof < column.length; dof++) response[dof] += gc * column[dof];
+      }
+      // Far field turned with the source node; table nodes below.
+      if (r) {
+        for (let base = 0; base < out.length; base += 3) {
+          const x = response[base];
+          const y = response[base + 1];
+          const z = response[base + 2];
+          out[base] += r[0] * x + r[1] * y + r[2] * z;
+          out[base + 1] += r[3] * x + r[4] * y + r[5] * z;
+          out[base + 2] += r[6] * x + r[7] * y + r[8] * z;
+        }
+      } else {
+        for (let dof = 0; dof < out.length; dof++) out[dof] += response[dof];
+      }
+      if (r) {
+        for (const other of this.slotNodes) {
+          const q = rotationOf(other);
+          if (!q) continue;
+          const base = 3 * other;
+          const x = response[base];
+          const y = response[base + 1];
+          const z = response[base + 2];
+          // Replace R_l·u by R_i·u at the table's nodes.
+          out[base] += q[0] * x + q[1] * y + q[2] * z - (r[0] * x + r[1] * y + r[2] * z);
+          out[base + 1] += q[3] * x + q[4] * y + q[5] * z - (r[3] * x + r[4] * y + r[5] * z);
+          out[base + 2] += q[6] * x + q[7] * y + q[8] * z - (r[6] * x + r[7] * y + r[8] * z);
+        }
+      }
+    }
+    for (let dof = 0; dof < out.length; dof++) if (this.constrained[dof]) out[dof] = 0;
   }
 
   /**

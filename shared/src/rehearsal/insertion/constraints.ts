@@ -105,7 +105,18 @@ export interface ConstraintSolution {
 
 /** Where W comes from. */
 export type ComplianceMode =
-  { kind: 'exact' } | { kind: 'precomputed'; table: PrecomputedCompliance; warp?: boolean };
+  | { kind: 'exact' }
+  | {
+      kind: 'precomputed';
+      table: PrecomputedCompliance;
+      warp?: boolean;
+      /**
+       * How the correction Δv = A⁻¹·Hᵀ·(λ − p) is found: 'table' (default) from the table's
+       * whole columns, warped like W (no solve; the rows' residuals then match W's), or
+       * 'solve', one solve with this step's exact A plus refinement passes (README).
+       */
+      correction?: 'table' | 'solve';
+    };
 
 /**
  * Solves constraint rows against the current step of a TissueSolver (after its freeMotion()).
@@ -157,6 +168,8 @@ export class ConstraintSolver {
 
     let systemSolves = 0;
     let started = monotonicMs();
+    const rotationCache = new Map<number, Float64Array>();
+    const rotationPositions = rotationPositionsM ?? solver.positionsM;
     let w: Float64Array;
     let columns: Float64Array[] | null = null;
     if (this.mode.kind === 'exact') {
@@ -165,8 +178,9 @@ export class ConstraintSolver {
     } else {
       w = this.mode.table.compliance(
         rows,
-        rotationPositionsM ?? solver.positionsM,
+        rotationPositions,
         this.mode.warp ?? true,
+        rotationCache,
       );
     }
     const complianceMs = monotonicMs() - started;
@@ -200,6 +214,20 @@ export class ConstraintSolver {
           const lj = lambda[j] - preload[j];
           if (lj !== 0) for (let dof = 0; dof < dofCount; dof++) dv[dof] += lj * column[dof];
         }
+      } else if (
+        this.mode.kind === 'precomputed' &&
+        (this.mode.correction ?? 'table') === 'table'
+      ) {
+        const change = new Float64Array(m);
+        for (let j = 0; j < m; j++) change[j] = lambda[j] - preload[j];
+        this.mode.table.correction(
+          rows,
+          change,
+          rotationPositions,
+          dv,
+          this.mode.warp ?? true,
+          rotationCache,
+        );
       } else {
         rhs.fill(0);
         for (let j = 0; j < m; j++) addRowTranspose(rows[j], lambda[j] - preload[j], rhs);

@@ -13,7 +13,11 @@
  */
 import { monotonicMs } from '../../assessment/assessment-stages';
 import { distance, type Vec3 } from '../../geometry/vector';
-import { TissueSolver, type TissueSolverOptions } from '../fem/tissue-solver';
+import {
+  TissueSolver,
+  type TissueSolverOptions,
+  type TissueSolverSnapshot,
+} from '../fem/tissue-solver';
 import type { TissueMaterial } from '../fem/material';
 import { embedPoints, embeddedPosition, type Embedding } from '../mesh/embedding';
 import type { TetMesh } from '../mesh/tet-mesh';
@@ -63,6 +67,11 @@ export interface InsertionSimulationOptions {
    * local rotations; 'exact': one solve per constraint row each step (small meshes, checks).
    */
   compliance?: 'precomputed' | 'exact';
+  /**
+   * With precomputed compliance: the correction from the table's whole columns ('table',
+   * default, no solve) or one solve with the step's exact matrix ('solve'; README).
+   */
+  correction?: 'table' | 'solve';
   /** Nodes within this distance of the planned line go into the table, mm (default: a cell). */
   corridorMarginMm?: number;
   constraints?: ConstraintSolveOptions;
@@ -213,8 +222,7 @@ export class InsertionSimulation {
 
   private readonly constraintOptions: ConstraintSolveOptions;
   private readonly stepStartPositions: Float64Array;
-  private readonly stepStartVelocities: Float64Array;
-  private stepStartTimeS = 0;
+  private stepStart: TissueSolverSnapshot | null = null;
   private freeMotionMs = 0;
   private freeMotionIterations = 0;
   private isInStep = false;
@@ -283,9 +291,14 @@ export class InsertionSimulation {
         corridorNodes(mesh, entry.pointMm, targetMm, margin),
       );
       this.precomputeMs = monotonicMs() - started;
+      const correction = options.correction ?? 'table';
+      if (correction !== 'table' && correction !== 'solve') {
+        refuse('correction', "correction must be 'table' or 'solve'.");
+      }
       this.constraintSolver = new ConstraintSolver(this.solver, {
         kind: 'precomputed',
         table: this.complianceTable,
+        correction,
       });
     } else {
       this.complianceTable = null;
@@ -293,7 +306,6 @@ export class InsertionSimulation {
       this.constraintSolver = new ConstraintSolver(this.solver, { kind: 'exact' });
     }
     this.stepStartPositions = this.solver.positionsM.slice();
-    this.stepStartVelocities = this.solver.velocitiesMPerS.slice();
     this.preloadForces = new Float64Array(this.stepStartPositions.length);
   }
 
@@ -327,11 +339,11 @@ export class InsertionSimulation {
    * the needle holds tissue — the forces it held it with in the last step (so that the
    * constraint solve only has to find what changes; README).
    */
-  beginStep(): void {
+  beginStep(options: { keepStart?: boolean } = {}): void {
     if (this.isInStep) refuse('step', 'The step was begun already: commit it first.');
     this.stepStartPositions.set(this.solver.positionsM);
-    this.stepStartVelocities.set(this.solver.velocitiesMPerS);
-    this.stepStartTimeS = this.solver.timeS;
+    // A controller that redoes the free motion ('full-step') keeps the whole start.
+    this.stepStart = options.keepStart ? this.solver.snapshot() : null;
     this.isPreloaded = this.needle.points.length > 0;
     if (this.isPreloaded) {
       this.preloadForces.fill(0);
@@ -353,12 +365,10 @@ export class InsertionSimulation {
    * rehearsal's 'full-step' Jacobian).
    */
   redoFreeMotion(): void {
-    if (!this.isInStep) refuse('step', 'Begin the step (free motion) before redoing it.');
-    this.solver.setState({
-      positionsM: this.stepStartPositions,
-      velocitiesMPerS: this.stepStartVelocities,
-      timeS: this.stepStartTimeS,
-    });
+    if (!this.isInStep || !this.stepStart) {
+      refuse('step', 'Begin the step with keepStart before redoing its free motion.');
+    }
+    this.solver.restore(this.stepStart);
     const started = monotonicMs();
     const report = this.solver.freeMotion();
     this.freeMotionMs = monotonicMs() - started;

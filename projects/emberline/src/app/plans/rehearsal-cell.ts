@@ -30,12 +30,11 @@ import { RehearsalPlot, defaultTipErrorThresholdMm } from './rehearsal-plot';
       type="button"
       class="screen-only"
       data-testid="rehearsal-open-replay"
-      [attr.aria-label]="'Replay in 3D: ' + subject()"
       [disabled]="isOpening()"
       (click)="openReplay()"
     >
       <mat-icon aria-hidden="true">view_in_ar</mat-icon>
-      Replay in 3D
+      Replay in 3D<span class="hidden-text">: {{ subject() }}</span>
     </button>
     @if (openProblem()) {
       <p class="em-error-text" role="alert">{{ openProblem() }}</p>
@@ -54,6 +53,15 @@ import { RehearsalPlot, defaultTipErrorThresholdMm } from './rehearsal-plot';
       max-width: 360px;
       font: var(--mat-sys-body-small);
       color: var(--mat-sys-on-surface-variant);
+    }
+
+    .hidden-text {
+      position: absolute;
+      width: 1px;
+      height: 1px;
+      overflow: hidden;
+      clip-path: inset(50%);
+      white-space: nowrap;
     }
 
     @media print {

@@ -133,6 +133,11 @@ describe('RehearsalReplay', () => {
     await fixture.whenStable();
 
     expect(text('rehearsal-frame-readout')).toBe('t = 1.20 s · depth 31.5 mm');
+    // Screen readers hear the moment, not the frame's number.
+    const input = (fixture.nativeElement as HTMLElement).querySelector(
+      '[data-testid="rehearsal-slider"]',
+    );
+    expect(input?.getAttribute('aria-valuetext')).toBe('t = 1.20 s · depth 31.5 mm');
     // Tip (13, −28.5, 13) and target (10, −18, 13): √(3² + 10.5²) = 10.92 mm.
     expect(text('rehearsal-frame-details')).toBe('Frame 4 of 5 · tip to target 10.9 mm');
     const [scene] = scenes;

@@ -147,12 +147,17 @@ type Checked = { replay: Replay; geometry: ReplayGeometry } | { replay: Replay; 
           >
             <mat-icon aria-hidden="true">{{ isPlaying() ? 'pause' : 'play_arrow' }}</mat-icon>
           </button>
-          <mat-slider class="slider" [min]="0" [max]="lastIndex()" [step]="1">
+          <mat-slider
+            class="slider"
+            [min]="0"
+            [max]="lastIndex()"
+            [step]="1"
+            [displayWith]="valueText"
+          >
             <input
               matSliderThumb
               data-testid="rehearsal-slider"
               aria-label="Moment of the replay"
-              [attr.aria-valuetext]="readout()"
               [value]="frameIndex()"
               (input)="scrub($event)"
               (valueChange)="seek($event)"
@@ -300,6 +305,11 @@ export class RehearsalReplay {
     const frame = this.frame();
     return frame ? frameReadout(frame) : '';
   });
+  /** What the slider says of a position, to screen readers: that frame's time and depth. */
+  protected readonly valueText = (index: number): string => {
+    const frame = this.frames()[clampIndex(index, this.frames().length)];
+    return frame ? frameReadout(frame) : String(index);
+  };
   protected readonly details = computed(() => {
     const frame = this.frame();
     if (!frame) return '';

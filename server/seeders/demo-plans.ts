@@ -163,6 +163,10 @@ export const demoSafetyProfile: SafetyProfileBody = {
   physicsToleranceSource:
     'Team choice for the demo: the heating model must predict a zone-table row it was not ' +
     'fitted to within 2 mm (leave-one-out) before its zone decides the verdict.',
+  rehearsalToleranceMm: 2,
+  rehearsalToleranceSource:
+    'Common practice: robot-assisted needle placement aims at a tip within about 2 mm of the ' +
+    'target; the rehearsal is a simulation estimate.',
   isDefault: true,
 };
 

@@ -90,6 +90,8 @@ const safetyProfile: SafetyProfileBody = {
   capsuleSource: 'common practice',
   physicsToleranceMm: 2,
   physicsToleranceSource: 'common practice',
+  rehearsalToleranceMm: 2,
+  rehearsalToleranceSource: 'common practice',
 };
 const zoneTable = [
   { powerW: 60, timeS: 300, zoneLengthMm: 40, zoneWidthMm: 32, tipOffsetMm: 5 },

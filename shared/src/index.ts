@@ -21,6 +21,7 @@ export * from './api/plans';
 export * from './api/safety-profiles';
 export * from './api/assessments';
 export * from './api/assessment-snapshot';
+export * from './api/rehearsal-settings';
 export * from './api/realtime';
 export * from './api/assessment-display';
 export * from './rehearsal';

@@ -9,6 +9,7 @@ import type { SafetyProfileBody } from './safety-profiles';
 import type { StructureKind } from './structures';
 import type { VolumeGeometry } from '../geometry/patient-geometry';
 import type { Vec3 } from '../geometry/vector';
+import type { RehearsalSettings } from './rehearsal-settings';
 
 export interface SnapshotApplicatorProfile {
   id: string;
@@ -26,6 +27,11 @@ export interface SnapshotApplicatorProfile {
 export interface AssessmentSnapshot {
   engineVersion: string;
   isBioheatRequested: boolean;
+  /**
+   * The insertion rehearsal's settings (the case's, else the defaults); null when the request
+   * switched it off; absent on snapshots taken before it existed.
+   */
+  rehearsal?: RehearsalSettings | null;
   plan: {
     id: string;
     name: string;
@@ -54,6 +60,8 @@ export interface AssessmentSnapshot {
 /** POST /api/plans/:id/assessments: the default safety profile unless one is named. */
 export const requestAssessmentSchema = z.strictObject({
   safetyProfileId: z.uuid('The safety profile id must be a uuid').optional(),
+  /** false switches the insertion rehearsal off for this request (default on). */
+  rehearsal: z.boolean('rehearsal must be true or false').optional(),
 });
 export type RequestAssessment = z.infer<typeof requestAssessmentSchema>;
 
@@ -82,7 +90,14 @@ export interface AssessmentInputsView {
 /** What changed between the snapshot an assessment ran on and the plan's inputs today. */
 export interface InputChange {
   /** `engine`, `plan`, `label-map`, `structures`, `applicator-profile`, `safety-profile`. */
-  kind: 'engine' | 'plan' | 'label-map' | 'structures' | 'applicator-profile' | 'safety-profile';
+  kind:
+    | 'engine'
+    | 'plan'
+    | 'label-map'
+    | 'structures'
+    | 'applicator-profile'
+    | 'safety-profile'
+    | 'rehearsal';
   /** The change in words, e.g. "Applicator profile “Probe A” is at version 3 (assessed on 2)". */
   message: string;
 }
@@ -138,6 +153,17 @@ export function snapshotChanges(
     changes.push({
       kind: 'safety-profile',
       message: `Safety profile “${current.safetyProfile.body.name}” is at version ${current.safetyProfile.version} (assessed on version ${assessed.safetyProfile.version}).`,
+    });
+  }
+  // A rehearsal switched off stays off in the comparison; settings changed since are named.
+  if (
+    assessed.rehearsal &&
+    current.rehearsal &&
+    stableJson(assessed.rehearsal) !== stableJson(current.rehearsal)
+  ) {
+    changes.push({
+      kind: 'rehearsal',
+      message: 'The case’s insertion-rehearsal settings have changed since the assessment.',
     });
   }
   return changes;

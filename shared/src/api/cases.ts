@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import type { LiverScores } from '../scores';
+import { rehearsalSettingsSchema, type RehearsalSettings } from './rehearsal-settings';
 
 export const primaryDiagnoses = ['hcc', 'crlm', 'icc', 'other'] as const;
 export type PrimaryDiagnosis = (typeof primaryDiagnoses)[number];
@@ -89,7 +90,11 @@ export type CreateCaseRequest = z.input<typeof createCaseSchema>;
 export const updateCaseSchema = createCaseSchema
   .omit({ boardId: true })
   .partial()
-  .extend({ status: z.enum(['draft', 'ready-for-board']).optional() })
+  .extend({
+    status: z.enum(['draft', 'ready-for-board']).optional(),
+    /** The case's insertion-rehearsal settings; null goes back to the defaults. */
+    rehearsal: rehearsalSettingsSchema.nullable().optional(),
+  })
   .refine((value) => Object.keys(value).length > 0, 'at least one field to change');
 export type UpdateCaseRequest = z.input<typeof updateCaseSchema>;
 
@@ -226,6 +231,10 @@ export interface CaseDetail {
   ecogPerformanceStatus: number | null;
   hasVascularInvasion: boolean | null;
   hasExtrahepaticSpread: boolean | null;
+  /** The insertion rehearsal's settings in force: the case's own, or the defaults. */
+  rehearsal: RehearsalSettings;
+  /** Whether the case has its own rehearsal settings. */
+  hasOwnRehearsalSettings: boolean;
   lesions: LesionView[];
   /** Newest first. */
   labPanels: LabPanelView[];

@@ -71,6 +71,15 @@ export const safetyProfileBodySchema = z.strictObject({
     'Team choice: a model zone should predict a zone table row it was not fitted to within about ' +
       'the 2 mm scan grid before it replaces the manufacturer table; review per device.',
   ),
+  /**
+   * Largest tip error (mm) of the robot-assisted insertion rehearsal above which the verdict
+   * carries a caution.
+   */
+  rehearsalToleranceMm: z.number().min(0).max(20).default(2),
+  rehearsalToleranceSource: thresholdSourceSchema.default(
+    'Common practice: robot-assisted needle placement aims at a tip within about 2 mm of the ' +
+      'target; the rehearsal is a simulation estimate, review per device and team.',
+  ),
   isDefault: z.boolean().optional(),
 });
 export type SafetyProfileBody = z.infer<typeof safetyProfileBodySchema>;

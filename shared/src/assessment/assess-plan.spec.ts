@@ -101,6 +101,8 @@ const safetyProfile: SafetyProfileBody = {
   capsuleSource: 'common practice',
   physicsToleranceMm: 2,
   physicsToleranceSource: 'common practice',
+  rehearsalToleranceMm: 2,
+  rehearsalToleranceSource: 'common practice',
 };
 
 function input(overrides: Partial<AssessmentInput> = {}): AssessmentInput {

@@ -10,7 +10,8 @@
  * What it shows is decision support: the treating team, local protocols and licensed practice
  * decide (`clinicalCaution`).
  */
-import type { AssessmentResult, ZoneModel } from '../api/assessments';
+import type { AssessmentResult, RehearsalReplay, ZoneModel } from '../api/assessments';
+import { RehearsalStopped } from '../rehearsal/insertion/rehearse-freehand';
 import { clinicalCaution } from '../api/caution';
 import { halfVoxelDiagonalMm } from '../geometry/path-clearance';
 import { lpsToVoxel, type VolumeGeometry } from '../geometry/patient-geometry';
@@ -49,6 +50,7 @@ import {
 import { kindCode, takeLabelInventory } from './label-inventory';
 import { judgePhysicsZone, physicsToleranceMm } from './physics-acceptance';
 import { planCrops } from './plan-crops';
+import { rehearseApplicators, type RehearsalStageOutput } from './rehearsal-stage';
 import { assessTrajectory, type TrajectoryFigures } from './trajectory-safety';
 import { treatedTumours } from './treated-tumours';
 import { vesselCalibre } from './vessel-calibre';
@@ -60,7 +62,7 @@ import { ellipsoidZoneSurface, maskZoneSurface } from './zone-surface';
 import { interpolateZoneTable } from './zone-table';
 
 /** Version of the engine, stored with every result. */
-export const ENGINE_VERSION = '1.1.0';
+export const ENGINE_VERSION = '1.2.0';
 
 export interface AssessPlanOptions {
   /** Hears each stage start and end, and the bioheat model's own progress. */
@@ -92,6 +94,8 @@ export interface AssessPlanOutput {
   };
   /** To show beside the verdict. */
   caution: string;
+  /** The insertion rehearsal's replays for the viewer (empty when it did not run). */
+  replays: RehearsalReplay[];
 }
 
 /** Thrown when `shouldAbort` answers true. */
@@ -109,7 +113,8 @@ export async function assessPlan(
   options: AssessPlanOptions = {},
 ): Promise<AssessPlanOutput> {
   const withBioheat = input.options.zoneModels.includes('bioheat');
-  const shares = stageShares(withBioheat);
+  const rehearsalRequest = input.options.rehearsal ?? null;
+  const shares = stageShares(withBioheat, rehearsalRequest !== null);
   const timingsMs: Partial<Record<AssessmentStage, number>> = {};
   let doneShare = 0;
   const report = (stage: AssessmentStage, fraction: number) =>
@@ -289,6 +294,41 @@ export async function assessPlan(
       heatSinkDistanceMm: safetyProfile.heatSinkDistanceMm,
     }),
   );
+  let rehearsed: RehearsalStageOutput | null = null;
+  if (rehearsalRequest) {
+    checkAbort();
+    report('rehearsal', doneShare);
+    const startedAt = monotonicMs();
+    const shareBefore = doneShare;
+    try {
+      rehearsed = rehearseApplicators(
+        {
+          geometry,
+          labelMap,
+          structures: input.structures,
+          applicators: input.applicators,
+          settings: rehearsalRequest.settings,
+          timeLimitMs: rehearsalRequest.timeLimitMs,
+        },
+        {
+          onFraction: (fraction) =>
+            report(
+              'rehearsal',
+              shareBefore + shares.rehearsal * Math.min(1, Math.max(0, fraction)),
+            ),
+          shouldAbort: options.shouldAbort,
+        },
+      );
+    } catch (error) {
+      if (error instanceof RehearsalStopped)
+        throw new AssessmentAborted('The assessment was stopped.');
+      if (!(error instanceof EngineRefusal)) throw error;
+      rehearsed = { rehearsal: [], replays: [], note: `Not rehearsed: ${error.message}` };
+    }
+    timingsMs.rehearsal = monotonicMs() - startedAt;
+    doneShare += shares.rehearsal;
+    report('rehearsal', doneShare);
+  }
   const applicators = trajectories.map((trajectory) => trajectory.safety);
   const verdict = stage('verdict', () =>
     judgePlan(
@@ -298,6 +338,7 @@ export async function assessPlan(
         zone: primary.figures.zone,
         heatSinks,
         cutZoneModels,
+        rehearsal: rehearsed?.rehearsal ?? [],
       },
       safetyProfile,
     ),
@@ -321,7 +362,11 @@ export async function assessPlan(
       primaryZoneModel,
       heatSinks,
       verdict,
+      ...(rehearsed ? { rehearsal: rehearsed.rehearsal } : {}),
+      ...(rehearsed?.note ? { rehearsalNote: rehearsed.note } : {}),
+      ...(rehearsalRequest ? {} : { rehearsalNote: 'The insertion rehearsal was switched off.' }),
     },
+    replays: rehearsed?.replays ?? [],
     zones: coverage.map((entry) =>
       zoneDisplay(entry.model, entry.mask, zoneCrop.geometry, entry.figures.zone.volumeMl),
     ),

@@ -7,6 +7,7 @@ import { zoneTableSchema, type ZoneTableRow } from '../api/applicator-profiles';
 import type { ApplicatorCalibration } from '../bioheat/calibration';
 import { checkHeatingParameters } from '../bioheat/heating-parameters';
 import { zoneModels, type ZoneModel } from '../api/assessments';
+import type { RehearsalSettings } from '../api/rehearsal-settings';
 import { maximumApplicatorsPerPlan, minimumApplicatorPathMm } from '../api/plans';
 import { safetyProfileBodySchema, type SafetyProfileBody } from '../api/safety-profiles';
 import { maxLabelValue, structureKinds, type StructureKind } from '../api/structures';
@@ -63,6 +64,11 @@ export interface AssessmentOptions {
    * (`DEFAULT_ASSESSMENT_CROP_MARGIN_MM`). Clearances beyond it are still exact, found another way.
    */
   cropMarginMm: number;
+  /**
+   * The insertion rehearsal (rehearsal-stage.ts): its settings and wall-clock limit; absent or
+   * null when switched off.
+   */
+  rehearsal?: { settings: RehearsalSettings; timeLimitMs: number } | null;
 }
 
 export interface AssessmentInput {

@@ -14,6 +14,7 @@ export const assessmentStages = [
   'bioheat-zone',
   'coverage',
   'heat-sinks',
+  'rehearsal',
   'verdict',
 ] as const;
 export type AssessmentStage = (typeof assessmentStages)[number];
@@ -29,6 +30,7 @@ export const assessmentStageLabels: Record<AssessmentStage, string> = {
   'bioheat-zone': 'Bioheat zone',
   coverage: 'Coverage',
   'heat-sinks': 'Heat sinks',
+  rehearsal: 'Insertion rehearsal',
   verdict: 'Verdict',
 };
 
@@ -54,11 +56,14 @@ const TABLE_RUN_SHARES: Record<AssessmentStage, number> = {
   'bioheat-zone': 0,
   coverage: 0.13,
   'heat-sinks': 0.3,
+  rehearsal: 0,
   verdict: 0.01,
 };
 
 /** Share of the bioheat zone when it runs: the physics dominates everything else. */
 const BIOHEAT_SHARE = 0.75;
+/** Share of the insertion rehearsal when it runs (measured on the demo plans: most of a run). */
+const REHEARSAL_SHARE = 0.8;
 
 /** Where an assessment is, for a progress bar. */
 export interface AssessmentProgress {
@@ -70,13 +75,22 @@ export interface AssessmentProgress {
 }
 
 /** Share of the whole run each stage takes. */
-export function stageShares(withBioheat: boolean): Record<AssessmentStage, number> {
+export function stageShares(
+  withBioheat: boolean,
+  withRehearsal = false,
+): Record<AssessmentStage, number> {
   const shares = { ...TABLE_RUN_SHARES };
-  if (!withBioheat) return shares;
-  for (const stage of Object.keys(shares) as AssessmentStage[]) {
-    shares[stage] *= 1 - BIOHEAT_SHARE;
+  const scaleAll = (factor: number) => {
+    for (const stage of Object.keys(shares) as AssessmentStage[]) shares[stage] *= factor;
+  };
+  if (withBioheat) {
+    scaleAll(1 - BIOHEAT_SHARE);
+    shares['bioheat-zone'] = BIOHEAT_SHARE;
   }
-  shares['bioheat-zone'] = BIOHEAT_SHARE;
+  if (withRehearsal) {
+    scaleAll(1 - REHEARSAL_SHARE);
+    shares.rehearsal = REHEARSAL_SHARE;
+  }
   return shares;
 }
 

@@ -19,3 +19,4 @@ export * from './bioheat-zone';
 export * from './physics-acceptance';
 export * from './zone-display';
 export * from './assess-plan';
+export * from './rehearsal-stage';

@@ -56,6 +56,8 @@ const profile: SafetyProfileBody = {
   capsuleSource: 'test',
   physicsToleranceMm: 2,
   physicsToleranceSource: 'common practice',
+  rehearsalToleranceMm: 2,
+  rehearsalToleranceSource: 'common practice',
 };
 
 /** Labels every voxel whose centre lies inside (axis-aligned grid). */

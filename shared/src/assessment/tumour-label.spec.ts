@@ -33,6 +33,8 @@ const profile: SafetyProfileBody = {
   capsuleSource: 'source C',
   physicsToleranceMm: 2,
   physicsToleranceSource: 'common practice',
+  rehearsalToleranceMm: 2,
+  rehearsalToleranceSource: 'common practice',
 };
 
 const linked = lesionLabel({ segment: 'VIII', diameterMm: 24 });

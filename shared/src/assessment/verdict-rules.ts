@@ -31,4 +31,8 @@ export const verdictRules = {
   pathBeyondSeries: 'path-beyond-series',
   /** A zone reaches the edge of the grid it was computed on, its figures cut short: caution. */
   zoneCut: 'zone-cut',
+  /** The robot-assisted rehearsal's tip ends farther from the target than the tolerance: caution. */
+  rehearsalTipError: 'rehearsal-tip-error',
+  /** Even the robot-assisted rehearsal cannot bring the tip into the tumour: refusal. */
+  rehearsalUnreachable: 'rehearsal-unreachable',
 } as const;

@@ -29,6 +29,8 @@ const profile: SafetyProfileBody = {
   capsuleSource: 'source C',
   physicsToleranceMm: 2,
   physicsToleranceSource: 'common practice',
+  rehearsalToleranceMm: 2,
+  rehearsalToleranceSource: 'common practice',
 };
 
 function applicator(overrides: Partial<ApplicatorSafety> = {}): ApplicatorSafety {

@@ -19,6 +19,7 @@ import type {
   VerdictReason,
   ZoneAssessment,
   ZoneModel,
+  ApplicatorRehearsal,
 } from '../api/assessments';
 import type { SafetyProfileBody } from '../api/safety-profiles';
 import type { StructureKind } from '../api/structures';
@@ -45,6 +46,8 @@ export interface VerdictFigures {
   heatSinks: readonly HeatSinkVessel[];
   /** Zone models whose zone reaches the edge of the grid it was computed on. */
   cutZoneModels: readonly ZoneModel[];
+  /** The insertion rehearsal of each applicator rehearsed (absent or empty: not judged). */
+  rehearsal?: readonly ApplicatorRehearsal[];
 }
 
 /** The verdict on the figures under the safety profile. */
@@ -80,7 +83,54 @@ export function judgePlan(figures: VerdictFigures, profile: SafetyProfileBody): 
         'the figures drawn from it may be understated.',
     });
   }
+  reasons.push(...rehearsalReasons(figures.rehearsal ?? [], figures.applicators.length, profile));
   return { level: levelOf(reasons), reasons };
+}
+
+/**
+ * The rehearsal's rules: a caution when the robot-assisted tip error exceeds the profile's
+ * tolerance; a refusal when even the assisted insertion ends outside the tumour. Both are
+ * simulation estimates (the message says so).
+ */
+function rehearsalReasons(
+  rehearsal: readonly ApplicatorRehearsal[],
+  count: number,
+  profile: SafetyProfileBody,
+): VerdictReason[] {
+  const reasons: VerdictReason[] = [];
+  const toleranceMm = profile.rehearsalToleranceMm ?? 2;
+  for (const entry of rehearsal) {
+    const name = applicatorName(entry.applicatorIndex, count);
+    if (!entry.reached) {
+      reasons.push({
+        rule: verdictRules.rehearsalUnreachable,
+        kind: null,
+        value: entry.assistedTipErrorMm ?? entry.freehandTipErrorMm,
+        threshold: toleranceMm,
+        severity: 'refusal',
+        message: [
+          `${name}: in the insertion rehearsal even the robot-assisted needle does not reach the tumour.`,
+          entry.notReachedReason,
+          'A simulation estimate: the treating team decides.',
+        ]
+          .filter(Boolean)
+          .join(' '),
+      });
+    } else if (entry.assistedTipErrorMm !== null && entry.assistedTipErrorMm > toleranceMm) {
+      reasons.push({
+        rule: verdictRules.rehearsalTipError,
+        kind: null,
+        value: entry.assistedTipErrorMm,
+        threshold: toleranceMm,
+        severity: 'caution',
+        message:
+          `${name}: in the insertion rehearsal the robot-assisted tip ends ` +
+          `${mm(entry.assistedTipErrorMm)} from the target, above the ${mm(toleranceMm)} ` +
+          'tolerance. A simulation estimate: the treating team decides.',
+      });
+    }
+  }
+  return reasons;
 }
 
 function levelOf(reasons: readonly VerdictReason[]): Verdict['level'] {

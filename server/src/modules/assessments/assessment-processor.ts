@@ -79,6 +79,9 @@ export function assessmentProcessor(dependencies: ProcessorDependencies) {
         log('A fitted calibration was not stored.', error),
       );
       if (output.display) await dependencies.displays.write(assessment.id, output.display);
+      if (output.replays?.length) {
+        await dependencies.displays.writeReplays(assessment.id, output.replays);
+      }
       await finishAssessment(orm, assessment.id, 'done', {
         result: withProfileVersions(output.result, snapshot),
       });

@@ -12,6 +12,7 @@ import {
   lesionLabel,
   stableJson,
   type AssessmentSnapshot,
+  type RehearsalSettings,
   type SnapshotApplicatorProfile,
 } from '@emberline/shared';
 import { ConflictError, NotFoundError } from '../../common/errors';
@@ -39,6 +40,7 @@ export async function takeSnapshot(
   safetyProfile: SafetyProfile,
   engineVersion: string,
   isBioheatRequested: boolean,
+  rehearsal: RehearsalSettings | null,
 ): Promise<{ snapshot: AssessmentSnapshot; hash: string }> {
   const series = await plan.series.load();
   if (!series) throw new NotFoundError('The plan’s series');
@@ -63,6 +65,7 @@ export async function takeSnapshot(
   const snapshot: AssessmentSnapshot = {
     engineVersion,
     isBioheatRequested,
+    rehearsal,
     plan: {
       id: plan.id,
       name: plan.name,

@@ -68,6 +68,7 @@ export async function taskInputFromSnapshot(
     safetyProfile: snapshot.safetyProfile.body,
     seriesKey: snapshot.labelMap.storageKey,
     isBioheatRequested: snapshot.isBioheatRequested,
+    rehearsal: snapshot.rehearsal ?? null,
   };
   return { input, transfer: [buffer] };
 }

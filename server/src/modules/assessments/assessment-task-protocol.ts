@@ -5,6 +5,8 @@
 import type {
   ApplicatorCalibration,
   AssessmentResult,
+  RehearsalReplay,
+  RehearsalSettings,
   SafetyProfileBody,
   StructureKind,
   VolumeGeometry,
@@ -37,6 +39,8 @@ export interface AssessmentTaskInput {
   seriesKey: string;
   /** Whether to run the bioheat model beside the table model. */
   isBioheatRequested: boolean;
+  /** The insertion rehearsal's settings, null when switched off. */
+  rehearsal: RehearsalSettings | null;
 }
 
 export interface TaskProgress {
@@ -59,6 +63,8 @@ export interface AssessmentTaskOutput {
   timingsMs: Record<string, number>;
   /** Binary display data for the client (zones and margins), already encoded. */
   display: ArrayBuffer | null;
+  /** The insertion rehearsal's replays for the viewer (empty when it did not run). */
+  replays: RehearsalReplay[];
   /** Calibrations the run had to fit (none was stored): the server stores them per version. */
   newCalibrations?: { profileId: string; calibration: ApplicatorCalibration }[];
 }

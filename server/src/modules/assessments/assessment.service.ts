@@ -3,6 +3,7 @@ import { UniqueConstraintViolationException } from '@mikro-orm/core';
 import type { EntityManager } from '@mikro-orm/postgresql';
 import {
   ENGINE_VERSION,
+  DEFAULT_REHEARSAL_SETTINGS,
   snapshotChanges,
   type AssessmentInputsView,
   type AssessmentProgressEvent,
@@ -15,6 +16,7 @@ import { hasRole } from '../../common/auth-middleware';
 import { AppError, ConflictError, ForbiddenError, NotFoundError } from '../../common/errors';
 import type { Actor, SignedInUser } from '../../common/request-context';
 import { recordAudit } from '../audit/audit.service';
+import { ClinicalCase } from '../cases/case.entity';
 import { visibilityFilter } from '../cases/case-visibility';
 import { assertCaseOpenForChanges } from '../cases/case-open-for-changes';
 import { NeedlePlan } from '../plans/needle-plan.entity';
@@ -116,6 +118,7 @@ export class AssessmentService {
       safetyProfile,
       ENGINE_VERSION,
       this.isBioheatRequested,
+      body.rehearsal === false ? null : (clinicalCase.rehearsal ?? DEFAULT_REHEARSAL_SETTINGS),
     );
     const reusable = await this.findReusable(plan.id, hash);
     if (reusable) return this.answerReused(actor, plan.id, reusable);
@@ -184,12 +187,14 @@ export class AssessmentService {
     const safetyProfile = await this.em.findOne(SafetyProfile, assessed.safetyProfile.id);
     if (!plan || !safetyProfile) return [];
     try {
+      const clinicalCase = await this.em.findOneOrFail(ClinicalCase, plan.clinicalCase.id);
       const { snapshot } = await takeSnapshot(
         this.em,
         plan,
         safetyProfile,
         ENGINE_VERSION,
         this.isBioheatRequested,
+        assessed.rehearsal === null ? null : (clinicalCase.rehearsal ?? DEFAULT_REHEARSAL_SETTINGS),
       );
       return snapshotChanges(assessed, snapshot);
     } catch (error) {

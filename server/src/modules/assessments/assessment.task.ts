@@ -62,6 +62,15 @@ function calibrationOf(
   return { calibration, isNew: true };
 }
 
+/**
+ * Wall-clock limit of the insertion rehearsal, ms: `ASSESSMENT_REHEARSAL_SECONDS` (default 120,
+ * below the task's own limit `ASSESSMENT_TIMEOUT_SECONDS`, 240, so the rest still finishes).
+ */
+function rehearsalTimeLimitMs(): number {
+  const seconds = Number(process.env.ASSESSMENT_REHEARSAL_SECONDS ?? 120);
+  return (Number.isFinite(seconds) && seconds > 0 ? seconds : 120) * 1000;
+}
+
 export default async function runAssessmentTask(task: {
   input: AssessmentTaskInput;
   port: MessagePort;
@@ -129,6 +138,9 @@ async function assess({
       options: {
         zoneModels: input.isBioheatRequested ? ['table', 'bioheat'] : ['table'],
         cropMarginMm: DEFAULT_ASSESSMENT_CROP_MARGIN_MM,
+        rehearsal: input.rehearsal
+          ? { settings: input.rehearsal, timeLimitMs: rehearsalTimeLimitMs() }
+          : null,
       },
     },
     {
@@ -164,6 +176,7 @@ async function assess({
         }
       : {}),
     timingsMs: run.timingsMs,
+    replays: run.replays,
     display: display.buffer.slice(
       display.byteOffset,
       display.byteOffset + display.byteLength,

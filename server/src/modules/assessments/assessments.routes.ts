@@ -1,7 +1,12 @@
 import { Router } from 'express';
 import type { MikroORM } from '@mikro-orm/postgresql';
 import { actorOf, requireSignIn, signedInUser } from '../../common/auth-middleware';
-import { requestAssessmentSchema } from '@emberline/shared';
+import {
+  rehearsalCaution,
+  requestAssessmentSchema,
+  type RehearsalReplay,
+  type RehearsalReplayView,
+} from '@emberline/shared';
 import { parse, pathId } from '../../common/validate';
 import { sendStoredFile } from '../../common/send-stored-file';
 import { NotFoundError } from '../../common/errors';
@@ -75,6 +80,26 @@ export function assessmentRoutes(orm: MikroORM, dependencies: AssessmentRouteDep
       throw new NotFoundError('The display data of this assessment');
     });
     await sendStoredFile(response, file);
+  });
+
+  router.get('/assessments/:id/rehearsal', requireSignIn, async (request, response) => {
+    const view = await service().get(
+      signedInUser(request),
+      actorOf(request),
+      pathId(request.params.id, 'The assessment'),
+    );
+    const missing = () => new NotFoundError('The insertion rehearsal of this assessment');
+    if (view.status !== 'done' || !view.result?.rehearsal?.length) throw missing();
+    const file = await dependencies.displays.openReplays(view.id).catch(() => {
+      throw missing();
+    });
+    const chunks: Buffer[] = [];
+    for await (const chunk of file.stream) chunks.push(chunk as Buffer);
+    const body: RehearsalReplayView = {
+      caution: rehearsalCaution,
+      replays: JSON.parse(Buffer.concat(chunks).toString('utf8')) as RehearsalReplay[],
+    };
+    response.json(body);
   });
 
   return router;

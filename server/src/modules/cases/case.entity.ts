@@ -9,7 +9,7 @@ import {
   Unique,
   type Ref,
 } from '@mikro-orm/core';
-import type { CaseStatus, PrimaryDiagnosis, Sex } from '@emberline/shared';
+import type { CaseStatus, PrimaryDiagnosis, RehearsalSettings, Sex } from '@emberline/shared';
 import { BaseEntity } from '../../common/base.entity';
 import { Board } from '../boards/board.entity';
 import { User } from '../users/user.entity';
@@ -57,6 +57,10 @@ export class ClinicalCase extends BaseEntity {
 
   @Property({ type: 'boolean', nullable: true })
   hasExtrahepaticSpread: boolean | null = null;
+
+  /** The case's own insertion-rehearsal settings; null: the defaults. */
+  @Property({ type: 'json', nullable: true })
+  rehearsal: RehearsalSettings | null = null;
 
   @OneToMany(() => Lesion, (lesion) => lesion.clinicalCase, { orphanRemoval: true })
   lesions = new Collection<Lesion>(this);

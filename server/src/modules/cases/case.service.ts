@@ -1,5 +1,6 @@
 import type { EntityManager } from '@mikro-orm/postgresql';
 import {
+  DEFAULT_REHEARSAL_SETTINGS,
   computeLiverScores,
   albuminToGDl,
   bilirubinToMgDl,
@@ -319,6 +320,8 @@ export class CaseService {
       ecogPerformanceStatus: found.ecogPerformanceStatus,
       hasVascularInvasion: found.hasVascularInvasion,
       hasExtrahepaticSpread: found.hasExtrahepaticSpread,
+      rehearsal: found.rehearsal ?? DEFAULT_REHEARSAL_SETTINGS,
+      hasOwnRehearsalSettings: found.rehearsal !== null,
       lesions: lesions.map((lesion) => ({
         id: lesion.id,
         segment: lesion.segment,

@@ -26,6 +26,8 @@ export function safetyProfileBody(profile: SafetyProfile): SafetyProfileBody {
     capsuleSource: profile.capsuleSource,
     physicsToleranceMm: profile.physicsToleranceMm,
     physicsToleranceSource: profile.physicsToleranceSource,
+    rehearsalToleranceMm: profile.rehearsalToleranceMm,
+    rehearsalToleranceSource: profile.rehearsalToleranceSource,
   };
 }
 

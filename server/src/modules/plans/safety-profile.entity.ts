@@ -70,6 +70,12 @@ export class SafetyProfile extends BaseEntity {
   @Property({ type: 'text' })
   physicsToleranceSource: string;
 
+  @Property({ type: 'double', default: 2 })
+  rehearsalToleranceMm: number;
+
+  @Property({ type: 'text', default: '' })
+  rehearsalToleranceSource: string;
+
   /**
    * The version the thresholds are at. A version that an assessment used is frozen in
    * `SafetyProfileVersion`; editing it makes the next version.
@@ -100,6 +106,8 @@ export class SafetyProfile extends BaseEntity {
     this.capsuleSource = fields.capsuleSource;
     this.physicsToleranceMm = fields.physicsToleranceMm;
     this.physicsToleranceSource = fields.physicsToleranceSource;
+    this.rehearsalToleranceMm = fields.rehearsalToleranceMm;
+    this.rehearsalToleranceSource = fields.rehearsalToleranceSource;
   }
 }
 
@@ -124,5 +132,7 @@ export type SafetyProfileFields = Pick<
   | 'capsuleSource'
   | 'physicsToleranceMm'
   | 'physicsToleranceSource'
+  | 'rehearsalToleranceMm'
+  | 'rehearsalToleranceSource'
   | 'isDefault'
 >;

@@ -169,6 +169,8 @@ export function toSafetyProfileView(profile: SafetyProfile): SafetyProfileView {
     capsuleSource: profile.capsuleSource,
     physicsToleranceMm: profile.physicsToleranceMm,
     physicsToleranceSource: profile.physicsToleranceSource,
+    rehearsalToleranceMm: profile.rehearsalToleranceMm,
+    rehearsalToleranceSource: profile.rehearsalToleranceSource,
     isDefault: profile.isDefault,
     version: profile.version,
     createdAt: profile.createdAt.toISOString(),

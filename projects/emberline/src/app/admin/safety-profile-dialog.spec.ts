@@ -39,6 +39,8 @@ const defaultProfile: SafetyProfileView = {
   capsuleSource: 'Invented for the test',
   physicsToleranceMm: 2,
   physicsToleranceSource: 'Invented for the test',
+  rehearsalToleranceMm: 2,
+  rehearsalToleranceSource: 'Invented for the test',
   isDefault: true,
   version: 2,
   createdAt: '2026-11-30T09:00:00.000Z',

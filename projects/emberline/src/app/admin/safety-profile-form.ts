@@ -33,14 +33,16 @@ export type ThresholdField =
   | 'maximumAngulationDeg'
   | 'minimumParenchymaBeforeTumourMm'
   | 'maximumCapsuleCrossings'
-  | 'physicsToleranceMm';
+  | 'physicsToleranceMm'
+  | 'rehearsalToleranceMm';
 export type ThresholdSourceField =
   | 'marginTargetSource'
   | 'marginMinimumSource'
   | 'angulationSource'
   | 'parenchymaSource'
   | 'capsuleSource'
-  | 'physicsToleranceSource';
+  | 'physicsToleranceSource'
+  | 'rehearsalToleranceSource';
 
 export interface ThresholdDefinition {
   field: ThresholdField;
@@ -107,6 +109,15 @@ export const thresholdDefinitions: readonly ThresholdDefinition[] = [
     hint: "Largest error of the heating model against a profile's own zone table for which its zone may decide the verdict",
     step: 'any',
   },
+  {
+    field: 'rehearsalToleranceMm',
+    sourceField: 'rehearsalToleranceSource',
+    label: 'Rehearsal tip tolerance (mm)',
+    sourceLabel: 'Source of the rehearsal tolerance',
+    unit: 'mm',
+    hint: 'Robot-assisted tip error in the insertion rehearsal above which the verdict carries a caution',
+    step: 'any',
+  },
 ];
 
 const shape = safetyProfileBodySchema.shape;
@@ -160,6 +171,13 @@ export function safetyProfileForm(
     physicsToleranceSource: source(
       profile ? profile.physicsToleranceSource : shape.physicsToleranceSource.parse(undefined),
     ),
+    rehearsalToleranceMm: number(
+      'rehearsalToleranceMm',
+      profile ? profile.rehearsalToleranceMm : shape.rehearsalToleranceMm.parse(undefined),
+    ),
+    rehearsalToleranceSource: source(
+      profile ? profile.rehearsalToleranceSource : shape.rehearsalToleranceSource.parse(undefined),
+    ),
     isDefault: new FormControl(profile?.isDefault ?? false, { nonNullable: true }),
   });
 }
@@ -198,6 +216,7 @@ export function safetyProfileBody(
     minimumParenchymaBeforeTumourMm,
     maximumCapsuleCrossings,
     physicsToleranceMm,
+    rehearsalToleranceMm,
   } = value;
   if (
     marginTargetMm === null ||
@@ -207,7 +226,8 @@ export function safetyProfileBody(
     maximumAngulationDeg === null ||
     minimumParenchymaBeforeTumourMm === null ||
     maximumCapsuleCrossings === null ||
-    physicsToleranceMm === null
+    physicsToleranceMm === null ||
+    rehearsalToleranceMm === null
   ) {
     return null;
   }
@@ -230,6 +250,8 @@ export function safetyProfileBody(
     capsuleSource: value.capsuleSource,
     physicsToleranceMm,
     physicsToleranceSource: value.physicsToleranceSource,
+    rehearsalToleranceMm,
+    rehearsalToleranceSource: value.rehearsalToleranceSource,
   };
 }
 

@@ -37,6 +37,8 @@ function profile(overrides: Partial<SafetyProfileView>): SafetyProfileView {
     capsuleSource: 'Invented for the test',
     physicsToleranceMm: 2,
     physicsToleranceSource: 'Invented for the test',
+    rehearsalToleranceMm: 2,
+    rehearsalToleranceSource: 'Invented for the test',
     isDefault: true,
     version: 1,
     createdAt: '2026-11-30T09:00:00.000Z',

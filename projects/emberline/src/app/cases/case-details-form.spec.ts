@@ -2,7 +2,7 @@ import { provideHttpClient } from '@angular/common/http';
 import { HttpTestingController, provideHttpClientTesting } from '@angular/common/http/testing';
 import { provideZonelessChangeDetection } from '@angular/core';
 import { TestBed, type ComponentFixture } from '@angular/core/testing';
-import { computeLiverScores, type CaseDetail } from '@emberline/shared';
+import { computeLiverScores, DEFAULT_REHEARSAL_SETTINGS, type CaseDetail } from '@emberline/shared';
 import { element, submit, textOf, typeInto } from '../../testing/dom';
 import { CaseDetailsForm } from './case-details-form';
 
@@ -18,6 +18,8 @@ const detail: CaseDetail = {
   ecogPerformanceStatus: null,
   hasVascularInvasion: null,
   hasExtrahepaticSpread: null,
+  rehearsal: DEFAULT_REHEARSAL_SETTINGS,
+  hasOwnRehearsalSettings: false,
   lesions: [],
   labPanels: [],
   scores: computeLiverScores({ lesionDiametersMm: [] }),

@@ -24,6 +24,7 @@ export const clinicalStageWords: Record<AssessmentStage | TaskStage, string> = {
   'bioheat-zone': 'Simulating how the tissue heats (physics model)',
   coverage: 'Measuring tumour coverage and ablative margins',
   'heat-sinks': 'Looking for vessels that may cool the zone',
+  rehearsal: 'Rehearsing the insertion in the breathing liver',
   verdict: 'Applying the safety profile’s rules',
 };
 

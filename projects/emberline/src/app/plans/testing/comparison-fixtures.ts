@@ -80,6 +80,8 @@ export function safetyProfile(version: number): SafetyProfileView {
     capsuleSource: 'Invented',
     physicsToleranceMm: 2,
     physicsToleranceSource: 'Invented',
+    rehearsalToleranceMm: 2,
+    rehearsalToleranceSource: 'common practice',
     createdAt: '2026-11-01T09:00:00.000Z',
     updatedAt: '2026-11-01T09:00:00.000Z',
   };

@@ -1,0 +1,345 @@
+/**
+ * The insertion rehearsal as a stage of the assessment: for each applicator, the liver of the
+ * series is meshed (../rehearsal/mesh), breathes (Lujan's model) and takes the needle from the
+ * applicator's skin entry to its planned tip twice — free-hand along the planned line, and
+ * robot-assisted with the base steered by inverse simulation (../rehearsal/assisted). The result
+ * gives the tip errors, the target's motion, the error along the path, and frames for the
+ * viewer's replay.
+ *
+ * > A simulation estimate with textbook and assumed parameters, not a prediction for this
+ * > patient; the treating team, local protocols and licensed practice decide.
+ */
+import type {
+  ApplicatorRehearsal,
+  RehearsalFrame,
+  RehearsalMeshResolution,
+  RehearsalReplay,
+  RehearsalStrategy,
+} from '../api/assessments';
+import type { RehearsalSettings } from '../api/rehearsal-settings';
+import type { VolumeGeometry } from '../geometry/patient-geometry';
+import { distance, type Vec3 } from '../geometry/vector';
+import { rehearseAssisted } from '../rehearsal/assisted/rehearse-assisted';
+import { RehearsalStopped, rehearseFreehand } from '../rehearsal/insertion/rehearse-freehand';
+import type { FreehandOptions, FreehandResult } from '../rehearsal/insertion/rehearse-freehand';
+import type { InsertionSimulation } from '../rehearsal/insertion/insertion-simulation';
+import type { NeedlePose } from '../rehearsal/insertion/needle';
+import { needleTipMm } from '../rehearsal/insertion/needle';
+import { buildOrganMesh } from '../rehearsal/mesh/organ-mesh';
+import { surfaceNodes } from '../rehearsal/mesh/mesh-faces';
+import type { TetMesh } from '../rehearsal/mesh/tet-mesh';
+import type { AssessmentApplicator, AssessmentStructure } from './assessment-input';
+import { EngineRefusal } from './engine-refusal';
+import { monotonicMs } from './assessment-stages';
+
+/** The run's fixed choices (README of the assessment engine, "Insertion rehearsal"). */
+const TIME_STEP_S = 0.04;
+const SPEED_MM_PER_S = 10;
+const START_PHASE = 0.75;
+const WARM_UP_CYCLES = 1;
+const STRATEGY: RehearsalStrategy = 'pseudo-constraints';
+/** Replay frames: one every this many seconds, from this long before the needle moves. */
+const FRAME_EVERY_S = 0.2;
+const FRAMES_BEFORE_S = 1;
+
+export interface RehearsalStageInput {
+  geometry: VolumeGeometry;
+  labelMap: Uint8Array | Uint16Array;
+  structures: readonly AssessmentStructure[];
+  applicators: readonly Pick<AssessmentApplicator, 'entry' | 'target'>[];
+  settings: RehearsalSettings;
+  /** Wall-clock limit of the whole stage, ms. */
+  timeLimitMs: number;
+}
+
+export interface RehearsalStageOutput {
+  rehearsal: ApplicatorRehearsal[];
+  replays: RehearsalReplay[];
+  /** Why some or all applicators have no rehearsal, in words. */
+  note?: string;
+}
+
+/**
+ * Rehearses every applicator. `onFraction` hears progress 0–1; `shouldAbort` true throws the
+ * caller's abort (checked every step). The time limit ends the stage with a note, keeping the
+ * applicators finished.
+ */
+export function rehearseApplicators(
+  input: RehearsalStageInput,
+  options: { onFraction?: (fraction: number) => void; shouldAbort?: () => boolean } = {},
+): RehearsalStageOutput {
+  const started = monotonicMs();
+  const organLabels = input.structures
+    .filter((structure) => structure.kind === 'liver' || structure.kind === 'tumour')
+    .map((structure) => structure.labelValue);
+  if (!input.structures.some((structure) => structure.kind === 'liver')) {
+    return { rehearsal: [], replays: [], note: 'Not rehearsed: the series has no liver label.' };
+  }
+  const { mesh } = buildOrganMesh({
+    labels: input.labelMap,
+    geometry: input.geometry,
+    organLabels,
+    resolution: input.settings.resolution,
+  });
+  const surface = surfaceOf(mesh);
+  const tumours = tumourSpheres(input);
+  const rehearsal: ApplicatorRehearsal[] = [];
+  const replays: RehearsalReplay[] = [];
+  const skipped: string[] = [];
+  const runs = 2 * input.applicators.length;
+  let runsDone = 0;
+  const shouldStop = (): string | null => {
+    if (options.shouldAbort?.()) return 'aborted';
+    return monotonicMs() - started > input.timeLimitMs ? 'time limit' : null;
+  };
+  for (const [index, applicator] of input.applicators.entries()) {
+    const common: FreehandOptions = {
+      mesh,
+      plan: { startMm: applicator.entry, targetMm: applicator.target },
+      boundary: { breathing: input.settings.breathing },
+      solver: {
+        timeStepS: TIME_STEP_S,
+        material: input.settings.material,
+      },
+      speedMmPerS: SPEED_MM_PER_S,
+      startPhase: START_PHASE,
+      warmUpCycles: WARM_UP_CYCLES,
+      shouldStop,
+    };
+    const expectedSteps =
+      (WARM_UP_CYCLES * input.settings.breathing.periodS) / TIME_STEP_S +
+      distance(applicator.entry, applicator.target) / (SPEED_MM_PER_S * TIME_STEP_S);
+    let steps = 0;
+    const progress = () => {
+      steps++;
+      if (steps % 10 === 0) {
+        options.onFraction?.(Math.min(1, (runsDone + Math.min(1, steps / expectedSteps)) / runs));
+      }
+    };
+    try {
+      const freehandFrames = frameRecorder(surface);
+      const freehand = rehearseFreehand({
+        ...common,
+        onStep: (record, simulation, pose) => {
+          progress();
+          freehandFrames.record(simulation, pose, record.depthMm ?? 0);
+        },
+      });
+      runsDone++;
+      steps = 0;
+      const assistedFrames = frameRecorder(surface);
+      const stepMs: number[] = [];
+      const assisted = rehearseAssisted({
+        ...common,
+        control: { strategy: STRATEGY },
+        onStep: (record, simulation, pose) => {
+          progress();
+          assistedFrames.record(simulation, pose, record.depthMm ?? 0);
+        },
+        onControlStep: (step) => stepMs.push(step.stepMs),
+      });
+      runsDone++;
+      const tumour = nearestTumour(tumours, applicator.target);
+      const reachRadiusMm = tumour ? tumour.radiusMm : null;
+      const assistedError = assisted.finalTipErrorMm;
+      const reached =
+        Number.isFinite(assistedError) && reachRadiusMm !== null
+          ? assistedError < reachRadiusMm
+          : Number.isFinite(assistedError);
+      rehearsal.push({
+        applicatorIndex: index,
+        freehandTipErrorMm: round(freehand.finalTipErrorMm, 2),
+        assistedTipErrorMm: Number.isFinite(assistedError) ? round(assistedError, 2) : null,
+        reached,
+        ...(reached
+          ? {}
+          : {
+              notReachedReason:
+                reachRadiusMm === null
+                  ? 'The assisted insertion did not end at a finite position.'
+                  : `Even steered, the tip ends ${round(assistedError, 1)} mm from the target, ` +
+                    `beyond the tumour's radius (about ${round(reachRadiusMm, 1)} mm).`,
+            }),
+        targetMotionMm: round(freehand.target.breathingMaxDisplacementMm, 2),
+        targetSiRangeMm: round(freehand.target.breathingSiRangeMm, 2),
+        errorAlongPath: pathSamples(freehand, assisted),
+        meshNodes: mesh.nodes.length / 3,
+        meshResolution: input.settings.resolution,
+        breathing: { ...input.settings.breathing },
+        strategy: STRATEGY,
+        stepMs: round(median(stepMs), 1),
+      });
+      replays.push(
+        {
+          applicatorIndex: index,
+          mode: 'freehand',
+          triangles: surface.triangles,
+          frames: freehandFrames.frames,
+        },
+        {
+          applicatorIndex: index,
+          mode: 'assisted',
+          triangles: surface.triangles,
+          frames: assistedFrames.frames,
+        },
+      );
+    } catch (error) {
+      if (error instanceof RehearsalStopped) {
+        if (error.message === 'aborted') throw error;
+        const done = rehearsal.length;
+        return {
+          rehearsal,
+          replays,
+          note:
+            `The rehearsal stopped at its time limit of ${Math.round(input.timeLimitMs / 1000)} s ` +
+            `with ${done} of ${input.applicators.length} applicator${input.applicators.length === 1 ? '' : 's'} rehearsed.`,
+        };
+      }
+      if (error instanceof EngineRefusal) {
+        skipped.push(`applicator ${index + 1}: ${error.message}`);
+        runsDone = 2 * (index + 1);
+        continue;
+      }
+      throw error;
+    }
+  }
+  options.onFraction?.(1);
+  return {
+    rehearsal,
+    replays,
+    ...(skipped.length ? { note: `Not rehearsed — ${skipped.join('; ')}` } : {}),
+  };
+}
+
+/** Free-hand and assisted errors at the same depths (both runs share the schedule). */
+function pathSamples(
+  freehand: FreehandResult,
+  assisted: FreehandResult,
+): ApplicatorRehearsal['errorAlongPath'] {
+  return freehand.path.map((sample, i) => ({
+    depthMm: round(sample.depthMm, 1),
+    freehandMm: round(sample.pathErrorMm, 2),
+    assistedMm: i < assisted.path.length ? round(assisted.path[i].pathErrorMm, 2) : null,
+  }));
+}
+
+interface Surface {
+  nodes: Uint32Array;
+  triangles: number[];
+}
+
+/** The mesh's boundary: its nodes and its triangles renumbered over them. */
+function surfaceOf(mesh: TetMesh): Surface {
+  const nodes = surfaceNodes(mesh);
+  const index = new Map<number, number>();
+  nodes.forEach((node, i) => index.set(node, i));
+  return { nodes, triangles: Array.from(mesh.boundaryFaces, (node) => index.get(node) ?? 0) };
+}
+
+/** Collects replay frames every FRAME_EVERY_S from FRAMES_BEFORE_S before the needle moves. */
+function frameRecorder(surface: Surface) {
+  const frames: RehearsalFrame[] = [];
+  const history: { simulationTimeS: number; frame: () => RehearsalFrame }[] = [];
+  let lastTimeS = -Infinity;
+  let insertionStartS: number | null = null;
+  const snap = (simulation: InsertionSimulation, pose: NeedlePose | null, depthMm: number) => {
+    const x = simulation.solver.positionsM;
+    const surfaceMm: number[] = new Array(3 * surface.nodes.length);
+    surface.nodes.forEach((node, i) => {
+      for (let a = 0; a < 3; a++) surfaceMm[3 * i + a] = Math.round(x[3 * node + a] * 10000) / 10;
+    });
+    const target = simulation.targetMm().map((v) => round(v, 1)) as Vec3;
+    const base = (pose?.baseMm ?? [0, 0, 0]).map((v) => round(v, 1)) as Vec3;
+    const tip = pose ? (needleTipMm(pose, depthMm).map((v) => round(v, 1)) as Vec3) : base;
+    return {
+      timeS: round(simulation.timeS, 3),
+      depthMm: round(depthMm, 1),
+      surfaceMm,
+      baseMm: base,
+      tipMm: tip,
+      targetMm: target,
+    };
+  };
+  return {
+    frames,
+    record(simulation: InsertionSimulation, pose: NeedlePose | null, depthMm: number) {
+      const t = simulation.timeS;
+      if (pose === null) {
+        // Before the needle moves: keep only the last FRAMES_BEFORE_S of the warm-up.
+        if (t - lastTimeS + 1e-9 < FRAME_EVERY_S) return;
+        lastTimeS = t;
+        const frame = snap(simulation, null, 0);
+        history.push({ simulationTimeS: t, frame: () => frame });
+        while (history.length > 0 && t - history[0].simulationTimeS > FRAMES_BEFORE_S + 1e-9) {
+          history.shift();
+        }
+        return;
+      }
+      if (insertionStartS === null) {
+        insertionStartS = t;
+        for (const entry of history) frames.push(entry.frame());
+        history.length = 0;
+      }
+      if (t - lastTimeS + 1e-9 < FRAME_EVERY_S) return;
+      lastTimeS = t;
+      frames.push(snap(simulation, pose, depthMm));
+    },
+  };
+}
+
+interface TumourSphere {
+  centreMm: Vec3;
+  radiusMm: number;
+}
+
+/** Each tumour label's centroid and equivalent-sphere radius (r = (3V/4π)^⅓). */
+function tumourSpheres(input: RehearsalStageInput): TumourSphere[] {
+  const tumourLabels = new Map<number, { sum: Vec3; count: number }>();
+  for (const structure of input.structures) {
+    if (structure.kind === 'tumour')
+      tumourLabels.set(structure.labelValue, { sum: [0, 0, 0], count: 0 });
+  }
+  if (tumourLabels.size === 0) return [];
+  const { dimensions, spacingMm, originLps, direction } = input.geometry;
+  const [nx, ny, nz] = dimensions;
+  let index = 0;
+  for (let k = 0; k < nz; k++) {
+    for (let j = 0; j < ny; j++) {
+      for (let i = 0; i < nx; i++, index++) {
+        const entry = tumourLabels.get(input.labelMap[index]);
+        if (!entry) continue;
+        entry.sum[0] += i;
+        entry.sum[1] += j;
+        entry.sum[2] += k;
+        entry.count++;
+      }
+    }
+  }
+  const voxelMm3 = spacingMm[0] * spacingMm[1] * spacingMm[2];
+  const spheres: TumourSphere[] = [];
+  for (const { sum, count } of tumourLabels.values()) {
+    if (count === 0) continue;
+    const ijk = sum.map((v) => v / count);
+    const centreMm = [0, 1, 2].map(
+      (a) =>
+        originLps[a] +
+        direction[0][a] * spacingMm[0] * ijk[0] +
+        direction[1][a] * spacingMm[1] * ijk[1] +
+        direction[2][a] * spacingMm[2] * ijk[2],
+    ) as Vec3;
+    spheres.push({ centreMm, radiusMm: Math.cbrt((3 * count * voxelMm3) / (4 * Math.PI)) });
+  }
+  return spheres;
+}
+
+function nearestTumour(spheres: TumourSphere[], point: Vec3): TumourSphere | null {
+  let best: TumourSphere | null = null;
+  for (const sphere of spheres) {
+    if (!best || distance(sphere.centreMm, point) < distance(best.centreMm, point)) best = sphere;
+  }
+  return best;
+}
+
+const round = (value: number, digits: number): number => Number(value.toFixed(digits));
+const median = (values: number[]): number =>
+  values.length === 0 ? 0 : [...values].sort((a, b) => a - b)[values.length >> 1];

@@ -19,8 +19,8 @@ import type {
 import type { RehearsalSettings } from '../api/rehearsal-settings';
 import type { VolumeGeometry } from '../geometry/patient-geometry';
 import { distance, type Vec3 } from '../geometry/vector';
-import { rehearseAssisted } from '../rehearsal/assisted/rehearse-assisted';
-import { RehearsalStopped, rehearseFreehand } from '../rehearsal/insertion/rehearse-freehand';
+import { rehearseFreehandAndAssisted } from '../rehearsal/assisted/rehearse-assisted';
+import { RehearsalStopped } from '../rehearsal/insertion/rehearse-freehand';
 import type { FreehandOptions, FreehandResult } from '../rehearsal/insertion/rehearse-freehand';
 import type { InsertionSimulation } from '../rehearsal/insertion/insertion-simulation';
 import type { NeedlePose } from '../rehearsal/insertion/needle';
@@ -33,9 +33,10 @@ import { EngineRefusal } from './engine-refusal';
 import { monotonicMs } from './assessment-stages';
 
 /** The run's fixed choices (README of the assessment engine, "Insertion rehearsal"). */
-const TIME_STEP_S = 0.04;
+const TIME_STEP_S = 0.05;
 const SPEED_MM_PER_S = 10;
-const START_PHASE = 0.75;
+/** The needle starts at the imaged (planned) phase: mid-exhalation's rest (0.5). */
+const START_PHASE = 0.5;
 const WARM_UP_CYCLES = 1;
 const STRATEGY: RehearsalStrategy = 'pseudo-constraints';
 /** Replay frames: one every this many seconds, from this long before the needle moves. */
@@ -86,7 +87,7 @@ export function rehearseApplicators(
   const rehearsal: ApplicatorRehearsal[] = [];
   const replays: RehearsalReplay[] = [];
   const skipped: string[] = [];
-  const runs = 2 * input.applicators.length;
+  const runs = input.applicators.length;
   let runsDone = 0;
   const shouldStop = (): string | null => {
     if (options.shouldAbort?.()) return 'aborted';
@@ -106,9 +107,10 @@ export function rehearseApplicators(
       warmUpCycles: WARM_UP_CYCLES,
       shouldStop,
     };
+    // One shared warm-up, then two insertions (an upper bound: the needle starts near the capsule).
     const expectedSteps =
       (WARM_UP_CYCLES * input.settings.breathing.periodS) / TIME_STEP_S +
-      distance(applicator.entry, applicator.target) / (SPEED_MM_PER_S * TIME_STEP_S);
+      (2 * distance(applicator.entry, applicator.target)) / (SPEED_MM_PER_S * TIME_STEP_S);
     let steps = 0;
     const progress = () => {
       steps++;
@@ -117,28 +119,22 @@ export function rehearseApplicators(
       }
     };
     try {
-      const freehandFrames = frameRecorder(surface);
-      const freehand = rehearseFreehand({
-        ...common,
-        onStep: (record, simulation, pose) => {
-          progress();
-          freehandFrames.record(simulation, pose, record.depthMm ?? 0);
-        },
-      });
-      runsDone++;
-      steps = 0;
-      const assistedFrames = frameRecorder(surface);
+      const frames = [frameRecorder(surface), frameRecorder(surface)];
       const stepMs: number[] = [];
-      const assisted = rehearseAssisted({
+      const { freehand, assisted } = rehearseFreehandAndAssisted({
         ...common,
         control: { strategy: STRATEGY },
-        onStep: (record, simulation, pose) => {
+        onStep: (record, simulation, pose, run) => {
           progress();
-          assistedFrames.record(simulation, pose, record.depthMm ?? 0);
+          // The warm-up is shared: both replays show its last second.
+          for (const [k, recorder] of frames.entries()) {
+            if (run === -1 || run === k) recorder.record(simulation, pose, record.depthMm ?? 0);
+          }
         },
         onControlStep: (step) => stepMs.push(step.stepMs),
       });
-      runsDone++;
+      runsDone += 1;
+      const [freehandFrames, assistedFrames] = frames;
       const tumour = nearestTumour(tumours, applicator.target);
       const reachRadiusMm = tumour ? tumour.radiusMm : null;
       const assistedError = assisted.finalTipErrorMm;
@@ -197,7 +193,7 @@ export function rehearseApplicators(
       }
       if (error instanceof EngineRefusal) {
         skipped.push(`applicator ${index + 1}: ${error.message}`);
-        runsDone = 2 * (index + 1);
+        runsDone = index + 1;
         continue;
       }
       throw error;

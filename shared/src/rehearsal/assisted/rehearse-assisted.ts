@@ -7,10 +7,12 @@
  * > licensed practice decide how a needle is placed.
  */
 import {
-  runInsertion,
+  runInsertions,
   type FreehandOptions,
   type FreehandResult,
+  type Steering,
 } from '../insertion/rehearse-freehand';
+import type { InsertionSimulation } from '../insertion/insertion-simulation';
 import type { NeedlePose } from '../insertion/needle';
 import {
   AssistedController,
@@ -38,10 +40,29 @@ const median = (values: number[]): number =>
 
 /** Runs a robot-assisted insertion along the plan. Refuses bad options (EngineRefusal). */
 export function rehearseAssisted(options: AssistedOptions): AssistedResult {
+  return runWithController(options, false).assisted;
+}
+
+/**
+ * The free-hand and the robot-assisted insertion from one shared warm-up (the same breathing
+ * state when the needle starts): what the assessment shows side by side.
+ */
+export function rehearseFreehandAndAssisted(options: AssistedOptions): {
+  freehand: FreehandResult;
+  assisted: AssistedResult;
+} {
+  const { freehand, assisted } = runWithController(options, true);
+  return { freehand: freehand as FreehandResult, assisted };
+}
+
+function runWithController(
+  options: AssistedOptions,
+  withFreehand: boolean,
+): { freehand: FreehandResult | null; assisted: AssistedResult } {
   const jacobianMs: number[] = [];
   let controller: AssistedController | null = null;
   let finalPose: NeedlePose | null = null;
-  const result = runInsertion(options, (simulation) => {
+  const steered = (simulation: InsertionSimulation): Steering => {
     const objective = pathObjective(simulation.mesh, options.plan, simulation.capsuleEntryMm);
     const made = new AssistedController(simulation, objective, options.control);
     controller = made;
@@ -54,15 +75,20 @@ export function rehearseAssisted(options: AssistedOptions): AssistedResult {
         return { record: step.record, pose: step.pose };
       },
     };
-  });
+  };
+  const results = runInsertions(options, withFreehand ? [null, steered] : [steered]);
+  const result = results[results.length - 1];
   return {
-    ...result,
-    jacobianMedianMs: median(jacobianMs),
-    strategy: (controller as AssistedController | null)?.strategy ?? 'factorised',
-    finalPose: finalPose ?? {
-      baseMm: [...options.plan.startMm],
-      direction: [0, 0, 1],
-      rollRad: 0,
+    freehand: withFreehand ? results[0] : null,
+    assisted: {
+      ...result,
+      jacobianMedianMs: median(jacobianMs),
+      strategy: (controller as AssistedController | null)?.strategy ?? 'factorised',
+      finalPose: finalPose ?? {
+        baseMm: [...options.plan.startMm],
+        direction: [0, 0, 1],
+        rollRad: 0,
+      },
     },
   };
 }

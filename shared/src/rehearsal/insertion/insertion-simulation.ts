@@ -208,7 +208,9 @@ export class InsertionSimulation {
   readonly mesh: TetMesh;
   readonly solver: TissueSolver;
   readonly breathing: BreathingBoundary;
-  readonly needle: Needle;
+  /** The needle (a fresh one after `restoreState`). */
+  needle: Needle;
+  private readonly needleParameters: Partial<NeedleParameters> | undefined;
   readonly constraintSolver: ConstraintSolver;
   /** The table of the precomputed compliance (null in exact mode). */
   readonly complianceTable: PrecomputedCompliance | null;
@@ -270,6 +272,7 @@ export class InsertionSimulation {
     this.solver = new TissueSolver(mesh, solverOptions);
     const startTimeS = checkNumber(options.startTimeS ?? 0, 'startTimeS', -1e9, 1e9);
     this.solver.setState({ timeS: startTimeS });
+    this.needleParameters = options.needle;
     this.needle = new Needle(mesh, options.needle);
     this.constraintOptions = options.constraints ?? {};
 
@@ -373,6 +376,26 @@ export class InsertionSimulation {
     const report = this.solver.freeMotion();
     this.freeMotionMs = monotonicMs() - started;
     this.freeMotionIterations = report.solve.iterations;
+  }
+
+  /**
+   * The tissue's state between steps, before the needle has touched it (a warm-up shared by
+   * several insertions); `restoreState` goes back to it with a fresh needle.
+   */
+  saveState(): TissueSolverSnapshot {
+    if (this.isInStep) refuse('step', 'Commit the step before saving the state.');
+    if (this.needle.points.length > 0 || this.needle.punctured) {
+      refuse('needle', 'The state is saved before the needle touches the tissue.');
+    }
+    return this.solver.snapshot();
+  }
+
+  restoreState(state: TissueSolverSnapshot): void {
+    if (this.isInStep) refuse('step', 'Commit the step before restoring a state.');
+    this.solver.restore(state);
+    this.needle = new Needle(this.mesh, this.needleParameters);
+    this.isPreloaded = false;
+    this.solver.setExternalForces(null);
   }
 
   /** Whether a step has been begun and not yet committed. */

@@ -37,7 +37,12 @@ export interface FreehandOptions extends Omit<InsertionSimulationOptions, 'start
   /** Hold the breath from the moment the needle starts (default false: free breathing). */
   breathHold?: boolean;
   /** Called after every step (for progress or drawing), with the needle's pose (null before). */
-  onStep?: (record: StepRecord, simulation: InsertionSimulation, pose: NeedlePose | null) => void;
+  onStep?: (
+    record: StepRecord,
+    simulation: InsertionSimulation,
+    pose: NeedlePose | null,
+    run: number,
+  ) => void;
   /**
    * Asked before every step: a reason in words stops the run with `RehearsalStopped` (a time
    * limit, a cancelled job); null goes on.
@@ -133,6 +138,19 @@ export function runInsertion(
   options: FreehandOptions,
   makeSteering: ((simulation: InsertionSimulation) => Steering) | null,
 ): FreehandResult {
+  return runInsertions(options, [makeSteering])[0];
+}
+
+/**
+ * Several insertions after one shared warm-up: the simulation is warmed up once, its state kept,
+ * and each run (free-hand for null, else steered) starts from that same state — the runs differ
+ * only in how the needle is moved. `onStep`'s fourth argument is the run's index (−1 during the
+ * warm-up).
+ */
+export function runInsertions(
+  options: FreehandOptions,
+  makeSteerings: readonly (((simulation: InsertionSimulation) => Steering) | null)[],
+): FreehandResult[] {
   const breathingOff = options.boundary?.breathing === null;
   const parameters = breathingOff
     ? resolveBreathing({ amplitudeMm: 0 })
@@ -167,8 +185,6 @@ export function runInsertion(
   const direction = options.plan.targetMm.map(
     (v, a) => (v - options.plan.startMm[a]) / plannedDepthMm,
   ) as Vec3;
-  let pose: NeedlePose = { baseMm: [...options.plan.startMm], direction, rollRad: 0 };
-  const steering = makeSteering ? makeSteering(simulation) : null;
   const objective = pathObjective(simulation.mesh, options.plan, simulation.capsuleEntryMm);
   const checkStop = (): void => {
     const reason = options.shouldStop?.() ?? null;
@@ -190,7 +206,7 @@ export function runInsertion(
   for (let step = 0; step < warmUpSteps; step++) {
     checkStop();
     const record = simulation.step(null);
-    options.onStep?.(record, simulation, null);
+    options.onStep?.(record, simulation, null, -1);
     trackDiaphragm();
     if (warmUpCycles >= 1 && step >= lastBreathFrom) {
       breathLow = Math.min(breathLow, record.targetMm[2]);
@@ -199,81 +215,89 @@ export function runInsertion(
     }
   }
 
-  let depthMm = Math.max(0, simulation.entryDistanceMm - startGapMm);
-  if (depthMm >= plannedDepthMm) refuse('startGapMm', 'The tip would start past the target.');
-  const path: PathSample[] = [];
-  const freeMotionMs: number[] = [];
-  const constraintMs: number[] = [];
-  const stepMs: number[] = [];
-  let insertionLow = Infinity;
-  let insertionHigh = -Infinity;
-  let insertionMax = 0;
-  let puncture: FreehandResult['puncture'] = null;
-  let last: StepRecord | null = null;
-  const stepLimit = Math.ceil((plannedDepthMm - depthMm) / (speedMmPerS * h)) + 1;
-  for (let step = 0; step < stepLimit && (last === null || depthMm < plannedDepthMm); step++) {
-    checkStop();
-    depthMm = Math.min(plannedDepthMm, depthMm + speedMmPerS * h);
-    const stepStart = monotonicMs();
-    if (steering) {
-      ({ record: last, pose } = steering.step(pose, depthMm));
-    } else {
-      last = simulation.step(pose, depthMm);
-    }
-    stepMs.push(monotonicMs() - stepStart);
-    options.onStep?.(last, simulation, pose);
-    trackDiaphragm();
-    freeMotionMs.push(last.freeMotionMs);
-    constraintMs.push(last.constraintMs);
-    insertionLow = Math.min(insertionLow, last.targetMm[2]);
-    insertionHigh = Math.max(insertionHigh, last.targetMm[2]);
-    insertionMax = Math.max(insertionMax, distance(last.targetMm, imagedMm));
-    if (last.needle?.puncturedNow) {
-      puncture = { depthMm, forceN: last.needle.contactForceN };
-    }
-    path.push({
-      timeS: last.timeS,
-      depthMm,
-      tipErrorMm: last.tipErrorMm ?? Number.NaN,
-      lateralErrorMm: last.lateralErrorMm ?? Number.NaN,
-      pathErrorMm: norm(
-        tipPathErrorMm(
-          pose,
-          depthMm,
-          embeddedPosition(simulation.solver.positionsM, simulation.mesh, objective.entry).map(
-            (v) => v * 1000,
-          ) as Vec3,
-          last.targetMm,
-          objective.plannedDepthMm,
+  const warmedUp = makeSteerings.length > 1 ? simulation.saveState() : null;
+  const results: FreehandResult[] = [];
+  for (const [run, makeSteering] of makeSteerings.entries()) {
+    if (run > 0 && warmedUp) simulation.restoreState(warmedUp);
+    let pose: NeedlePose = { baseMm: [...options.plan.startMm], direction, rollRad: 0 };
+    const steering = makeSteering ? makeSteering(simulation) : null;
+    let depthMm = Math.max(0, simulation.entryDistanceMm - startGapMm);
+    if (depthMm >= plannedDepthMm) refuse('startGapMm', 'The tip would start past the target.');
+    const path: PathSample[] = [];
+    const freeMotionMs: number[] = [];
+    const constraintMs: number[] = [];
+    const stepMs: number[] = [];
+    let insertionLow = Infinity;
+    let insertionHigh = -Infinity;
+    let insertionMax = 0;
+    let puncture: FreehandResult['puncture'] = null;
+    let last: StepRecord | null = null;
+    const stepLimit = Math.ceil((plannedDepthMm - depthMm) / (speedMmPerS * h)) + 1;
+    for (let step = 0; step < stepLimit && (last === null || depthMm < plannedDepthMm); step++) {
+      checkStop();
+      depthMm = Math.min(plannedDepthMm, depthMm + speedMmPerS * h);
+      const stepStart = monotonicMs();
+      if (steering) {
+        ({ record: last, pose } = steering.step(pose, depthMm));
+      } else {
+        last = simulation.step(pose, depthMm);
+      }
+      stepMs.push(monotonicMs() - stepStart);
+      options.onStep?.(last, simulation, pose, run);
+      trackDiaphragm();
+      freeMotionMs.push(last.freeMotionMs);
+      constraintMs.push(last.constraintMs);
+      insertionLow = Math.min(insertionLow, last.targetMm[2]);
+      insertionHigh = Math.max(insertionHigh, last.targetMm[2]);
+      insertionMax = Math.max(insertionMax, distance(last.targetMm, imagedMm));
+      if (last.needle?.puncturedNow) {
+        puncture = { depthMm, forceN: last.needle.contactForceN };
+      }
+      path.push({
+        timeS: last.timeS,
+        depthMm,
+        tipErrorMm: last.tipErrorMm ?? Number.NaN,
+        lateralErrorMm: last.lateralErrorMm ?? Number.NaN,
+        pathErrorMm: norm(
+          tipPathErrorMm(
+            pose,
+            depthMm,
+            embeddedPosition(simulation.solver.positionsM, simulation.mesh, objective.entry).map(
+              (v) => v * 1000,
+            ) as Vec3,
+            last.targetMm,
+            objective.plannedDepthMm,
+          ),
         ),
-      ),
+      });
+    }
+    if (!last || !last.tipMm) refuse('plan', 'The needle never moved: the plan is too short.');
+    results.push({
+      finalTipErrorMm: last.tipErrorMm ?? Number.NaN,
+      finalLateralErrorMm: last.lateralErrorMm ?? Number.NaN,
+      finalTipMm: last.tipMm,
+      finalTargetMm: last.targetMm,
+      plannedDepthMm,
+      target: {
+        imagedMm,
+        breathingSiRangeMm: warmUpCycles >= 1 ? breathHigh - breathLow : 0,
+        breathingMaxDisplacementMm: breathMax,
+        insertionSiRangeMm: insertionHigh - insertionLow,
+        insertionMaxDisplacementMm: insertionMax,
+      },
+      diaphragmSiRangeMm: diaphragmHigh - diaphragmLow,
+      path,
+      puncture,
+      timing: {
+        precomputeMs: simulation.precomputeMs,
+        freeMotionMedianMs: median(freeMotionMs),
+        constraintMedianMs: median(constraintMs),
+        stepMedianMs: median(stepMs),
+        steps: warmUpSteps + path.length,
+        nodes: simulation.solver.nodeCount,
+      },
+      compliance: simulation.complianceStats(),
     });
   }
-  if (!last || !last.tipMm) refuse('plan', 'The needle never moved: the plan is too short.');
-  return {
-    finalTipErrorMm: last.tipErrorMm ?? Number.NaN,
-    finalLateralErrorMm: last.lateralErrorMm ?? Number.NaN,
-    finalTipMm: last.tipMm,
-    finalTargetMm: last.targetMm,
-    plannedDepthMm,
-    target: {
-      imagedMm,
-      breathingSiRangeMm: warmUpCycles >= 1 ? breathHigh - breathLow : 0,
-      breathingMaxDisplacementMm: breathMax,
-      insertionSiRangeMm: insertionHigh - insertionLow,
-      insertionMaxDisplacementMm: insertionMax,
-    },
-    diaphragmSiRangeMm: diaphragmHigh - diaphragmLow,
-    path,
-    puncture,
-    timing: {
-      precomputeMs: simulation.precomputeMs,
-      freeMotionMedianMs: median(freeMotionMs),
-      constraintMedianMs: median(constraintMs),
-      stepMedianMs: median(stepMs),
-      steps: warmUpSteps + path.length,
-      nodes: simulation.solver.nodeCount,
-    },
-    compliance: simulation.complianceStats(),
-  };
+  return results;
 }

@@ -133,8 +133,8 @@ describe('requests', () => {
   it('answers two concurrent requests with one assessment and one job', async () => {
     const plan = await freshPlan();
     const [first, second] = await Promise.all([
-      presenter.post(`/api/plans/${plan.id}/assessments`, {}),
-      presenter.post(`/api/plans/${plan.id}/assessments`, {}),
+      presenter.post(`/api/plans/${plan.id}/assessments`, { rehearsal: false }),
+      presenter.post(`/api/plans/${plan.id}/assessments`, { rehearsal: false }),
     ]);
     expect([first.status, second.status]).toEqual([202, 202]);
     const firstView = first.body as AssessmentView;
@@ -149,7 +149,9 @@ describe('requests', () => {
     runtime.queue.send = () => Promise.reject(new Error('connection lost while sending'));
     let view: AssessmentView;
     try {
-      const requested = await presenter.post(`/api/plans/${plan.id}/assessments`, {});
+      const requested = await presenter.post(`/api/plans/${plan.id}/assessments`, {
+        rehearsal: false,
+      });
       expect(requested.status).toBe(202);
       view = requested.body as AssessmentView;
     } finally {
@@ -251,7 +253,9 @@ describe('a worker killed on its last attempt', () => {
     const worker = startWorker();
     let id: string;
     try {
-      const requested = await presenter.post(`/api/plans/${plan.id}/assessments`, {});
+      const requested = await presenter.post(`/api/plans/${plan.id}/assessments`, {
+        rehearsal: false,
+      });
       expect(requested.status).toBe(202);
       id = (requested.body as AssessmentView).id;
       await waitFor(
@@ -287,7 +291,7 @@ describe('a worker killed on its last attempt', () => {
     expect(corrected.status).toBe(200);
     expect((corrected.body as PlanView).status).toBe('draft');
 
-    const again = await presenter.post(`/api/plans/${plan.id}/assessments`, {});
+    const again = await presenter.post(`/api/plans/${plan.id}/assessments`, { rehearsal: false });
     expect(again.status).toBe(202);
     expect((again.body as AssessmentView).id).not.toBe(id);
     expect((again.body as AssessmentView).status).toBe('queued');
@@ -303,8 +307,9 @@ describe('a frozen record', () => {
 
   it('keeps its snapshot and result when a profile it used is edited, and the plan says what changed', async () => {
     const plan = await freshPlan();
-    const requested = (await presenter.post(`/api/plans/${plan.id}/assessments`, {}))
-      .body as AssessmentView;
+    const requested = (
+      await presenter.post(`/api/plans/${plan.id}/assessments`, { rehearsal: false })
+    ).body as AssessmentView;
     expect(requested.inputs?.applicatorProfiles).toHaveLength(1);
     const used = requested.inputs?.applicatorProfiles[0];
     expect(used?.version).toBeGreaterThanOrEqual(1);
@@ -347,20 +352,21 @@ describe('a frozen record', () => {
     expect(listed[0].inputChanges?.map((change) => change.kind)).toEqual(['applicator-profile']);
     expect(listed[0].inputChanges?.[0].message).toContain(`version ${before.version + 1}`);
 
-    const renewed = (await presenter.post(`/api/plans/${plan.id}/assessments`, {}))
-      .body as AssessmentView;
+    const renewed = (
+      await presenter.post(`/api/plans/${plan.id}/assessments`, { rehearsal: false })
+    ).body as AssessmentView;
     expect(renewed.id).not.toBe(requested.id);
     expect(renewed.inputs?.applicatorProfiles[0].version).toBe(before.version + 1);
   });
 
   it('reuses a stored result only for an identical snapshot', async () => {
     const plan = await freshPlan();
-    const first = (await presenter.post(`/api/plans/${plan.id}/assessments`, {}))
+    const first = (await presenter.post(`/api/plans/${plan.id}/assessments`, { rehearsal: false }))
       .body as AssessmentView;
     await finishAssessment(testApp.orm, first.id, 'done', {
       result: storedResult as unknown as AssessmentResult,
     });
-    const same = (await presenter.post(`/api/plans/${plan.id}/assessments`, {}))
+    const same = (await presenter.post(`/api/plans/${plan.id}/assessments`, { rehearsal: false }))
       .body as AssessmentView;
     expect(same.id).toBe(first.id);
     const other = await admin.post('/api/admin/safety-profiles', {

@@ -160,7 +160,9 @@ describe('a worker process killed in the middle of a job', () => {
     const first = startWorker();
     const second: ChildProcess[] = [];
     try {
-      const requested = await presenter.post(`/api/plans/${plan.id}/assessments`);
+      const requested = await presenter.post(`/api/plans/${plan.id}/assessments`, {
+        rehearsal: false,
+      });
       expect(requested.status).toBe(202);
       const { id } = requested.body as AssessmentView;
       await waitFor(
@@ -272,7 +274,9 @@ describe('progress over Socket.IO', () => {
         socket.on('connect', () => resolve());
         socket.on('connect_error', reject);
       });
-      const requested = await presenter.post(`/api/plans/${plans[1].id}/assessments`);
+      const requested = await presenter.post(`/api/plans/${plans[1].id}/assessments`, {
+        rehearsal: false,
+      });
       expect(requested.status).toBe(202);
       const { id } = requested.body as AssessmentView;
       const events: AssessmentProgressEvent[] = [];

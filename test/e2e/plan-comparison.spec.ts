@@ -164,6 +164,65 @@ describe('the plan comparison, its summary band, copies and earlier inputs', () 
     expect(label).toMatch(/scale bar is \d+ mm/);
   });
 
+  it('shows each plan’s insertion rehearsal: tip errors, target motion, a plot, with the caution', async () => {
+    const group = page.locator('tbody[data-group="rehearsal"]');
+    await group.waitFor({ timeout: 30_000 });
+    const assisted = group.locator('tr[data-row="rehearsal-assisted-0"]');
+    // Every demo plan is rehearsed: the assisted column reads a figure in mm for each plan.
+    await expect
+      .poll(async () => (await assisted.innerText()).match(/\d+\.\d+ mm/g)?.length ?? 0)
+      .toBe(3);
+    expect(await group.locator('tr[data-row="rehearsal-freehand-0"]').innerText()).toMatch(/mm/);
+    expect(await group.locator('tr[data-row="rehearsal-motion-0"]').innerText()).toMatch(/mm/);
+    expect(await page.locator('[data-group-caution="rehearsal"]').innerText()).toMatch(
+      /simulation/i,
+    );
+    const plots = group.locator('em-rehearsal-plot canvas');
+    expect(await plots.count()).toBe(3);
+    const label = (await plots.first().getAttribute('aria-label')) ?? '';
+    expect(label).toMatch(/free-hand/i);
+    expect(label).toMatch(/assisted/i);
+    const shot = await group.screenshot();
+    writeFileSync(join(artefacts, 'plan-comparison-rehearsal.png'), shot);
+    writeFileSync('/tmp/plan-comparison-rehearsal.png', shot);
+  });
+
+  it('replays a rehearsal in 3D: the slider moves through time and depth, both modes', async () => {
+    await page
+      .locator('tbody[data-group="rehearsal"]')
+      .locator('[data-testid="rehearsal-open-replay"]')
+      .first()
+      .click();
+    const dialog = page.locator('[data-testid="rehearsal-replay-dialog"]');
+    await dialog.waitFor({ timeout: 30_000 });
+    const readout = dialog.locator('[data-testid="rehearsal-frame-readout"]');
+    await readout.waitFor({ timeout: 30_000 });
+    const first = await readout.innerText();
+    expect(first).toMatch(/t = \d+\.\d+ s/);
+    // The scene draws (software WebGL in headless Chromium) unless WebGL is missing, which the
+    // dialog then says.
+    expect(
+      (await dialog.locator('[data-testid="rehearsal-scene"]').count()) +
+        (await dialog.locator('[data-testid="rehearsal-no-webgl"]').count()),
+    ).toBeGreaterThan(0);
+    const slider = dialog.locator('[data-testid="rehearsal-slider"]');
+    await slider.focus();
+    await page.keyboard.press('End');
+    await expect.poll(() => readout.innerText()).not.toBe(first);
+    expect(await readout.innerText()).toMatch(/depth \d+(\.\d+)? mm/);
+    const play = dialog.locator('[data-testid="rehearsal-play"]');
+    await page.keyboard.press('Home');
+    const atStart = await readout.innerText();
+    await play.click();
+    await expect.poll(() => readout.innerText(), { timeout: 10_000 }).not.toBe(atStart);
+    const shot = await dialog.screenshot();
+    writeFileSync(join(artefacts, 'rehearsal-replay.png'), shot);
+    writeFileSync('/tmp/rehearsal-replay.png', shot);
+    expect(await dialog.innerText()).toMatch(/simulation/i);
+    await page.keyboard.press('Escape');
+    await dialog.waitFor({ state: 'detached', timeout: 10_000 });
+  });
+
   it('folds a group of the table on screen and prints every group unfolded, without the page around it', async () => {
     const group = page.locator('tbody[data-group="heat-sinks"]');
     await group.getByRole('button', { name: /Heat sinks/ }).click();

@@ -76,6 +76,11 @@ export interface AssessmentInputsView {
     minimumClearanceMm: Partial<Record<StructureKind, number>>;
     marginTargetMm: number;
     marginMinimumMm: number;
+    /**
+     * Largest robot-assisted tip error (mm) of the insertion rehearsal the verdict accepts
+     * without a caution; absent on assessments of profiles from before the rehearsal.
+     */
+    rehearsalToleranceMm?: number;
   };
   applicatorProfiles: {
     id: string;

@@ -59,6 +59,10 @@ function inputsView(snapshot: AssessmentSnapshot): AssessmentInputsView {
       ),
       marginTargetMm: snapshot.safetyProfile.body.marginTargetMm,
       marginMinimumMm: snapshot.safetyProfile.body.marginMinimumMm,
+      // Snapshots taken before the rehearsal existed have no tolerance: the key is then left out.
+      ...(typeof snapshot.safetyProfile.body.rehearsalToleranceMm === 'number'
+        ? { rehearsalToleranceMm: snapshot.safetyProfile.body.rehearsalToleranceMm }
+        : {}),
     },
     applicatorProfiles: snapshot.applicatorProfiles.map((profile) => ({
       id: profile.id,

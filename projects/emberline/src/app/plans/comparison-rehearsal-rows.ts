@@ -13,6 +13,7 @@ import type {
   FigureCell,
 } from './comparison-rows';
 import { rehearsalCaution } from './rehearsal-caution';
+import { defaultTipErrorThresholdMm } from './rehearsal-plot';
 import { formatFigure } from './verdict-reason-lines';
 
 /** What a plan's column says when its assessment carries no rehearsal and no note on why. */
@@ -115,6 +116,7 @@ export function rehearsalGroup(columns: readonly ComparedPlan[]): ComparisonGrou
           rehearsal: entry,
           runLine: rehearsalRunLine(entry),
           note: columns[column].result.rehearsalNote ?? '',
+          thresholdMm: rehearsalThresholdMm(columns[column]),
         })),
       },
     );
@@ -131,6 +133,18 @@ export function rehearsalRunLine(entry: ApplicatorRehearsal): string {
     `breathing ${compact(amplitudeMm)} mm / ${compact(periodS)} s, ` +
     `control step ${Math.round(entry.stepMs)} ms`
   );
+}
+
+/**
+ * The tolerance the verdict judged this assessment's assisted tip error by (its safety profile
+ * as assessed), so the plot's line means what the verdict meant; 2 mm where the assessment's
+ * inputs do not carry one (assessments from before the tolerance existed).
+ */
+export function rehearsalThresholdMm({ assessment }: ComparedPlan): number {
+  const toleranceMm = assessment.inputs?.safetyProfile.rehearsalToleranceMm;
+  return typeof toleranceMm === 'number' && Number.isFinite(toleranceMm) && toleranceMm >= 0
+    ? toleranceMm
+    : defaultTipErrorThresholdMm;
 }
 
 function assistedCell(entry: ApplicatorRehearsal): FigureCell {

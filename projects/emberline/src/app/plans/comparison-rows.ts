@@ -64,6 +64,8 @@ export interface RehearsalCell {
   runLine: string;
   /** The engine's note on an incomplete rehearsal, or empty. */
   note: string;
+  /** The line drawn on the plot: the assessed safety profile's rehearsal tolerance, mm. */
+  thresholdMm: number;
 }
 
 export type ComparisonCell = FigureCell | ListCell | VerdictCell | AbsentCell | RehearsalCell;

@@ -9,7 +9,7 @@ import { RehearsalReplayDialog } from '../imaging/viewer/rehearsal/rehearsal-rep
 import { notRehearsedText, rehearsalGroup } from './comparison-rehearsal-rows';
 import { PlanComparison } from './plan-comparison';
 import { rehearsalCaution } from './rehearsal-caution';
-import { done, plan, resultA, resultB, seriesId } from './testing/comparison-fixtures';
+import { done, inputs, plan, resultA, resultB, seriesId } from './testing/comparison-fixtures';
 import { PlanComparisonHarness } from './testing/plan-comparison-harness';
 import { RehearsalCellHarness } from './testing/rehearsal-cell-harness';
 import { notReachedRehearsal, rehearsal } from './testing/rehearsal-fixtures';
@@ -32,6 +32,13 @@ describe('PlanComparison: the insertion rehearsal group', () => {
     'plan-b': { ...resultB, rehearsal: [notReachedRehearsal()] },
     'plan-c': { ...resultA, rehearsalNote: switchedOff },
     'plan-d': resultB,
+  };
+  // Plan A was judged by a profile whose rehearsal tolerance is 0.5 mm; the others' inputs
+  // carry none (assessed before the tolerance existed).
+  const judgedBy = inputs(3);
+  const strictInputs = {
+    ...judgedBy,
+    safetyProfile: { ...judgedBy.safetyProfile, rehearsalToleranceMm: 0.5 },
   };
   const plans = [
     plan('plan-a', 'Lateral approach'),
@@ -56,7 +63,10 @@ describe('PlanComparison: the insertion rehearsal group', () => {
     fixture.componentRef.setInput('plans', plans);
     await fixture.whenStable();
     for (const { id } of plans) {
-      http.expectOne(`/api/plans/${id}/assessments`).flush([done(`as-${id}`, id, results[id])]);
+      const overrides = id === 'plan-a' ? { inputs: strictInputs } : {};
+      http
+        .expectOne(`/api/plans/${id}/assessments`)
+        .flush([done(`as-${id}`, id, results[id], overrides)]);
     }
     TestBed.tick();
     http.expectOne(`/api/series/${seriesId}/structures`).flush([]);
@@ -134,6 +144,16 @@ describe('PlanComparison: the insertion rehearsal group', () => {
     const [, , cellC, cellD] = await path.getCellTexts();
     expect(cellC).toBe(switchedOff);
     expect(cellD).toBe(notRehearsedText);
+  });
+
+  it('draws the plot’s line at the rehearsal tolerance the assessment was judged by, else at 2 mm', async () => {
+    const [cellA, cellB] =
+      await TestbedHarnessEnvironment.loader(fixture).getAllHarnesses(RehearsalCellHarness);
+    const labelA = await cellA.getPlotLabel();
+    expect(labelA).toContain('Dashed line at the threshold, 0.5 mm.');
+    // Plan A's assisted run passes 0.5 mm at 40 mm depth (0.55 mm there), never 2 mm.
+    expect(labelA).toContain('first above the threshold at 40.0 mm depth');
+    expect(await cellB.getPlotLabel()).toContain('Dashed line at the threshold, 2.0 mm.');
   });
 
   it('opens the 3D replay of the applicator’s rehearsal in that plan’s assessment', async () => {

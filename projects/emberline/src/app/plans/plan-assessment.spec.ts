@@ -9,6 +9,7 @@ import type {
   WatchAcknowledgement,
 } from '@emberline/shared';
 import { TestbedHarnessEnvironment } from '@angular/cdk/testing/testbed';
+import { MatCheckboxHarness } from '@angular/material/checkbox/testing';
 import { MatSelectHarness } from '@angular/material/select/testing';
 import { safetyProfile } from './testing/comparison-fixtures';
 import { Subject } from 'rxjs';
@@ -196,6 +197,79 @@ describe('PlanAssessment', () => {
     request.flush(assessment({}), { status: 202, statusText: 'Accepted' });
     await fixture.whenStable();
     expect(textOf(fixture)).toContain('Queued');
+  });
+
+  describe('the insertion rehearsal', () => {
+    const label = 'Rehearse the insertion (adds about 15 s per applicator)';
+
+    async function rehearsalBox(): Promise<MatCheckboxHarness> {
+      return TestbedHarnessEnvironment.loader(fixture).getHarness(
+        MatCheckboxHarness.with({ label }),
+      );
+    }
+
+    it('is on by default, and the request then leaves the server’s default alone', async () => {
+      await open(true, []);
+      const box = await rehearsalBox();
+      expect(await box.isChecked()).toBe(true);
+      requestButton()?.click();
+      const request = http.expectOne(listUrl);
+      expect(request.request.body).not.toHaveProperty('rehearsal');
+      request.flush(assessment({}), { status: 202, statusText: 'Accepted' });
+      await fixture.whenStable();
+    });
+
+    it('switched off, asks the server to skip it: { rehearsal: false }', async () => {
+      await open(true, []);
+      const box = await rehearsalBox();
+      await box.uncheck();
+      expect(await box.isChecked()).toBe(false);
+      requestButton()?.click();
+      const request = http.expectOne(listUrl);
+      expect(request.request.method).toBe('POST');
+      expect(request.request.body).toEqual({ rehearsal: false });
+      request.flush(assessment({}), { status: 202, statusText: 'Accepted' });
+      await fixture.whenStable();
+      expect(textOf(fixture)).toContain('Queued');
+    });
+
+    it('switched off and on again, sends no rehearsal key', async () => {
+      await open(true, []);
+      const box = await rehearsalBox();
+      await box.uncheck();
+      await box.check();
+      requestButton()?.click();
+      const request = http.expectOne(listUrl);
+      expect(request.request.body).toEqual({});
+      request.flush(assessment({}), { status: 202, statusText: 'Accepted' });
+      await fixture.whenStable();
+    });
+
+    it('keeps the chosen safety profile beside the switch', async () => {
+      const other: SafetyProfileView = {
+        ...safetyProfile(1),
+        id: 'e4c3f0a1-5d67-4f8e-a091-a2b324d5e6f7',
+        name: 'Invented stricter thresholds',
+        isDefault: false,
+      };
+      await open(true, [], [safetyProfile(3), other]);
+      const loader = TestbedHarnessEnvironment.loader(fixture);
+      const select = await loader.getHarness(MatSelectHarness);
+      await select.open();
+      await select.clickOptions({ text: 'Invented stricter thresholds, version 1' });
+      await (await rehearsalBox()).uncheck();
+      requestButton()?.click();
+      const request = http.expectOne(listUrl);
+      expect(request.request.body).toEqual({ safetyProfileId: other.id, rehearsal: false });
+      request.flush(assessment({}), { status: 202, statusText: 'Accepted' });
+      await fixture.whenStable();
+    });
+
+    it('is not offered to someone who does not present the case', async () => {
+      await open(false, [doneView]);
+      const loader = TestbedHarnessEnvironment.loader(fixture);
+      expect(await loader.getAllHarnesses(MatCheckboxHarness)).toHaveLength(0);
+    });
   });
 
   it('offers no choice of safety profile when there is only one', async () => {

@@ -11,10 +11,11 @@ import {
   untracked,
 } from '@angular/core';
 import { MatButton } from '@angular/material/button';
+import { MatCheckbox } from '@angular/material/checkbox';
 import { MatFormField, MatLabel } from '@angular/material/form-field';
 import { MatIcon } from '@angular/material/icon';
 import { MatOption, MatSelect } from '@angular/material/select';
-import type { AssessmentView, PlanView } from '@emberline/shared';
+import type { AssessmentView, PlanView, RequestAssessment } from '@emberline/shared';
 import { problemMessage } from '../core/problem';
 import { AssessmentProgress } from './assessment-progress';
 import { EarlierInputsNotice } from './earlier-inputs-notice';
@@ -32,6 +33,7 @@ import { VerdictBadge } from './verdict-badge';
   imports: [
     DatePipe,
     MatButton,
+    MatCheckbox,
     MatFormField,
     MatIcon,
     MatLabel,
@@ -77,6 +79,11 @@ export class PlanAssessment {
   protected readonly profileChoices = this.choices.profiles;
   /** The profile chosen; null: the default one. */
   protected readonly chosenProfileId = signal<string | null>(null);
+  /**
+   * Whether the request rehearses the insertion (the server's default). Switching it off saves
+   * the time the simulation takes, for a quick look at the zones and the path.
+   */
+  protected readonly rehearse = signal(true);
   protected readonly isRequesting = signal(false);
   protected readonly requestError = signal('');
   protected readonly requestNote = signal('');
@@ -98,7 +105,11 @@ export class PlanAssessment {
     this.requestError.set('');
     this.requestNote.set('');
     const chosen = this.chosenProfileId();
-    const body = chosen ? { safetyProfileId: chosen } : {};
+    // Only what differs from the server's defaults is sent: the default profile, rehearsal on.
+    const body: RequestAssessment = {
+      ...(chosen ? { safetyProfileId: chosen } : {}),
+      ...(this.rehearse() ? {} : { rehearsal: false }),
+    };
     this.assessments.request(this.plan().id, body).subscribe({
       next: (view) => {
         this.isRequesting.set(false);

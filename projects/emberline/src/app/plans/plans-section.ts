@@ -22,6 +22,7 @@ import { PlanApi } from './plan-api';
 import { PlanAssessment } from './plan-assessment';
 import { PlanAssessments } from './plan-assessments';
 import { PlanComparison } from './plan-comparison';
+import { RehearsalSettingsPanel } from './rehearsal-settings/rehearsal-settings-panel';
 import { SafetyProfileChoices } from './safety-profile-choices';
 
 /** Plans the presenter may copy as a new draft: those no longer open to edits. */
@@ -46,6 +47,7 @@ const deletableStatuses: readonly PlanStatus[] = ['draft', 'assessment-failed'];
     MatProgressBar,
     PlanAssessment,
     PlanComparison,
+    RehearsalSettingsPanel,
   ],
   templateUrl: './plans-section.html',
   styleUrl: './plans-section.scss',

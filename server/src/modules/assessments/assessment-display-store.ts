@@ -27,7 +27,7 @@ export class AssessmentDisplayStore {
 
   /** The insertion rehearsal's replays (JSON), beside the display data. */
   replayKeyOf(assessmentId: string): string {
-    return `assessments/${assessmentId}.rehearsal`;
+    return `assessments/${assessmentId}.replay`;
   }
 
   async writeReplays(assessmentId: string, replays: RehearsalReplay[]): Promise<void> {

@@ -278,6 +278,8 @@ export interface ApplicatorRehearsal {
   errorAlongPath: RehearsalPathSample[];
   meshNodes: number;
   meshResolution: RehearsalMeshResolution;
+  /** The mesh's quality: smallest dihedral angle (degrees) and largest aspect ratio. */
+  meshQuality?: { minDihedralDeg: number; maxAspectRatio: number };
   /** Breathing the rehearsal ran with (Lujan's model): amplitude, period, shape n. */
   breathing: { amplitudeMm: number; periodS: number; shapeN: number };
   strategy: RehearsalStrategy;

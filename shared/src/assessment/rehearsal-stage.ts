@@ -76,7 +76,7 @@ export function rehearseApplicators(
   if (!input.structures.some((structure) => structure.kind === 'liver')) {
     return { rehearsal: [], replays: [], note: 'Not rehearsed: the series has no liver label.' };
   }
-  const { mesh } = buildOrganMesh({
+  const { mesh, quality } = buildOrganMesh({
     labels: input.labelMap,
     geometry: input.geometry,
     organLabels,
@@ -161,6 +161,10 @@ export function rehearseApplicators(
         errorAlongPath: pathSamples(freehand, assisted),
         meshNodes: mesh.nodes.length / 3,
         meshResolution: input.settings.resolution,
+        meshQuality: {
+          minDihedralDeg: round(quality.minDihedralDeg, 1),
+          maxAspectRatio: round(quality.maxAspectRatio, 1),
+        },
         breathing: { ...input.settings.breathing },
         strategy: STRATEGY,
         stepMs: round(median(stepMs), 1),

@@ -128,7 +128,12 @@ export function rehearsalGroup(columns: readonly ComparedPlan[]): ComparisonGrou
 export function rehearsalRunLine(entry: ApplicatorRehearsal): string {
   const { amplitudeMm, periodS } = entry.breathing;
   return (
-    `Mesh ${entry.meshNodes} nodes (${rehearsalMeshLabels[entry.meshResolution]}), ` +
+    `Mesh ${entry.meshNodes} nodes (${rehearsalMeshLabels[entry.meshResolution]}` +
+    (entry.meshQuality
+      ? `; smallest angle ${compact(entry.meshQuality.minDihedralDeg)}°, ` +
+        `aspect ratio ≤ ${compact(entry.meshQuality.maxAspectRatio)}`
+      : '') +
+    '), ' +
     `strategy: ${rehearsalStrategyLabels[entry.strategy]}, ` +
     `breathing ${compact(amplitudeMm)} mm / ${compact(periodS)} s, ` +
     `control step ${Math.round(entry.stepMs)} ms`

@@ -138,7 +138,9 @@ describe('PlanComparison: the insertion rehearsal group', () => {
       'Mesh 2886 nodes (medium), strategy: all trial moves through one factorised contact ' +
         'system, breathing 12 mm / 4 s, control step 52 ms',
     );
-    expect(await cellB.getRunLine()).toContain('Mesh 611 nodes (coarse)');
+    expect(await cellB.getRunLine()).toContain(
+      'Mesh 611 nodes (coarse; smallest angle 11.7°, aspect ratio ≤ 7.2)',
+    );
     expect(await cellB.getRunLine()).toContain('breathing 15 mm / 4.5 s');
     expect(await cellB.getPlotLabel()).toContain('the target not reached');
     const [, , cellC, cellD] = await path.getCellTexts();

@@ -53,6 +53,7 @@ export function notReachedRehearsal(): ApplicatorRehearsal {
     breathing: { amplitudeMm: 15, periodS: 4.5, shapeN: 2 },
     meshNodes: 611,
     meshResolution: 'coarse',
+    meshQuality: { minDihedralDeg: 11.7, maxAspectRatio: 7.2 },
   });
 }
 

@@ -12,7 +12,6 @@
 import type {
   ApplicatorRehearsal,
   RehearsalFrame,
-  RehearsalMeshResolution,
   RehearsalReplay,
   RehearsalStrategy,
 } from '../api/assessments';

@@ -68,8 +68,11 @@ const relativeDifference = (a: Float64Array, b: Float64Array): number => {
 describe('the Jacobian of the tip’s path error, four ways', () => {
   const exact = jacobiansAtAHeldNeedle('exact');
   const precomputed = jacobiansAtAHeldNeedle('precomputed');
-  const reference = (set: typeof exact, strategy: RehearsalStrategy) =>
-    set.results.find((result) => result.strategy === strategy)!;
+  const reference = (set: typeof exact, strategy: RehearsalStrategy) => {
+    const found = set.results.find((result) => result.strategy === strategy);
+    if (!found) throw new Error(`no ${strategy} Jacobian`);
+    return found;
+  };
 
   it('holds tissue with the needle (shaft rows in the problem)', () => {
     expect(exact.rows).toBeGreaterThanOrEqual(9);

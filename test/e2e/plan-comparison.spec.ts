@@ -195,6 +195,15 @@ describe('the plan comparison, its summary band, copies and earlier inputs', () 
       .click();
     const dialog = page.locator('[data-testid="rehearsal-replay-dialog"]');
     await dialog.waitFor({ timeout: 30_000 });
+    try {
+      await replayChecks(dialog);
+    } finally {
+      await page.keyboard.press('Escape');
+      await dialog.waitFor({ state: 'detached', timeout: 10_000 });
+    }
+  });
+
+  async function replayChecks(dialog: ReturnType<Page['locator']>): Promise<void> {
     const readout = dialog.locator('[data-testid="rehearsal-frame-readout"]');
     await readout.waitFor({ timeout: 30_000 });
     const first = await readout.innerText();
@@ -215,13 +224,18 @@ describe('the plan comparison, its summary band, copies and earlier inputs', () 
     const atStart = await readout.innerText();
     await play.click();
     await expect.poll(() => readout.innerText(), { timeout: 10_000 }).not.toBe(atStart);
-    const shot = await dialog.screenshot();
+    // The robot-assisted replay of the same applicator: the toggle switches, the moment stays.
+    const assisted = dialog.locator('[data-testid="rehearsal-mode"] [data-mode="assisted"]');
+    await assisted.locator('button').click();
+    await expect
+      .poll(async () => (await assisted.getAttribute('class')) ?? '')
+      .toContain('mat-button-toggle-checked');
+    expect(await readout.innerText()).toMatch(/t = \d+\.\d+ s/);
+    const shot = await page.locator('mat-dialog-container').screenshot();
     writeFileSync(join(artefacts, 'rehearsal-replay.png'), shot);
     writeFileSync('/tmp/rehearsal-replay.png', shot);
     expect(await dialog.innerText()).toMatch(/simulation/i);
-    await page.keyboard.press('Escape');
-    await dialog.waitFor({ state: 'detached', timeout: 10_000 });
-  });
+  }
 
   it('folds a group of the table on screen and prints every group unfolded, without the page around it', async () => {
     const group = page.locator('tbody[data-group="heat-sinks"]');

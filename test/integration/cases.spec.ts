@@ -1,5 +1,11 @@
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
-import type { CaseDetail, CaseSummary, Page, ProblemDetails } from '@emberline/shared';
+import {
+  DEFAULT_REHEARSAL_SETTINGS,
+  type CaseDetail,
+  type CaseSummary,
+  type Page,
+  type ProblemDetails,
+} from '@emberline/shared';
 import { AuditEvent } from '../../server/src/modules/audit/audit-event.entity';
 import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
 import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
@@ -172,6 +178,41 @@ describe('case file', () => {
     expect(response.headers['content-type']).toContain('application/problem+json');
     expect(problem.errors?.map((error) => error.path)).toContain(field);
     expect(problem.detail).toContain(field);
+  });
+
+  it('keeps the case’s own insertion-rehearsal settings, refuses bad ones, goes back to the defaults', async () => {
+    const presenter = await signedIn('presenter@emberline.test');
+    const before = (await presenter.get(`/api/cases/${ids.northDraft}`)).body as CaseDetail;
+    // The defaults: medium mesh, 12 mm / 4 s / n = 2 (Lujan's model, common practice for quiet
+    // breathing), liver 6 kPa, ν 0.45.
+    expect(before.rehearsal).toEqual(DEFAULT_REHEARSAL_SETTINGS);
+    expect(before.hasOwnRehearsalSettings).toBe(false);
+    const own = {
+      resolution: 'fine',
+      breathing: { amplitudeMm: 18, periodS: 5, shapeN: 3 },
+      material: { youngsModulusPa: 9000, poissonRatio: 0.47 },
+    };
+    const saved = await presenter.patch(`/api/cases/${ids.northDraft}`, { rehearsal: own });
+    expect(saved.status).toBe(200);
+    expect((saved.body as CaseDetail).rehearsal).toEqual(own);
+    expect((saved.body as CaseDetail).hasOwnRehearsalSettings).toBe(true);
+    const refused = await presenter.patch(`/api/cases/${ids.northDraft}`, {
+      rehearsal: { ...own, breathing: { ...own.breathing, amplitudeMm: 80 } },
+    });
+    expect(refused.status).toBe(400);
+    expect((refused.body as ProblemDetails).errors?.[0]?.path).toBe(
+      'rehearsal.breathing.amplitudeMm',
+    );
+    expect(
+      ((await presenter.get(`/api/cases/${ids.northDraft}`)).body as CaseDetail).rehearsal,
+    ).toEqual(own);
+    const member = await signedIn('member@emberline.test');
+    expect(
+      (await member.patch(`/api/cases/${ids.northDraft}`, { rehearsal: null })).status,
+    ).toBeGreaterThanOrEqual(403);
+    const reset = await presenter.patch(`/api/cases/${ids.northDraft}`, { rehearsal: null });
+    expect((reset.body as CaseDetail).rehearsal).toEqual(DEFAULT_REHEARSAL_SETTINGS);
+    expect((reset.body as CaseDetail).hasOwnRehearsalSettings).toBe(false);
   });
 
   it('answers 404 for a case of a board the user does not belong to', async () => {

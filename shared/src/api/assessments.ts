@@ -296,6 +296,11 @@ export interface RehearsalFrame {
   baseMm: [number, number, number];
   tipMm: [number, number, number];
   targetMm: [number, number, number];
+  /**
+   * Points of the tumours and vessels embedded in the mesh (barycentric) as they move, x y z
+   * per point, LPS mm rounded to 0.1 mm, by kind (absent on replays made before they were).
+   */
+  structures?: { kind: StructureKind; pointsMm: number[] }[];
 }
 
 /** The replay of one applicator's rehearsal, for the viewer (GET /api/assessments/:id/rehearsal). */

@@ -16,6 +16,8 @@ import type {
   RehearsalStrategy,
 } from '../api/assessments';
 import type { RehearsalSettings } from '../api/rehearsal-settings';
+import type { StructureKind } from '../api/structures';
+import { embedPoints, embeddedPosition, type Embedding } from '../rehearsal/mesh/embedding';
 import type { VolumeGeometry } from '../geometry/patient-geometry';
 import { distance, type Vec3 } from '../geometry/vector';
 import { rehearseFreehandAndAssisted } from '../rehearsal/assisted/rehearse-assisted';
@@ -82,6 +84,7 @@ export function rehearseApplicators(
     resolution: input.settings.resolution,
   });
   const surface = surfaceOf(mesh);
+  const markers = structureMarkers(input, mesh);
   const tumours = tumourSpheres(input);
   const rehearsal: ApplicatorRehearsal[] = [];
   const replays: RehearsalReplay[] = [];
@@ -118,7 +121,7 @@ export function rehearseApplicators(
       }
     };
     try {
-      const frames = [frameRecorder(surface), frameRecorder(surface)];
+      const frames = [frameRecorder(surface, markers), frameRecorder(surface, markers)];
       const stepMs: number[] = [];
       const { freehand, assisted } = rehearseFreehandAndAssisted({
         ...common,
@@ -235,8 +238,93 @@ function surfaceOf(mesh: TetMesh): Surface {
   return { nodes, triangles: Array.from(mesh.boundaryFaces, (node) => index.get(node) ?? 0) };
 }
 
+/** Tumour and vessel points embedded in the mesh, shown moving in the replay. */
+interface StructureMarkers {
+  kind: StructureKind;
+  points: Embedding[];
+}
+
+/** Kinds whose points the replay carries, and how many points of each at most. */
+const MARKER_KINDS: readonly StructureKind[] = [
+  'tumour',
+  'portal-vein',
+  'hepatic-vein',
+  'hepatic-artery',
+  'bile-duct',
+];
+const MARKERS_PER_KIND = 150;
+
+/**
+ * Samples each kind's voxels — a tumour's outer voxels (a face neighbour outside its label), a
+ * vessel's every voxel — evenly up to MARKERS_PER_KIND and embeds those inside the mesh.
+ */
+function structureMarkers(input: RehearsalStageInput, mesh: TetMesh): StructureMarkers[] {
+  const { dimensions, spacingMm, originLps, direction } = input.geometry;
+  const [nx, ny, nz] = dimensions;
+  const kindOfLabel = new Map<number, StructureKind>();
+  for (const structure of input.structures) {
+    if (structure.kind && MARKER_KINDS.includes(structure.kind)) {
+      kindOfLabel.set(structure.labelValue, structure.kind);
+    }
+  }
+  const voxels = new Map<StructureKind, number[]>();
+  const labels = input.labelMap;
+  let index = 0;
+  for (let k = 0; k < nz; k++) {
+    for (let j = 0; j < ny; j++) {
+      for (let i = 0; i < nx; i++, index++) {
+        const label = labels[index];
+        const kind = label === 0 ? undefined : kindOfLabel.get(label);
+        if (!kind) continue;
+        if (kind === 'tumour') {
+          const inside =
+            i > 0 &&
+            i < nx - 1 &&
+            j > 0 &&
+            j < ny - 1 &&
+            k > 0 &&
+            k < nz - 1 &&
+            labels[index - 1] === label &&
+            labels[index + 1] === label &&
+            labels[index - nx] === label &&
+            labels[index + nx] === label &&
+            labels[index - nx * ny] === label &&
+            labels[index + nx * ny] === label;
+          if (inside) continue;
+        }
+        const list = voxels.get(kind) ?? [];
+        list.push(index);
+        voxels.set(kind, list);
+      }
+    }
+  }
+  const markers: StructureMarkers[] = [];
+  for (const [kind, list] of voxels) {
+    const stride = Math.max(1, Math.ceil(list.length / MARKERS_PER_KIND));
+    const pointsMm: Vec3[] = [];
+    for (let n = 0; n < list.length; n += stride) {
+      const v = list[n];
+      const ijk = [v % nx, Math.floor(v / nx) % ny, Math.floor(v / (nx * ny))];
+      pointsMm.push(
+        [0, 1, 2].map(
+          (a) =>
+            originLps[a] +
+            direction[0][a] * spacingMm[0] * ijk[0] +
+            direction[1][a] * spacingMm[1] * ijk[1] +
+            direction[2][a] * spacingMm[2] * ijk[2],
+        ) as Vec3,
+      );
+    }
+    const points = embedPoints(mesh, pointsMm).filter(
+      (found): found is Embedding => found !== null,
+    );
+    if (points.length > 0) markers.push({ kind, points });
+  }
+  return markers;
+}
+
 /** Collects replay frames every FRAME_EVERY_S from FRAMES_BEFORE_S before the needle moves. */
-function frameRecorder(surface: Surface) {
+function frameRecorder(surface: Surface, markers: readonly StructureMarkers[]) {
   const frames: RehearsalFrame[] = [];
   const history: { simulationTimeS: number; frame: () => RehearsalFrame }[] = [];
   let lastTimeS = -Infinity;
@@ -250,6 +338,15 @@ function frameRecorder(surface: Surface) {
     const target = simulation.targetMm().map((v) => round(v, 1)) as Vec3;
     const base = (pose?.baseMm ?? [0, 0, 0]).map((v) => round(v, 1)) as Vec3;
     const tip = pose ? (needleTipMm(pose, depthMm).map((v) => round(v, 1)) as Vec3) : base;
+    const structures = markers.map(({ kind, points }) => {
+      const pointsMm: number[] = [];
+      for (const point of points) {
+        for (const value of embeddedPosition(x, simulation.mesh, point)) {
+          pointsMm.push(Math.round(value * 10000) / 10);
+        }
+      }
+      return { kind, pointsMm };
+    });
     return {
       timeS: round(simulation.timeS, 3),
       depthMm: round(depthMm, 1),
@@ -257,6 +354,7 @@ function frameRecorder(surface: Surface) {
       baseMm: base,
       tipMm: tip,
       targetMm: target,
+      structures,
     };
   };
   return {

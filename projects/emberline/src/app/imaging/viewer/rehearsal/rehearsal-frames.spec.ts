@@ -41,6 +41,23 @@ describe('rehearsal frames → the 3D scene', () => {
     expect(Array.from(frameShapes(freehand, 0).surfacePoints)).not.toEqual(frames[4].surfaceMm);
   });
 
+  it('carries the embedded tumour and vessel points by kind, dropping a group that is not x y z', () => {
+    const withStructures = replay(
+      'freehand',
+      frames.map((frame, index) => ({
+        ...frame,
+        structures: [
+          { kind: 'tumour' as const, pointsMm: [index, 1, 2, 3, 4, 5] },
+          { kind: 'portal-vein' as const, pointsMm: [1, 2] },
+        ],
+      })),
+    );
+    const shapes = frameShapes(withStructures, 3);
+    expect(shapes.structures.map((group) => group.kind)).toEqual(['tumour']);
+    expect(Array.from(shapes.structures[0].points)).toEqual([3, 1, 2, 3, 4, 5]);
+    expect(frameShapes(freehand, 0).structures).toEqual([]);
+  });
+
   it('keeps an index past either end on the first or last frame', () => {
     expect(frameShapes(freehand, -3).targetMm).toEqual(frames[0].targetMm);
     expect(frameShapes(freehand, 99).targetMm).toEqual(frames[4].targetMm);

@@ -4,7 +4,7 @@
  * triangles as vtk.js lays them out, the needle's ends, the target). No vtk.js here, so it is
  * tested without WebGL.
  */
-import type { RehearsalFrame, RehearsalReplay } from '@emberline/shared';
+import type { RehearsalFrame, RehearsalReplay, StructureKind } from '@emberline/shared';
 
 export type ReplayMode = RehearsalReplay['mode'];
 
@@ -35,6 +35,8 @@ export interface FrameShapes {
   baseMm: Triple;
   tipMm: Triple;
   targetMm: Triple;
+  /** The tumours' and vessels' embedded points by kind, x y z per point (empty when absent). */
+  structures: { kind: StructureKind; points: Float32Array }[];
 }
 
 const isTriple = (value: unknown): value is Triple =>
@@ -119,6 +121,9 @@ export function frameShapes(replay: RehearsalReplay, index: number): FrameShapes
     baseMm: frame.baseMm,
     tipMm: frame.tipMm,
     targetMm: frame.targetMm,
+    structures: (frame.structures ?? [])
+      .filter((group) => group.pointsMm.length % 3 === 0 && group.pointsMm.every(Number.isFinite))
+      .map((group) => ({ kind: group.kind, points: Float32Array.from(group.pointsMm) })),
   };
 }
 

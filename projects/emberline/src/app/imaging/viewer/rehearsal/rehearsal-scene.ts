@@ -1,7 +1,8 @@
 /**
  * The vtk.js side of the rehearsal replay: the liver's surface as the simulation deformed it
  * (see-through, so the needle inside shows), the needle from its base to its tip as a thin tube
- * and the target as a small ball, all in patient LPS millimetres. Built as the 3D view's scene
+ * and the target as a small ball, the tumours' and vessels' embedded points as dots in their
+ * kinds' colours, all in patient LPS millimetres. Built as the 3D view's scene
  * (`../surface-scene.ts`): WebGL2, no GPU needed. Plain TypeScript: the component owns one and
  * calls `dispose()` when it goes.
  */
@@ -20,6 +21,7 @@ import vtkRenderWindow from '@kitware/vtk.js/Rendering/Core/RenderWindow';
 import vtkRenderWindowInteractor from '@kitware/vtk.js/Rendering/Core/RenderWindowInteractor';
 import vtkRenderer from '@kitware/vtk.js/Rendering/Core/Renderer';
 import vtkOpenGLRenderWindow from '@kitware/vtk.js/Rendering/OpenGL/RenderWindow';
+import type { StructureKind } from '@emberline/shared';
 import { structureKindColours } from '../../structure-kind-colours';
 import { viewerBackground } from '../slice-scene';
 import { rgbOf } from '../viewer-data';
@@ -37,6 +39,8 @@ export const rehearsalLooks = {
   needleRadiusMm: 1,
   targetColour: '#ff8c58',
   targetRadiusMm: 2.5,
+  /** Tumour and vessel points, in their kinds' colours (structure-kind-colours.ts). */
+  structurePointSizePx: 4,
 } as const;
 
 /** What the replay component asks of its scene (a test gives it a recorder instead). */
@@ -74,6 +78,15 @@ export class RehearsalScene implements RehearsalSceneView {
   });
   private readonly targetMapper = vtkMapper.newInstance();
   private readonly targetActor = vtkActor.newInstance();
+  /** One point cloud per structure kind, made when a frame first carries that kind. */
+  private readonly clouds = new Map<
+    StructureKind,
+    {
+      data: ReturnType<typeof vtkPolyData.newInstance>;
+      mapper: ReturnType<typeof vtkMapper.newInstance>;
+      actor: ReturnType<typeof vtkActor.newInstance>;
+    }
+  >();
   private hasCamera = false;
   private isDisposed = false;
   /** Where the camera looks from (`cameraDirection` of the needle shown first). */
@@ -125,10 +138,45 @@ export class RehearsalScene implements RehearsalSceneView {
     this.needle.setPoint1(shapes.baseMm[0], shapes.baseMm[1], shapes.baseMm[2]);
     this.needle.setPoint2(shapes.tipMm[0], shapes.tipMm[1], shapes.tipMm[2]);
     this.target.setCenter(shapes.targetMm[0], shapes.targetMm[1], shapes.targetMm[2]);
+    for (const [kind, cloud] of this.clouds) {
+      if (!shapes.structures.some((group) => group.kind === kind)) cloud.actor.setVisibility(false);
+    }
+    for (const group of shapes.structures) this.showCloud(group.kind, group.points);
     if (!this.hasCamera) {
       this.viewFrom = cameraDirection(shapes.baseMm, shapes.tipMm);
       this.resetCamera();
     }
+  }
+
+  private showCloud(kind: StructureKind, points: Float32Array): void {
+    let cloud = this.clouds.get(kind);
+    if (!cloud) {
+      const data = vtkPolyData.newInstance();
+      const mapper = vtkMapper.newInstance();
+      const actor = vtkActor.newInstance();
+      mapper.setInputData(data);
+      actor.setMapper(mapper);
+      const property = actor.getProperty();
+      property.setColor(...rgbOf(structureKindColours[kind]));
+      property.setPointSize(rehearsalLooks.structurePointSizePx);
+      property.setLighting(false);
+      // Opaque dots before the see-through skin, like the needle.
+      this.renderer.removeActor(this.surfaceActor);
+      this.renderer.addActor(actor);
+      this.renderer.addActor(this.surfaceActor);
+      cloud = { data, mapper, actor };
+      this.clouds.set(kind, cloud);
+    }
+    const count = points.length / 3;
+    const verts = new Uint32Array(2 * count);
+    for (let i = 0; i < count; i++) {
+      verts[2 * i] = 1;
+      verts[2 * i + 1] = i;
+    }
+    cloud.data.getPoints().setData(points, 3);
+    cloud.data.getVerts().setData(verts);
+    cloud.data.modified();
+    cloud.actor.setVisibility(count > 0);
   }
 
   /** Across the needle, from the front where it can, head up, the whole surface in view. */
@@ -162,6 +210,12 @@ export class RehearsalScene implements RehearsalSceneView {
     this.interactor.unbindEvents();
     for (const actor of [this.surfaceActor, this.needleActor, this.targetActor]) {
       this.renderer.removeActor(actor);
+    }
+    for (const cloud of this.clouds.values()) {
+      this.renderer.removeActor(cloud.actor);
+      cloud.actor.delete();
+      cloud.mapper.delete();
+      cloud.data.delete();
     }
     for (const object of [
       this.surfaceActor,

@@ -159,7 +159,29 @@ describe('the assessed zones and margins of a demo plan in the viewer', () => {
     }
     const other = primaryModel === 'table' ? 'bioheat' : 'table';
     expect(await page.locator(`path.zone[data-zone="${other}"]`).count()).toBe(0);
-    expect(await panel.getByText(/treating team decides/).count()).toBe(1);
+    // The clinical caution once, and — the demo plans being rehearsed — the rehearsal's once.
+    expect(await panel.locator('em-clinical-caution').count()).toBe(1);
+    expect(await panel.locator('em-rehearsal-caution').count()).toBe(1);
+    expect(await panel.getByText(/treating team decides/).count()).toBe(2);
+  });
+
+  it('replays the plan’s insertion rehearsal in 3D from the viewer', async () => {
+    const panel = page.locator('[data-zone-panel]');
+    await panel.locator('[data-testid="rehearsal-open-replay"]').first().click();
+    const dialog = page.locator('[data-testid="rehearsal-replay-dialog"]');
+    await dialog.waitFor({ timeout: 30_000 });
+    try {
+      const readout = dialog.locator('[data-testid="rehearsal-frame-readout"]');
+      await readout.waitFor({ timeout: 30_000 });
+      const first = await readout.innerText();
+      await dialog.locator('[data-testid="rehearsal-slider"]').focus();
+      await page.keyboard.press('End');
+      await expect.poll(() => readout.innerText()).not.toBe(first);
+      expect(await readout.innerText()).toMatch(/t = \d+\.\d+ s · depth \d+(\.\d+)? mm/);
+    } finally {
+      await page.keyboard.press('Escape');
+      await dialog.waitFor({ state: 'detached', timeout: 10_000 });
+    }
   });
 
   it('turns both zones on: the table zone solid, the physics zone dashed', async () => {

@@ -109,3 +109,21 @@ export function indexRangeOf(grid: Readonly<CtGrid>, bounds: Readonly<BoundsMm>)
     kHigh: high(bounds.max[2], originZ, grid.sliceSpacingMm, grid.slices),
   };
 }
+
+/**
+ * The grid as the engine's series geometry (dimensions, spacing, origin, axis directions), for
+ * benchmarks that paint the anatomy in memory and hand it to the engine.
+ */
+export function gridGeometry(grid: Readonly<CtGrid>): {
+  dimensions: [number, number, number];
+  spacingMm: [number, number, number];
+  originLps: [number, number, number];
+  direction: [Vec3, Vec3, Vec3];
+} {
+  return {
+    dimensions: [grid.columns, grid.rows, grid.slices],
+    spacingMm: [grid.columnSpacingMm, grid.rowSpacingMm, grid.sliceSpacingMm],
+    originLps: [grid.originLps[0], grid.originLps[1], grid.originLps[2]],
+    direction: [ROW_DIRECTION, COLUMN_DIRECTION, SLICE_DIRECTION],
+  };
+}

@@ -14,7 +14,7 @@
  */
 import { buildPhantom } from '../../sample-data/abdomen/phantom';
 import { paintLayers } from '../../sample-data/abdomen/rasterise';
-import { ABDOMEN_GRID, CLINICAL_GRID } from '../../sample-data/abdomen/grid';
+import { ABDOMEN_GRID, CLINICAL_GRID, gridGeometry } from '../../sample-data/abdomen/grid';
 import type { SafetyProfileBody } from '../src/api/safety-profiles';
 import { calibrateApplicatorProfile } from '../src/bioheat';
 import {
@@ -36,16 +36,7 @@ const grid = process.argv.includes('--clinical') ? CLINICAL_GRID : ABDOMEN_GRID;
 const paintStartedAt = performance.now();
 const phantom = buildPhantom();
 const painted = paintLayers(grid, phantom.layers);
-const geometry: VolumeGeometry = {
-  dimensions: [grid.columns, grid.rows, grid.slices],
-  spacingMm: [grid.columnSpacingMm, grid.rowSpacingMm, grid.sliceSpacingMm],
-  originLps: grid.originLps,
-  direction: [
-    [1, 0, 0],
-    [0, 1, 0],
-    [0, 0, 1],
-  ],
-};
+const geometry: VolumeGeometry = gridGeometry(grid);
 const labelMap = painted.labels;
 const structures = phantom.structures.map((structure) => ({
   id: structure.name,

@@ -18,7 +18,7 @@
  */
 import { buildPhantom } from '../../sample-data/abdomen/phantom';
 import { paintLayers } from '../../sample-data/abdomen/rasterise';
-import { ABDOMEN_GRID as grid } from '../../sample-data/abdomen/grid';
+import { ABDOMEN_GRID as grid, gridGeometry } from '../../sample-data/abdomen/grid';
 import type { RehearsalStrategy } from '../src/api/assessments';
 import type { VolumeGeometry } from '../src/geometry/patient-geometry';
 import type { Vec3 } from '../src/geometry/vector';
@@ -31,16 +31,7 @@ const resolutions = (process.argv[2] ?? 'coarse,medium,fine').split(',') as (
 )[];
 const phantom = buildPhantom();
 const painted = paintLayers(grid, phantom.layers);
-const geometry: VolumeGeometry = {
-  dimensions: [grid.columns, grid.rows, grid.slices],
-  spacingMm: [grid.columnSpacingMm, grid.rowSpacingMm, grid.sliceSpacingMm],
-  originLps: grid.originLps,
-  direction: [
-    [1, 0, 0],
-    [0, 1, 0],
-    [0, 0, 1],
-  ],
-};
+const geometry: VolumeGeometry = gridGeometry(grid);
 const organLabels = phantom.structures
   .filter((structure) => structure.kind === 'liver' || structure.kind === 'tumour')
   .map((structure) => structure.labelValue);

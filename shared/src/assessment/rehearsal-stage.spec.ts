@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { DEFAULT_REHEARSAL_SETTINGS } from '../api/rehearsal-settings';
-import type { VolumeGeometry } from '../geometry/patient-geometry';
 import type { Vec3 } from '../geometry/vector';
+import { centredGeometry } from '../rehearsal/insertion/testing/ellipsoid-organ';
 import { rehearseApplicators, type RehearsalStageInput } from './rehearsal-stage';
 
 // The stage on an invented label map: an ellipsoidal "liver" (semi-axes 34, 27, 30 mm, label 1)
@@ -10,16 +10,7 @@ import { rehearseApplicators, type RehearsalStageInput } from './rehearsal-stage
 // coarse mesh to keep the test short.
 const voxelMm = 2;
 const dimensions: Vec3 = [45, 40, 40];
-const geometry: VolumeGeometry = {
-  dimensions,
-  spacingMm: [voxelMm, voxelMm, voxelMm],
-  originLps: dimensions.map((n) => (-(n - 1) / 2) * voxelMm) as Vec3,
-  direction: [
-    [1, 0, 0],
-    [0, 1, 0],
-    [0, 0, 1],
-  ],
-};
+const geometry = centredGeometry(dimensions, voxelMm);
 const tumourCentre: Vec3 = [4, 2, 2];
 const labelMap = new Uint8Array(dimensions[0] * dimensions[1] * dimensions[2]);
 let index = 0;

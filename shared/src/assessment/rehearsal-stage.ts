@@ -18,7 +18,7 @@ import type {
 import type { RehearsalSettings } from '../api/rehearsal-settings';
 import type { StructureKind } from '../api/structures';
 import { embedPoints, embeddedPosition, type Embedding } from '../rehearsal/mesh/embedding';
-import type { VolumeGeometry } from '../geometry/patient-geometry';
+import { voxelToLps, type VolumeGeometry } from '../geometry/patient-geometry';
 import { distance, type Vec3 } from '../geometry/vector';
 import { rehearseFreehandAndAssisted } from '../rehearsal/assisted/rehearse-assisted';
 import { RehearsalStopped } from '../rehearsal/insertion/rehearse-freehand';
@@ -84,8 +84,7 @@ export function rehearseApplicators(
     resolution: input.settings.resolution,
   });
   const surface = surfaceOf(mesh);
-  const markers = structureMarkers(input, mesh);
-  const tumours = tumourSpheres(input);
+  const { tumours, markers } = readStructures(input, mesh);
   const rehearsal: ApplicatorRehearsal[] = [];
   const replays: RehearsalReplay[] = [];
   const skipped: string[] = [];
@@ -254,21 +253,31 @@ const MARKER_KINDS: readonly StructureKind[] = [
 ];
 const MARKERS_PER_KIND = 150;
 
+interface TumourSphere {
+  centreMm: Vec3;
+  radiusMm: number;
+}
+
 /**
- * Samples each kind's voxels — a tumour's outer voxels (a face neighbour outside its label), a
- * vessel's every voxel — evenly up to MARKERS_PER_KIND and embeds those inside the mesh.
+ * One pass over the label map for what the stage needs of the structures: each tumour label's
+ * centroid and equal-volume sphere radius (r = (3V/4π)^⅓), and each marker kind's voxels — a
+ * tumour's outer voxels (a face neighbour outside its label), a vessel's every voxel — sampled
+ * evenly up to MARKERS_PER_KIND and embedded where they lie inside the mesh.
  */
-function structureMarkers(input: RehearsalStageInput, mesh: TetMesh): StructureMarkers[] {
-  const { dimensions, spacingMm, originLps, direction } = input.geometry;
-  const [nx, ny, nz] = dimensions;
+function readStructures(
+  input: RehearsalStageInput,
+  mesh: TetMesh,
+): { tumours: TumourSphere[]; markers: StructureMarkers[] } {
+  const { geometry, labelMap: labels } = input;
+  const [nx, ny, nz] = geometry.dimensions;
   const kindOfLabel = new Map<number, StructureKind>();
   for (const structure of input.structures) {
     if (structure.kind && MARKER_KINDS.includes(structure.kind)) {
       kindOfLabel.set(structure.labelValue, structure.kind);
     }
   }
+  const tumourSums = new Map<number, { sum: Vec3; count: number }>();
   const voxels = new Map<StructureKind, number[]>();
-  const labels = input.labelMap;
   let index = 0;
   for (let k = 0; k < nz; k++) {
     for (let j = 0; j < ny; j++) {
@@ -277,6 +286,12 @@ function structureMarkers(input: RehearsalStageInput, mesh: TetMesh): StructureM
         const kind = label === 0 ? undefined : kindOfLabel.get(label);
         if (!kind) continue;
         if (kind === 'tumour') {
+          const entry = tumourSums.get(label) ?? { sum: [0, 0, 0], count: 0 };
+          entry.sum[0] += i;
+          entry.sum[1] += j;
+          entry.sum[2] += k;
+          entry.count++;
+          tumourSums.set(label, entry);
           const inside =
             i > 0 &&
             i < nx - 1 &&
@@ -298,21 +313,19 @@ function structureMarkers(input: RehearsalStageInput, mesh: TetMesh): StructureM
       }
     }
   }
+  const [si, sj, sk] = geometry.spacingMm;
+  const tumours = [...tumourSums.values()].map(({ sum, count }) => ({
+    centreMm: voxelToLps(geometry, [sum[0] / count, sum[1] / count, sum[2] / count]),
+    radiusMm: Math.cbrt((3 * count * si * sj * sk) / (4 * Math.PI)),
+  }));
   const markers: StructureMarkers[] = [];
   for (const [kind, list] of voxels) {
     const stride = Math.max(1, Math.ceil(list.length / MARKERS_PER_KIND));
     const pointsMm: Vec3[] = [];
     for (let n = 0; n < list.length; n += stride) {
       const v = list[n];
-      const ijk = [v % nx, Math.floor(v / nx) % ny, Math.floor(v / (nx * ny))];
       pointsMm.push(
-        [0, 1, 2].map(
-          (a) =>
-            originLps[a] +
-            direction[0][a] * spacingMm[0] * ijk[0] +
-            direction[1][a] * spacingMm[1] * ijk[1] +
-            direction[2][a] * spacingMm[2] * ijk[2],
-        ) as Vec3,
+        voxelToLps(geometry, [v % nx, Math.floor(v / nx) % ny, Math.floor(v / (nx * ny))]),
       );
     }
     const points = embedPoints(mesh, pointsMm).filter(
@@ -320,15 +333,16 @@ function structureMarkers(input: RehearsalStageInput, mesh: TetMesh): StructureM
     );
     if (points.length > 0) markers.push({ kind, points });
   }
-  return markers;
+  return { tumours, markers };
 }
 
 /** Collects replay frames every FRAME_EVERY_S from FRAMES_BEFORE_S before the needle moves. */
 function frameRecorder(surface: Surface, markers: readonly StructureMarkers[]) {
   const frames: RehearsalFrame[] = [];
-  const history: { simulationTimeS: number; frame: () => RehearsalFrame }[] = [];
+  /** Warm-up frames, the last FRAMES_BEFORE_S of them kept until the needle moves. */
+  const warmUp: RehearsalFrame[] = [];
   let lastTimeS = -Infinity;
-  let insertionStartS: number | null = null;
+  let hasStarted = false;
   const snap = (simulation: InsertionSimulation, pose: NeedlePose | null, depthMm: number) => {
     const x = simulation.solver.positionsM;
     const surfaceMm: number[] = new Array(3 * surface.nodes.length);
@@ -365,68 +379,19 @@ function frameRecorder(surface: Surface, markers: readonly StructureMarkers[]) {
         // Before the needle moves: keep only the last FRAMES_BEFORE_S of the warm-up.
         if (t - lastTimeS + 1e-9 < FRAME_EVERY_S) return;
         lastTimeS = t;
-        const frame = snap(simulation, null, 0);
-        history.push({ simulationTimeS: t, frame: () => frame });
-        while (history.length > 0 && t - history[0].simulationTimeS > FRAMES_BEFORE_S + 1e-9) {
-          history.shift();
-        }
+        warmUp.push(snap(simulation, null, 0));
+        while (t - warmUp[0].timeS > FRAMES_BEFORE_S + 1e-3) warmUp.shift();
         return;
       }
-      if (insertionStartS === null) {
-        insertionStartS = t;
-        for (const entry of history) frames.push(entry.frame());
-        history.length = 0;
+      if (!hasStarted) {
+        hasStarted = true;
+        frames.push(...warmUp.splice(0));
       }
       if (t - lastTimeS + 1e-9 < FRAME_EVERY_S) return;
       lastTimeS = t;
       frames.push(snap(simulation, pose, depthMm));
     },
   };
-}
-
-interface TumourSphere {
-  centreMm: Vec3;
-  radiusMm: number;
-}
-
-/** Each tumour label's centroid and equivalent-sphere radius (r = (3V/4π)^⅓). */
-function tumourSpheres(input: RehearsalStageInput): TumourSphere[] {
-  const tumourLabels = new Map<number, { sum: Vec3; count: number }>();
-  for (const structure of input.structures) {
-    if (structure.kind === 'tumour')
-      tumourLabels.set(structure.labelValue, { sum: [0, 0, 0], count: 0 });
-  }
-  if (tumourLabels.size === 0) return [];
-  const { dimensions, spacingMm, originLps, direction } = input.geometry;
-  const [nx, ny, nz] = dimensions;
-  let index = 0;
-  for (let k = 0; k < nz; k++) {
-    for (let j = 0; j < ny; j++) {
-      for (let i = 0; i < nx; i++, index++) {
-        const entry = tumourLabels.get(input.labelMap[index]);
-        if (!entry) continue;
-        entry.sum[0] += i;
-        entry.sum[1] += j;
-        entry.sum[2] += k;
-        entry.count++;
-      }
-    }
-  }
-  const voxelMm3 = spacingMm[0] * spacingMm[1] * spacingMm[2];
-  const spheres: TumourSphere[] = [];
-  for (const { sum, count } of tumourLabels.values()) {
-    if (count === 0) continue;
-    const ijk = sum.map((v) => v / count);
-    const centreMm = [0, 1, 2].map(
-      (a) =>
-        originLps[a] +
-        direction[0][a] * spacingMm[0] * ijk[0] +
-        direction[1][a] * spacingMm[1] * ijk[1] +
-        direction[2][a] * spacingMm[2] * ijk[2],
-    ) as Vec3;
-    spheres.push({ centreMm, radiusMm: Math.cbrt((3 * count * voxelMm3) / (4 * Math.PI)) });
-  }
-  return spheres;
 }
 
 function nearestTumour(spheres: TumourSphere[], point: Vec3): TumourSphere | null {

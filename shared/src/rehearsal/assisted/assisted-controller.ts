@@ -29,7 +29,7 @@ import { tipPathErrorMm, type PathObjective } from './path-objective';
 
 /** Settings of the controller. */
 export interface AssistedControlOptions {
-  /** How the Jacobian is found (default 'factorised'; 'pseudo-constraints' is the reference). */
+  /** How the Jacobian is found (default 'pseudo-constraints', the reference). */
   strategy?: RehearsalStrategy;
   /** Perturbation of the base's translation, mm (default 0.5). */
   translationStepMm?: number;
@@ -54,8 +54,6 @@ export interface ControlStepRecord {
   /** Wall time of the whole control step and of the Jacobian, ms. */
   stepMs: number;
   jacobianMs: number;
-  /** Evaluations of the error for the Jacobian (12, plus the nominal). */
-  evaluations: number;
 }
 
 /** The pose after a change q of the six degrees of freedom (see the file's comment). */
@@ -97,7 +95,7 @@ export class AssistedController {
     readonly objective: PathObjective,
     options: AssistedControlOptions = {},
   ) {
-    const strategy = options.strategy ?? 'factorised';
+    const strategy = options.strategy ?? 'pseudo-constraints';
     if (
       !['full-step', 'resolve-constraints', 'pseudo-constraints', 'factorised'].includes(strategy)
     ) {
@@ -232,7 +230,6 @@ export class AssistedController {
       jacobian,
       stepMs: monotonicMs() - started,
       jacobianMs,
-      evaluations: 13,
     };
   }
 }

@@ -16,12 +16,13 @@ import type { Vec3 } from '../../geometry/vector';
 import type { Embedding } from '../mesh/embedding';
 import {
   exactCompliance,
+  gaussSeidelSettings,
   projectedGaussSeidel,
   rowTimes,
+  velocityProblem,
   type ConstraintRow,
 } from '../insertion/constraints';
 import type { InsertionSimulation } from '../insertion/insertion-simulation';
-import { checkNumber } from '../insertion/insertion-input';
 import { observationRows } from './path-objective';
 
 /** A solved constraint-space problem with its observed points. */
@@ -31,8 +32,6 @@ export interface ConstraintSpaceSolution {
   impulsesNs: Float64Array;
   /** p per needle row, N·s. */
   preloadNs: Float64Array;
-  /** b per needle row (m/s). */
-  rightHandSide: Float64Array;
   /** W over the needle rows then the observation rows, row-major (m + o)². */
   compliance: Float64Array;
   /** Needle rows m, observation rows o. */
@@ -59,10 +58,7 @@ export function solveInConstraintSpace(
   rotationCache: RotationCache,
 ): ConstraintSpaceSolution {
   const h = simulation.solver.timeStepS;
-  const options = simulation.constraintSolveOptions;
-  const maxSweeps = checkNumber(options.maxSweeps ?? 2000, 'maxSweeps', 1, 1e6);
-  const toleranceM = checkNumber(options.toleranceM ?? 1e-9, 'toleranceM', 0, 1);
-  const omega = checkNumber(options.relaxation ?? 1, 'relaxation', 0.01, 1.99);
+  const { maxSweeps, toleranceM, omega } = gaussSeidelSettings(simulation.constraintSolveOptions);
   const observation = observationRows(simulation.mesh, observed);
   const all = [...rows, ...observation];
   const compliance = complianceOf(simulation, all, rotationCache);
@@ -73,16 +69,7 @@ export function solveInConstraintSpace(
   for (let i = 0; i < m; i++) {
     for (let j = 0; j < m; j++) w[i * m + j] = compliance[i * size + j];
   }
-  const preload = new Float64Array(m);
-  for (let i = 0; i < m; i++) preload[i] = rows[i].preloadImpulseNs ?? 0;
-  const b = new Float64Array(m);
-  for (let i = 0; i < m; i++) {
-    let wp = 0;
-    for (let j = 0; j < m; j++) wp += w[i * m + j] * preload[j];
-    b[i] = rows[i].violationM / h - wp;
-  }
-  const lambda = new Float64Array(m);
-  for (let i = 0; i < m; i++) lambda[i] = rows[i].initialImpulseNs ?? preload[i];
+  const { preload, b, lambda } = velocityProblem(rows, w, h);
   const { sweeps } =
     m > 0
       ? projectedGaussSeidel(w, b, rows, lambda, maxSweeps, toleranceM / h, omega)
@@ -94,7 +81,6 @@ export function solveInConstraintSpace(
     rows,
     impulsesNs: lambda,
     preloadNs: preload,
-    rightHandSide: b,
     compliance,
     rowCount: m,
     observationCount: o,

@@ -83,7 +83,7 @@ function runWithController(
     assisted: {
       ...result,
       jacobianMedianMs: median(jacobianMs),
-      strategy: (controller as AssistedController | null)?.strategy ?? 'factorised',
+      strategy: (controller as AssistedController | null)?.strategy ?? 'pseudo-constraints',
       finalPose: finalPose ?? {
         baseMm: [...options.plan.startMm],
         direction: [0, 0, 1],

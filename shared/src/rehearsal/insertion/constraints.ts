@@ -138,8 +138,7 @@ export class ConstraintSolver {
     options: ConstraintSolveOptions = {},
     rotationPositionsM?: Float64Array,
   ): ConstraintSolution {
-    const maxSweeps = checkNumber(options.maxSweeps ?? 2000, 'maxSweeps', 1, 1e6);
-    const toleranceM = checkNumber(options.toleranceM ?? 1e-9, 'toleranceM', 0, 1);
+    const { maxSweeps, toleranceM, omega } = gaussSeidelSettings(options);
     const passes = checkNumber(options.refinementPasses ?? 3, 'refinementPasses', 0, 20);
     const refinementToleranceM = checkNumber(
       options.refinementToleranceM ?? 1e-5,
@@ -147,7 +146,6 @@ export class ConstraintSolver {
       0,
       1,
     );
-    const omega = checkNumber(options.relaxation ?? 1, 'relaxation', 0.01, 1.99);
     const solver = this.solver;
     const h = solver.timeStepS;
     const dofCount = 3 * solver.nodeCount;
@@ -185,18 +183,7 @@ export class ConstraintSolver {
     }
     const complianceMs = monotonicMs() - started;
 
-    // Velocity level: c(x*) + h·W·(λ − p) = 0 ⇔ W·λ + b = 0 with b = c*/h − W·p (p the
-    // preload already in the free motion).
-    const preload = new Float64Array(m);
-    for (let i = 0; i < m; i++) preload[i] = rows[i].preloadImpulseNs ?? 0;
-    const b = new Float64Array(m);
-    for (let i = 0; i < m; i++) {
-      let wp = 0;
-      for (let j = 0; j < m; j++) wp += w[i * m + j] * preload[j];
-      b[i] = rows[i].violationM / h - wp;
-    }
-    const lambda = new Float64Array(m);
-    for (let i = 0; i < m; i++) lambda[i] = rows[i].initialImpulseNs ?? preload[i];
+    const { preload, b, lambda } = velocityProblem(rows, w, h);
     started = monotonicMs();
     let gs = projectedGaussSeidel(w, b, rows, lambda, maxSweeps, toleranceM / h, omega);
     let gaussSeidelMs = monotonicMs() - started;
@@ -282,6 +269,43 @@ export class ConstraintSolver {
   apply(solution: ConstraintSolution): void {
     if (solution.rows.length > 0) this.solver.applyCorrection(solution.velocityCorrection);
   }
+}
+
+/** The Gauss–Seidel settings of `ConstraintSolveOptions`, checked, with their defaults. */
+export function gaussSeidelSettings(options: ConstraintSolveOptions): {
+  maxSweeps: number;
+  toleranceM: number;
+  omega: number;
+} {
+  return {
+    maxSweeps: checkNumber(options.maxSweeps ?? 2000, 'maxSweeps', 1, 1e6),
+    toleranceM: checkNumber(options.toleranceM ?? 1e-9, 'toleranceM', 0, 1),
+    omega: checkNumber(options.relaxation ?? 1, 'relaxation', 0.01, 1.99),
+  };
+}
+
+/**
+ * The velocity-level problem of the rows with compliance W (row-major m × m): c(x*) + h·W·(λ − p)
+ * = 0 ⇔ W·λ + b = 0 with b = c* / h − W·p (p the preload already in the free motion), and the
+ * starting impulses (each row's guess, else its preload).
+ */
+export function velocityProblem(
+  rows: readonly ConstraintRow[],
+  w: Float64Array,
+  h: number,
+): { preload: Float64Array; b: Float64Array; lambda: Float64Array } {
+  const m = rows.length;
+  const preload = new Float64Array(m);
+  for (let i = 0; i < m; i++) preload[i] = rows[i].preloadImpulseNs ?? 0;
+  const b = new Float64Array(m);
+  for (let i = 0; i < m; i++) {
+    let wp = 0;
+    for (let j = 0; j < m; j++) wp += w[i * m + j] * preload[j];
+    b[i] = rows[i].violationM / h - wp;
+  }
+  const lambda = new Float64Array(m);
+  for (let i = 0; i < m; i++) lambda[i] = rows[i].initialImpulseNs ?? preload[i];
+  return { preload, b, lambda };
 }
 
 /** How far a row with value c (m) after the correction is from satisfied, m (0 when it is). */

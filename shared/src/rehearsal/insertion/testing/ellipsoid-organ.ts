@@ -8,10 +8,9 @@ import type { Vec3 } from '../../../geometry/vector';
 import { buildOrganMesh } from '../../mesh/organ-mesh';
 import type { TetMesh } from '../../mesh/tet-mesh';
 
-/** The mesh of an ellipsoid with semi-axes `semiAxesMm` on voxels of `voxelMm`, cells of `cellMm`. */
-export function ellipsoidOrganMesh(semiAxesMm: Vec3, cellMm: number, voxelMm = 2): TetMesh {
-  const dimensions = semiAxesMm.map((a) => 2 * Math.ceil(a / voxelMm) + 7) as Vec3;
-  const geometry: VolumeGeometry = {
+/** An axis-aligned grid of cubic voxels of `voxelMm` centred on the origin (LPS mm). */
+export function centredGeometry(dimensions: Vec3, voxelMm: number): VolumeGeometry {
+  return {
     dimensions,
     spacingMm: [voxelMm, voxelMm, voxelMm],
     originLps: dimensions.map((n) => (-(n - 1) / 2) * voxelMm) as Vec3,
@@ -21,6 +20,12 @@ export function ellipsoidOrganMesh(semiAxesMm: Vec3, cellMm: number, voxelMm = 2
       [0, 0, 1],
     ],
   };
+}
+
+/** The mesh of an ellipsoid with semi-axes `semiAxesMm` on voxels of `voxelMm`, cells of `cellMm`. */
+export function ellipsoidOrganMesh(semiAxesMm: Vec3, cellMm: number, voxelMm = 2): TetMesh {
+  const dimensions = semiAxesMm.map((a) => 2 * Math.ceil(a / voxelMm) + 7) as Vec3;
+  const geometry = centredGeometry(dimensions, voxelMm);
   const labels = new Uint8Array(dimensions[0] * dimensions[1] * dimensions[2]);
   let index = 0;
   for (let k = 0; k < dimensions[2]; k++) {

@@ -25,6 +25,7 @@ import type { DisplayWindow } from './display-window';
 import type { SliceAxes, VoxelAxis } from './slice-axes';
 import type { SliceViewport } from './slice-viewport';
 import { rgbOf, type LabelAppearance, type ViewerLabelMap, type ViewerVolume } from './viewer-data';
+import { attachGlWindow, resizeGlWindow } from './webgl-support';
 
 const slicingModes: Record<VoxelAxis, SlicingMode> = {
   0: SlicingMode.I,
@@ -87,9 +88,7 @@ export class SliceScene {
   ) {
     this.renderWindow.addRenderer(this.renderer);
     this.renderWindow.addView(this.openGlWindow);
-    this.openGlWindow.setContainer(container);
-    const canvas = this.openGlWindow.getCanvas();
-    if (canvas) canvas.style.cssText = 'display:block;width:100%;height:100%';
+    attachGlWindow(this.openGlWindow, container);
 
     ({ image: this.image, scalars: this.scalars } = imageDataOf(volume.geometry, volume.voxels));
     this.mapper.setInputData(this.image);
@@ -179,11 +178,7 @@ export class SliceScene {
 
   /** The drawing buffer in device pixels for a box of CSS pixels. */
   resize(widthPx: number, heightPx: number): void {
-    const ratio = globalThis.devicePixelRatio || 1;
-    this.openGlWindow.setSize(
-      Math.max(1, Math.floor(widthPx * ratio)),
-      Math.max(1, Math.floor(heightPx * ratio)),
-    );
+    resizeGlWindow(this.openGlWindow, widthPx, heightPx);
   }
 
   render(): void {

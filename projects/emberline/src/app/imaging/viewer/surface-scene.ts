@@ -33,6 +33,7 @@ import {
 import { viewerBackground } from './slice-scene';
 import type { SurfaceMesh } from './surface-mesh';
 import { rgbOf, type LabelAppearance, type PathShape } from './viewer-data';
+import { attachGlWindow, resizeGlWindow } from './webgl-support';
 
 /**
  * Organs that enclose others are drawn fainter than the slider says, so that what lies inside
@@ -118,9 +119,7 @@ export class SurfaceScene {
   constructor(container: HTMLElement) {
     this.renderWindow.addRenderer(this.renderer);
     this.renderWindow.addView(this.openGlWindow);
-    this.openGlWindow.setContainer(container);
-    const canvas = this.openGlWindow.getCanvas();
-    if (canvas) canvas.style.cssText = 'display:block;width:100%;height:100%';
+    attachGlWindow(this.openGlWindow, container);
     this.interactor.setView(this.openGlWindow);
     this.interactor.initialize();
     this.interactor.setInteractorStyle(this.style);
@@ -446,11 +445,7 @@ export class SurfaceScene {
   }
 
   resize(widthPx: number, heightPx: number): void {
-    const ratio = globalThis.devicePixelRatio || 1;
-    this.openGlWindow.setSize(
-      Math.max(1, Math.floor(widthPx * ratio)),
-      Math.max(1, Math.floor(heightPx * ratio)),
-    );
+    resizeGlWindow(this.openGlWindow, widthPx, heightPx);
   }
 
   render(): void {

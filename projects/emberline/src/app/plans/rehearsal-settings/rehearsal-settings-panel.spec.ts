@@ -6,12 +6,12 @@ import { TestBed, type ComponentFixture } from '@angular/core/testing';
 import { MatExpansionPanelHarness } from '@angular/material/expansion/testing';
 import { MatSelectHarness } from '@angular/material/select/testing';
 import {
-  computeLiverScores,
   DEFAULT_REHEARSAL_SETTINGS,
   type CaseDetail,
   type RehearsalSettings,
 } from '@emberline/shared';
 import { CaseFileState } from '../../cases/case-file-state';
+import { caseDetailFixture } from '../../cases/testing/case-detail-fixture';
 import { buttonNamed, element, submit, textOf, typeInto } from '../../../testing/dom';
 import { RehearsalSettingsPanel } from './rehearsal-settings-panel';
 
@@ -26,28 +26,7 @@ const ownSettings: RehearsalSettings = {
 };
 
 function caseDetail(overrides: Partial<CaseDetail> = {}): CaseDetail {
-  return {
-    id: caseId,
-    caseCode: 'NLB-2026-044',
-    board: { id: '0b501abd-97fb-4520-b198-4899fae861f7', name: 'North Liver Board' },
-    presenter: { id: '5060b703-4567-49c1-8c9e-9f968386140a', displayName: 'Dr Invented' },
-    yearOfBirth: 1960,
-    sex: 'female',
-    primaryDiagnosis: 'hcc',
-    status: 'draft',
-    ecogPerformanceStatus: null,
-    hasVascularInvasion: null,
-    hasExtrahepaticSpread: null,
-    rehearsal: DEFAULT_REHEARSAL_SETTINGS,
-    hasOwnRehearsalSettings: false,
-    lesions: [],
-    labPanels: [],
-    scores: computeLiverScores({ lesionDiametersMm: [] }),
-    permissions: { canEdit: true, canDelete: true },
-    createdAt: '2026-11-20T10:00:00.000Z',
-    updatedAt: '2026-11-20T10:00:00.000Z',
-    ...overrides,
-  };
+  return caseDetailFixture({ id: caseId, ...overrides });
 }
 
 describe('RehearsalSettingsPanel', () => {

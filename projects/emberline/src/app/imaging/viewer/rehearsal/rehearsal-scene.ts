@@ -26,6 +26,7 @@ import { structureKindColours } from '../../structure-kind-colours';
 import { viewerBackground } from '../slice-scene';
 import { rgbOf } from '../viewer-data';
 import { cameraDirection, type FrameShapes, type ReplayGeometry } from './rehearsal-frames';
+import { attachGlWindow, resizeGlWindow } from '../webgl-support';
 
 /**
  * Looks: the liver in its kind's colour at a third (the needle and target inside must show),
@@ -95,9 +96,7 @@ export class RehearsalScene implements RehearsalSceneView {
   constructor(container: HTMLElement) {
     this.renderWindow.addRenderer(this.renderer);
     this.renderWindow.addView(this.openGlWindow);
-    this.openGlWindow.setContainer(container);
-    const canvas = this.openGlWindow.getCanvas();
-    if (canvas) canvas.style.cssText = 'display:block;width:100%;height:100%';
+    attachGlWindow(this.openGlWindow, container);
     this.interactor.setView(this.openGlWindow);
     this.interactor.initialize();
     this.interactor.setInteractorStyle(this.style);
@@ -191,11 +190,7 @@ export class RehearsalScene implements RehearsalSceneView {
   }
 
   resize(widthPx: number, heightPx: number): void {
-    const ratio = globalThis.devicePixelRatio || 1;
-    this.openGlWindow.setSize(
-      Math.max(1, Math.floor(widthPx * ratio)),
-      Math.max(1, Math.floor(heightPx * ratio)),
-    );
+    resizeGlWindow(this.openGlWindow, widthPx, heightPx);
   }
 
   render(): void {

@@ -85,8 +85,95 @@ export interface ImageSeriesView {
   byteLength: number;
   volumeUrl: string;
   deidentification: DeidentificationRecord;
+  /**
+   * How the pixels came: the transfer syntax of the files and, when that syntax (or Lossy
+   * Image Compression (0028,2110) = 01 in the files) says the pixels went through a lossy
+   * compression, its ratio and method as far as known. null for series stored before this
+   * was recorded.
+   */
+  compression: SeriesCompression | null;
   uploadedBy: { id: string; displayName: string };
   createdAt: string;
+}
+
+/** The compression the pixels of a series went through before they reached Emberline. */
+export interface SeriesCompression {
+  /** Transfer Syntax UID (0002,0010) of the files, e.g. 1.2.840.10008.1.2.4.90. */
+  transferSyntaxUid: string;
+  /** Its name (DICOM PS3.6 Table A-1). */
+  transferSyntaxName: string;
+  /** True when any step of the pixels' history was lossy. */
+  isLossy: boolean;
+  /** Lossy Image Compression Ratio (0028,2112), or compressed over uncompressed bytes; null if not lossy. */
+  lossyRatio: number | null;
+  /** Lossy Image Compression Method (0028,2114), e.g. ISO_15444_1; null if not lossy or unknown. */
+  lossyMethod: string | null;
+}
+
+/** The note a lossy series carries wherever it is shown. */
+export const lossyCompressionNote = 'Lossy compressed: measurements may be less exact.';
+
+/** How a series' slices lie, from its slice normal (the nearest patient axis within 10°). */
+export const seriesOrientationNames = ['axial', 'coronal', 'sagittal', 'oblique'] as const;
+export type SeriesOrientationName = (typeof seriesOrientationNames)[number];
+
+/**
+ * One image series found in an upload that holds several (`POST /api/cases/:id/series` answered
+ * 202): what the presenter sees to choose which to keep. Nothing of it is stored until kept.
+ */
+export interface UploadSeriesCandidate {
+  /** Names the series within this upload (for `keep`); not a DICOM UID. */
+  key: string;
+  /** Series Description (0008,103E), or "CT series 4" when there is none. */
+  description: string;
+  modality: ImageModality;
+  seriesNumber: number | null;
+  sliceCount: number;
+  /** Slice Thickness (0018,0050), or the spacing between slices when it is missing. */
+  sliceThicknessMm: number | null;
+  orientation: SeriesOrientationName;
+  /** "arterial", "portal venous", "delayed", "non-contrast", "contrast", or null when unknown. */
+  phaseHint: string | null;
+  /** [columns, rows]. */
+  matrix: [number, number];
+  /** Transfer syntax name; `isLossy` when its pixels went through a lossy compression. */
+  transferSyntaxName: string;
+  isLossy: boolean;
+}
+
+/** An object of an upload that is not offered as a series, and why. */
+export interface UploadSkippedObject {
+  /** What it is: "Dose report", "Localizer (CT)", "Series 5: portal venous"… */
+  description: string;
+  reason: string;
+}
+
+/** The 202 answer of an upload that holds several series: choose with `POST /api/uploads/:id/keep`. */
+export interface UploadListing {
+  uploadId: string;
+  /** When the server forgets the upload (ISO 8601); keeping after that answers 404. */
+  expiresAt: string;
+  series: UploadSeriesCandidate[];
+  skipped: UploadSkippedObject[];
+}
+
+/** `POST /api/uploads/:id/keep`: the keys of the series to store (at least one). */
+export interface KeepUploadRequest {
+  keys: string[];
+}
+
+/**
+ * Progress of an upload or a keep, `GET /api/upload-progress/:token`, where the token is the
+ * UUID the client sent as `?progress=` with its POST. Stages: the server reads the files
+ * (headers, sorted into series), then decodes the pixels of each series it stores, then
+ * writes them.
+ */
+export interface UploadProgress {
+  stage: 'reading' | 'decoding' | 'storing' | 'done' | 'failed';
+  /** Files read so far of all files in the upload. */
+  files: { done: number; total: number };
+  /** Per series being decoded: slices done of slices in all. */
+  series: { key: string; description: string; done: number; total: number }[];
 }
 
 /** The voxel grid of a series in patient space (DICOM PS3.3 C.7.6.2.1.1, LPS millimetres). */

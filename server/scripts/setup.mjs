@@ -41,6 +41,29 @@ export function ensureChromium() {
   return '/usr/bin/chromium';
 }
 
+/**
+ * Debian's dcmtk and OpenJPEG tools, which make the compressed reference DICOM files of the
+ * pixel-data codec tests (`test/support/compressed-dicom.ts`); installing them needs root.
+ */
+export function ensureDicomTools() {
+  if (existsSync('/usr/bin/dcmcjpeg') && existsSync('/usr/bin/opj_compress')) return;
+  if (!isRoot) {
+    throw new Error(
+      'dcmtk or the OpenJPEG tools are missing: run `sudo apt-get update && sudo apt-get install -y dcmtk libopenjp2-tools`, then try again.',
+    );
+  }
+  say("installing Debian's dcmtk and libopenjp2-tools packages (one time)…");
+  execFileSync('apt-get', ['update', '-qq'], { stdio: 'inherit' });
+  execFileSync(
+    'apt-get',
+    ['install', '-y', '-qq', '--no-install-recommends', 'dcmtk', 'libopenjp2-tools'],
+    {
+      stdio: 'inherit',
+      env: { ...process.env, DEBIAN_FRONTEND: 'noninteractive' },
+    },
+  );
+}
+
 /** Runs a command, streaming its output; resolves with its exit code. */
 export function run(command, args, options = {}) {
   return new Promise((resolvePromise) => {

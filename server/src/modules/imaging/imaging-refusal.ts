@@ -13,6 +13,7 @@ export type RefusalReason =
   | 'too-large'
   | 'zip'
   | 'not-dicom'
+  | 'dicomdir'
   | 'transfer-syntax'
   | 'malformed'
   | 'truncated'

@@ -14,8 +14,7 @@ import { generateAbdomenCt } from '../../sample-data/generate-abdomen-ct';
 import { AppError } from '../src/common/errors';
 import type { Actor, SignedInUser } from '../src/common/request-context';
 import { ClinicalCase } from '../src/modules/cases/case.entity';
-import { DicomReadPool } from '../src/modules/imaging/dicom-read-pool';
-import { FileStore } from '../src/modules/imaging/file-store';
+import { imagingDependencies } from '../src/modules/imaging/imaging.routes';
 import { ImageSeries } from '../src/modules/imaging/image-series.entity';
 import {
   imagingSettingsFromEnvironment,
@@ -41,12 +40,13 @@ async function uploadThroughService(
   caseId: string,
   slices: { name: string; bytes: ArrayBuffer }[],
 ): Promise<ImageSeriesView> {
-  const pool = new DicomReadPool(settings.pool);
-  const dependencies = { settings, pool, store: new FileStore(settings.fileStoreDir) };
+  const dependencies = imagingDependencies(settings);
   const app = express();
   app.post('/upload', async (request, response) => {
     const service = new ImagingService(em.fork(), dependencies);
-    response.status(201).json(await service.upload(presenter, actor, caseId, request, response));
+    const outcome = await service.upload(presenter, actor, caseId, request, response, undefined);
+    if (outcome.status !== 201) throw new Error('the demo CT was read as several series');
+    response.status(201).json(outcome.series);
   });
   app.use(
     (error: unknown, _request: express.Request, response: express.Response, _next: unknown) => {
@@ -72,7 +72,8 @@ async function uploadThroughService(
     return body as ImageSeriesView;
   } finally {
     server.close();
-    await pool.close();
+    await dependencies.pool.close();
+    dependencies.pending.close();
   }
 }
 

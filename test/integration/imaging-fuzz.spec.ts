@@ -1,4 +1,6 @@
 import { mkdtempSync, rmSync } from 'node:fs';
+import { deflateRawSync } from 'node:zlib';
+import dicomParser from 'dicom-parser';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -7,6 +9,7 @@ import { DicomReadPool } from '../../server/src/modules/imaging/dicom-read-pool'
 import type { ReadLimits } from '../../server/src/modules/imaging/dicom-read-protocol';
 import { ImagingRefusal } from '../../server/src/modules/imaging/imaging-refusal';
 import { assembleSeries } from '../../server/src/modules/imaging/series-assembly';
+import { sortStudy } from '../../server/src/modules/imaging/study-sorting';
 import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
 import { demoPassword, resetToDemo } from '../support/demo';
 import {
@@ -30,6 +33,7 @@ const limits: ReadLimits = {
   maxInflatedBytes: 64 * 1_048_576,
   maxSequenceDepth: 12,
   maxAttributes: 20_000,
+  maxCodecMemoryBytes: 128 * 1_048_576,
 };
 const timeoutMs = 4000;
 const memoryLimitMb = 64;
@@ -53,12 +57,22 @@ type Outcome =
 /** Reads, stacks and de-identifies, as an upload would; anything but a refusal is a failure. */
 async function ingest(files: Uint8Array[], through = pool): Promise<Outcome> {
   try {
-    const { instances } = await through.read(files.map((file) => file.slice()));
-    const assembled = assembleSeries(instances);
-    deidentifyHeader(assembled.firstSliceHeader, {
-      replaceUid: () => '2.25.1',
-      dateShiftDays: -400,
-    });
+    const scan = await through.scan(
+      files.map((file, index) => ({ name: `IM${index + 1}`, bytes: file.slice() })),
+    );
+    const sorted = sortStudy(scan.entries);
+    if (!sorted.candidates.length) throw ImagingRefusal.from(sorted.refusalIfEmpty);
+    for (const candidate of sorted.candidates) {
+      const decoded = await through.decode(
+        candidate.entryIndices.map((index) => scan.entries[index]),
+        { keepBytes: true },
+      );
+      const assembled = assembleSeries(candidate.plan, decoded);
+      deidentifyHeader(assembled.firstSliceHeader, {
+        replaceUid: () => '2.25.1',
+        dateShiftDays: -400,
+      });
+    }
     return { kind: 'accepted' };
   } catch (error) {
     if (error instanceof ImagingRefusal) {
@@ -255,19 +269,20 @@ describe('fuzzing the reading path: mutated and truncated files', () => {
     }
   });
 
-  it('refuses a deflated data set by its transfer syntax, without inflating it', async () => {
-    const deflated = part10(
-      { '00100010': { vr: 'PN', Value: [{ Alphabetic: 'X' }] } },
-      {
-        transferSyntaxUid: '1.2.840.10008.1.2.1.99',
-      },
-    );
-    // Anything after the meta: it is never inflated.
-    const bomb = Uint8Array.from([...deflated, ...new Uint8Array(4096).fill(0x4b)]);
+  it('refuses a deflated data set that would inflate past the per-file limit, inflating no further', async () => {
+    // 64 MB of zeros deflate to some 64 kB: a "deflate bomb" against the 32 MB a file may hold.
+    const written = part10({}, { transferSyntaxUid: '1.2.840.10008.1.2.1.99' });
+    // Whatever dcmjs wrote after the file meta is replaced by the bomb.
+    const metaEnd = dicomParser.readPart10Header(written).position;
+    const bomb = Uint8Array.from([
+      ...written.subarray(0, metaEnd),
+      ...deflateRawSync(new Uint8Array(64 * 1_048_576)),
+    ]);
     expect(await ingest([bomb, files[1]])).toMatchObject({
       kind: 'refused',
-      status: 415,
-      reason: 'transfer-syntax',
+      status: 413,
+      reason: 'too-large',
+      detail: expect.stringMatching(/^File 1.* inflates to more than 32\.0 MB/),
     });
   });
 });

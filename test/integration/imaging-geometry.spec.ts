@@ -253,7 +253,7 @@ describe(`refused series, each with a 4xx naming what is wrong (${GEOMETRY})`, (
           }),
         ),
       status: 400,
-      detail: /File 5 is oriented differently from file 1.*mixes orientations/,
+      detail: /File 5 \(slice-4\.dcm\) is oriented differently from file 1.*mixes orientations/,
     },
     {
       name: 'a missing slice',
@@ -283,13 +283,7 @@ describe(`refused series, each with a 4xx naming what is wrong (${GEOMETRY})`, (
         return files;
       },
       status: 400,
-      detail: /File 3 has 30 × 32 pixels.*mixes image sizes/,
-    },
-    {
-      name: 'two series in one upload (refused, not split)',
-      files: () => [...buildSeries(seriesSpec()), ...buildSeries(seriesSpec({ slices: 3 }))],
-      status: 400,
-      detail: /holds 2 series.*6 files, 3 files.*one series at a time/,
+      detail: /File 3 \(slice-2\.dcm\) has 30 × 32 pixels.*mixes image sizes/,
     },
     {
       name: 'one slice only',
@@ -304,31 +298,27 @@ describe(`refused series, each with a 4xx naming what is wrong (${GEOMETRY})`, (
         return [...files, files[2]];
       },
       status: 400,
-      detail: /File 3 and File 7 are the same image/,
+      detail: /File 3 \(slice-2\.dcm\) and File 7 \(slice-\d\.dcm\) are the same image/,
     },
     {
       name: 'a modality other than CT or MR',
       files: () => buildSeries(seriesSpec({ modality: 'US' })),
       status: 415,
-      detail: /modality is US; Emberline takes CT and MR series only/,
+      detail: /is of modality US; Emberline takes CT and MR series only/,
     },
     {
       name: 'a JPEG Baseline transfer syntax',
       files: () => buildSeries(seriesSpec({ transferSyntaxUid: '1.2.840.10008.1.2.4.50' })),
       status: 415,
-      detail: /File 1 uses the transfer syntax 1\.2\.840\.10008\.1\.2\.4\.50 \(JPEG Baseline\)/,
+      detail:
+        /File 1 \(slice-0\.dcm\) is compressed as JPEG Baseline \(Process 1\), which Emberline does not decode/,
     },
     {
-      name: 'a deflated transfer syntax (never inflated)',
-      files: () => buildSeries(seriesSpec({ transferSyntaxUid: '1.2.840.10008.1.2.1.99' })),
+      name: 'a transfer syntax no standard defines',
+      files: () => buildSeries(seriesSpec({ transferSyntaxUid: '1.2.840.10008.1.2.4.999' })),
       status: 415,
-      detail: /1\.2\.840\.10008\.1\.2\.1\.99 \(Deflated Explicit VR Little Endian\)/,
-    },
-    {
-      name: 'an explicit big-endian transfer syntax',
-      files: () => buildSeries(seriesSpec({ transferSyntaxUid: '1.2.840.10008.1.2.2' })),
-      status: 415,
-      detail: /1\.2\.840\.10008\.1\.2\.2 \(Explicit VR Big Endian\)/,
+      detail:
+        /uses the transfer syntax 1\.2\.840\.10008\.1\.2\.4\.999, which Emberline does not read/,
     },
     {
       name: 'a file that is not DICOM',
@@ -337,7 +327,8 @@ describe(`refused series, each with a 4xx naming what is wrong (${GEOMETRY})`, (
         new TextEncoder().encode('Patient list, not an image\n'.repeat(20)),
       ],
       status: 415,
-      detail: /File 3 is not a DICOM file: it lacks the "DICM" marker after the 128-byte preamble/,
+      detail:
+        /File 3 \(slice-2\.dcm\) is not a DICOM file: it lacks the "DICM" marker after the 128-byte preamble/,
     },
     {
       name: 'a file truncated inside its pixels',
@@ -347,7 +338,7 @@ describe(`refused series, each with a 4xx naming what is wrong (${GEOMETRY})`, (
         return files;
       },
       status: 400,
-      detail: /File 2 is truncated/,
+      detail: /File 2 \(slice-1\.dcm\) is truncated/,
     },
     {
       name: 'a file truncated inside its header',
@@ -357,7 +348,7 @@ describe(`refused series, each with a 4xx naming what is wrong (${GEOMETRY})`, (
         return files;
       },
       status: 400,
-      detail: /File 1 is truncated/,
+      detail: /File 1 \(slice-0\.dcm\) is truncated/,
     },
     {
       name: 'a multi-frame image',
@@ -392,7 +383,7 @@ describe(`refused series, each with a 4xx naming what is wrong (${GEOMETRY})`, (
           }),
         ),
       status: 415,
-      detail: /File 1 declare Burned In Annotation \(0028,0301\) YES/,
+      detail: /File 1 \(slice-0\.dcm\) declares Burned In Annotation \(0028,0301\) YES/,
     },
     {
       name: 'pixels outside int16 once rescaled',

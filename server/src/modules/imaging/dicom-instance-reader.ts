@@ -1,31 +1,38 @@
 /**
- * Reads one DICOM Part 10 file (PS3.10) with dicom-parser: its header as a DICOM JSON data
- * set and its pixels as int16 values with the rescale applied. Runs inside the reading worker
- * (`dicom-read.worker.ts`), which bounds its time and memory; everything here is synchronous
- * and throws an `InstanceRefusal` whose detail names the file and what is wrong with it.
+ * Reads one DICOM Part 10 file (PS3.10) with dicom-parser, in two steps that run inside the
+ * reading worker (`dicom-read.worker.ts`, which bounds their time and memory):
+ *
+ * - `scanInstance`: the header as a DICOM JSON data set and what the file is: an image whose
+ *   frames (one for classic images, many for Enhanced CT/MR) each carry their geometry and
+ *   rescale, or another object (report, presentation state, localizer, colour capture…) with
+ *   the reason it is not offered as a series;
+ * - `decodeInstance`: the same, plus the pixels of every frame as int16 values with padding
+ *   and rescale applied, decoded from whichever transfer syntax `pixel-data/` knows.
+ *
+ * Everything here is synchronous and throws an `InstanceRefusal` whose detail names the file
+ * and what is wrong with it.
  */
+import { inflateRawSync } from 'node:zlib';
 import dicomParser, { type DataSet, type Element } from 'dicom-parser';
 import dcmjs from 'dcmjs';
 import type { DicomJsonDataset, DicomJsonElement, DicomJsonValue } from './dicom-json';
-import { firstNumber, firstString } from './dicom-json';
+import { firstNumber, firstString, numberValues, sequenceItems, stringValues } from './dicom-json';
 import type { RefusalPayload, RefusalReason } from './imaging-refusal';
+import {
+  decodeFrame,
+  encapsulatedFrames,
+  transferSyntaxes,
+  type FrameLayout,
+  type TransferSyntax,
+} from './pixel-data';
 
 export interface InstanceReadLimits {
   /** Sequences nested deeper than this are refused. */
   maxSequenceDepth: number;
   /** Attributes in one file, nested ones included. */
   maxAttributes: number;
-}
-
-export interface ParsedInstance {
-  /** "File 3" or "Zip entry 5": how messages name the file (never by its name). */
-  label: string;
-  /** Every attribute but Pixel Data and the file meta, as read: not yet de-identified. */
-  header: DicomJsonDataset;
-  /** Rows × columns values, row by row, after Rescale Slope and Intercept. */
-  pixels: Int16Array<ArrayBuffer>;
-  rescale: { slope: number; intercept: number };
-  valueRange: { min: number; max: number };
+  /** Bytes of one file once a deflated data set is inflated. */
+  maxInstanceBytes: number;
 }
 
 export class InstanceRefusal extends Error {
@@ -36,23 +43,6 @@ export class InstanceRefusal extends Error {
 
 export const implicitVrLittleEndian = '1.2.840.10008.1.2';
 export const explicitVrLittleEndianUid = '1.2.840.10008.1.2.1';
-const acceptedTransferSyntaxes = new Set([implicitVrLittleEndian, explicitVrLittleEndianUid]);
-
-/** Names of transfer syntaxes (PS3.6 Table A-1) a refusal may mention; from memory. */
-const transferSyntaxNames: Record<string, string> = {
-  '1.2.840.10008.1.2.1.99': 'Deflated Explicit VR Little Endian',
-  '1.2.840.10008.1.2.2': 'Explicit VR Big Endian',
-  '1.2.840.10008.1.2.4.50': 'JPEG Baseline',
-  '1.2.840.10008.1.2.4.51': 'JPEG Extended',
-  '1.2.840.10008.1.2.4.57': 'JPEG Lossless',
-  '1.2.840.10008.1.2.4.70': 'JPEG Lossless, first-order prediction',
-  '1.2.840.10008.1.2.4.80': 'JPEG-LS Lossless',
-  '1.2.840.10008.1.2.4.81': 'JPEG-LS Near-Lossless',
-  '1.2.840.10008.1.2.4.90': 'JPEG 2000 Lossless Only',
-  '1.2.840.10008.1.2.4.91': 'JPEG 2000',
-  '1.2.840.10008.1.2.5': 'RLE Lossless',
-};
-
 const stringVrs = new Set([
   'AE',
   'AS',
@@ -146,6 +136,7 @@ interface ReadContext {
   limits: InstanceReadLimits;
   isUtf8: boolean;
   isSigned: boolean;
+  isLittleEndian: boolean;
   attributeCount: number;
 }
 
@@ -189,44 +180,45 @@ function readBinaryNumbers(
     context.byteArray.byteOffset + element.dataOffset,
     element.length,
   );
+  const little = context.isLittleEndian;
   const values: DicomJsonValue[] = [];
   const count = Math.min(Math.floor(element.length / size), 1024);
   for (let index = 0; index < count; index++) {
     const at = index * size;
     switch (vr) {
       case 'US':
-        values.push(view.getUint16(at, true));
+        values.push(view.getUint16(at, little));
         break;
       case 'SS':
-        values.push(view.getInt16(at, true));
+        values.push(view.getInt16(at, little));
         break;
       case 'UL':
-        values.push(view.getUint32(at, true));
+        values.push(view.getUint32(at, little));
         break;
       case 'SL':
-        values.push(view.getInt32(at, true));
+        values.push(view.getInt32(at, little));
         break;
       case 'FL':
-        values.push(view.getFloat32(at, true));
+        values.push(view.getFloat32(at, little));
         break;
       case 'FD':
-        values.push(view.getFloat64(at, true));
+        values.push(view.getFloat64(at, little));
         break;
       case 'AT':
         values.push(
-          view.getUint16(at, true).toString(16).padStart(4, '0').toUpperCase() +
+          view.getUint16(at, little).toString(16).padStart(4, '0').toUpperCase() +
             view
-              .getUint16(at + 2, true)
+              .getUint16(at + 2, little)
               .toString(16)
               .padStart(4, '0')
               .toUpperCase(),
         );
         break;
       case 'SV':
-        values.push(Number(view.getBigInt64(at, true)));
+        values.push(Number(view.getBigInt64(at, little)));
         break;
       default:
-        values.push(Number(view.getBigUint64(at, true)));
+        values.push(Number(view.getBigUint64(at, little)));
     }
   }
   return values;
@@ -309,7 +301,39 @@ function checkPreamble(bytes: Uint8Array, label: string): void {
   }
 }
 
-function checkTransferSyntax(bytes: Uint8Array, label: string): void {
+/**
+ * Encapsulated syntaxes (Explicit VR Little Endian around compressed pixels) whose header is
+ * read but whose pixels Emberline does not decode: lossy 8-bit and video codings no CT or MR
+ * volume for a board should come in (names from DICOM PS3.6 Table A-1, from memory).
+ */
+const undecodedSyntaxNames: Record<string, string> = {
+  '1.2.840.10008.1.2.4.50': 'JPEG Baseline (Process 1)',
+  '1.2.840.10008.1.2.4.51': 'JPEG Extended (Process 2 & 4)',
+  '1.2.840.10008.1.2.4.100': 'MPEG2 Main Profile',
+  '1.2.840.10008.1.2.4.102': 'MPEG-4 AVC/H.264',
+  '1.2.840.10008.1.2.4.201': 'High-Throughput JPEG 2000 Lossless Only',
+  '1.2.840.10008.1.2.4.202': 'High-Throughput JPEG 2000 with RPCL Options Lossless Only',
+  '1.2.840.10008.1.2.4.203': 'High-Throughput JPEG 2000',
+};
+
+/** The syntax a file is read in, decodable (`pixel-data/`) or known but not decoded. */
+function syntaxOf(uid: string): TransferSyntax & { isDecodable: boolean } {
+  const known = transferSyntaxes.get(uid);
+  if (known) return { ...known, isDecodable: true };
+  return {
+    uid,
+    name: undecodedSyntaxNames[uid] ?? uid,
+    kind: 'encapsulated',
+    byteOrder: 'little',
+    isDeflated: false,
+    loss: 'lossy',
+    lossyMethod: null,
+    isDecodable: false,
+  };
+}
+
+/** The Transfer Syntax UID of the file meta, read before the data set. */
+function transferSyntaxOf(bytes: Uint8Array, label: string): string {
   let meta: DataSet;
   try {
     meta = dicomParser.readPart10Header(bytes);
@@ -328,23 +352,61 @@ function checkTransferSyntax(bytes: Uint8Array, label: string): void {
   if (!uid) {
     refuse(400, 'malformed', `${label} has no Transfer Syntax UID (0002,0010) in its file meta.`);
   }
-  if (!acceptedTransferSyntaxes.has(uid)) {
-    const name = transferSyntaxNames[uid];
+  if (!transferSyntaxes.has(uid) && !undecodedSyntaxNames[uid]) {
+    // Without knowing the encoding, not even the header can be read safely.
     refuse(
       415,
       'transfer-syntax',
-      `${label} uses the transfer syntax ${quotableUid(uid)}${name ? ` (${name})` : ''}, which ` +
-        `Emberline does not decode; export the series uncompressed, as Implicit VR Little Endian ` +
-        `(${implicitVrLittleEndian}) or Explicit VR Little Endian (${explicitVrLittleEndianUid}).`,
+      `${label} uses the transfer syntax ${quotableUid(uid)}, which Emberline does not read. ` +
+        `It reads ${[...transferSyntaxes.values()].map((syntax) => syntax.name).join(', ')}.`,
     );
   }
+  return uid;
 }
 
-function parse(bytes: Uint8Array, label: string): DataSet {
+/** dicom-parser's hook for Deflated Explicit VR Little Endian: raw deflate, bounded in size. */
+function boundedInflater(label: string, maxBytes: number) {
+  return (byteArray: Uint8Array, position: number): Uint8Array => {
+    let inflated: Buffer;
+    try {
+      inflated = inflateRawSync(byteArray.subarray(position), {
+        maxOutputLength: Math.max(1, maxBytes - position),
+      });
+    } catch (error) {
+      const code = (error as { code?: unknown }).code;
+      if (code === 'ERR_BUFFER_TOO_LARGE' || error instanceof RangeError) {
+        refuse(
+          413,
+          'too-large',
+          `${label} inflates to more than ${(maxBytes / 1_048_576).toFixed(1)} MB, the most one ` +
+            'DICOM file may hold.',
+        );
+      }
+      refuse(400, 'malformed', `${label}: its deflated data set cannot be inflated.`);
+    }
+    const whole = new Uint8Array(position + inflated.length);
+    whole.set(byteArray.subarray(0, position), 0);
+    whole.set(inflated, position);
+    return whole;
+  };
+}
+
+function parse(bytes: Uint8Array, label: string, maxInstanceBytes: number): DataSet {
   let dataSet: DataSet;
   try {
-    dataSet = dicomParser.parseDicom(bytes);
+    dataSet = dicomParser.parseDicom(bytes, {
+      inflater: boundedInflater(label, maxInstanceBytes),
+    } as Parameters<typeof dicomParser.parseDicom>[1]);
   } catch (error) {
+    if (error instanceof InstanceRefusal) throw error;
+    if (
+      typeof error === 'object' &&
+      error !== null &&
+      'exception' in error &&
+      error.exception instanceof InstanceRefusal
+    ) {
+      throw error.exception;
+    }
     if (isStackOverflow(error)) {
       refuse(400, 'too-complex', `${label} nests its attributes too deeply to be read.`);
     }
@@ -364,12 +426,98 @@ function parse(bytes: Uint8Array, label: string): DataSet {
   return dataSet;
 }
 
-interface PixelLayout {
+/** How the stored pixel values of a file are laid out (DICOM PS3.3 C.7.6.3). */
+export interface PixelLayout {
   rows: number;
   columns: number;
-  bitsAllocated: number;
+  bitsAllocated: 8 | 16;
   bitsStored: number;
   isSigned: boolean;
+  frameCount: number;
+}
+
+/** One frame of an image file: where it lies and how its stored values become CT/MR values. */
+export interface FrameDescriptor {
+  imagePositionPatient: number[];
+  imageOrientationPatient: number[];
+  pixelSpacing: number[];
+  sliceThicknessMm: number | null;
+  rescale: { slope: number; intercept: number };
+}
+
+/** A file that holds a greyscale CT or MR image (single-frame, or Enhanced multi-frame). */
+export interface ScannedImage {
+  kind: 'image';
+  label: string;
+  /** Every attribute but Pixel Data and the file meta, as read: not yet de-identified. */
+  header: DicomJsonDataset;
+  transferSyntaxUid: string;
+  layout: PixelLayout;
+  frames: FrameDescriptor[];
+  /** Enhanced CT/MR Image Storage (frames from the functional groups). */
+  isEnhanced: boolean;
+  /** Bytes of Pixel Data as stored in the file (compressed or not). */
+  pixelDataBytes: number;
+}
+
+/** A file that is DICOM but not offered as an image series, and why. */
+export interface ScannedOther {
+  kind: 'other';
+  label: string;
+  /** What the object is, for the listing: "Dose report", "Localizer", "Colour image"… */
+  what: string;
+  /** A few attributes that sort it into its series: never shown beyond the listing. */
+  header: DicomJsonDataset;
+  /** Why it is not offered: the refusal an upload holding nothing else would answer. */
+  refusal: RefusalPayload;
+  /** True for an image that could be a series but is not usable (not a report or a scout). */
+  isUnusableImage: boolean;
+}
+
+export type ScannedInstance = ScannedImage | ScannedOther;
+
+/** The decoded frames of an image file, in frame order. */
+export interface DecodedInstance {
+  label: string;
+  /** Rows × columns values a frame, row by row, after padding and rescale. */
+  frames: Int16Array<ArrayBuffer>[];
+  valueRange: { min: number; max: number };
+  /** What the codestreams say of loss: true if any frame is lossy, false if all say lossless. */
+  isLossyByCodestream: boolean | null;
+}
+
+const sopClasses = {
+  ctImage: '1.2.840.10008.5.1.4.1.1.2',
+  enhancedCtImage: '1.2.840.10008.5.1.4.1.1.2.1',
+  legacyEnhancedCtImage: '1.2.840.10008.5.1.4.1.1.2.2',
+  mrImage: '1.2.840.10008.5.1.4.1.1.4',
+  enhancedMrImage: '1.2.840.10008.5.1.4.1.1.4.1',
+  legacyEnhancedMrImage: '1.2.840.10008.5.1.4.1.1.4.4',
+};
+const enhancedSopClasses = new Set([
+  sopClasses.enhancedCtImage,
+  sopClasses.legacyEnhancedCtImage,
+  sopClasses.enhancedMrImage,
+  sopClasses.legacyEnhancedMrImage,
+]);
+
+/**
+ * What a non-image object is, by its SOP Class UID (DICOM PS3.4 Annex B, from memory): the
+ * structured reports (dose reports among them), presentation states, key object selections and
+ * encapsulated documents an archive sends along with a study.
+ */
+function nonImageKind(sopClassUid: string, modality: string | undefined): string | null {
+  if (sopClassUid === '1.2.840.10008.5.1.4.1.1.88.67') return 'Dose report';
+  if (sopClassUid === '1.2.840.10008.5.1.4.1.1.88.59') return 'Key object selection';
+  if (sopClassUid.startsWith('1.2.840.10008.5.1.4.1.1.88.')) return 'Structured report';
+  if (sopClassUid.startsWith('1.2.840.10008.5.1.4.1.1.11.')) return 'Presentation state';
+  if (sopClassUid.startsWith('1.2.840.10008.5.1.4.1.1.104.')) return 'Encapsulated document';
+  if (sopClassUid === '1.2.840.10008.5.1.4.1.1.66.4') return 'Segmentation';
+  if (sopClassUid.startsWith('1.2.840.10008.5.1.4.1.1.481.')) return 'Radiotherapy object';
+  if (modality === 'SR') return 'Structured report';
+  if (modality === 'PR') return 'Presentation state';
+  if (modality === 'KO') return 'Key object selection';
+  return null;
 }
 
 function positiveInteger(header: DicomJsonDataset, tag: string, name: string, label: string) {
@@ -384,7 +532,7 @@ function positiveInteger(header: DicomJsonDataset, tag: string, name: string, la
   return value;
 }
 
-function pixelLayout(header: DicomJsonDataset, label: string): PixelLayout {
+function pixelLayout(header: DicomJsonDataset, label: string, isEnhanced: boolean): PixelLayout {
   const rows = positiveInteger(header, '00280010', 'Rows', label);
   const columns = positiveInteger(header, '00280011', 'Columns', label);
   const samples = firstNumber(header, '00280002') ?? 1;
@@ -397,13 +545,16 @@ function pixelLayout(header: DicomJsonDataset, label: string): PixelLayout {
         `${photometric.replace(/[^A-Z0-9_ ]/g, '')}); Emberline reads greyscale CT and MR only.`,
     );
   }
-  const frames = firstNumber(header, '00280008') ?? 1;
-  if (frames !== 1) {
+  const frameCount = firstNumber(header, '00280008') ?? 1;
+  if (!Number.isInteger(frameCount) || frameCount < 1) {
+    refuse(400, 'malformed', `${label}: Number of Frames (0028,0008) is not a positive integer.`);
+  }
+  if (frameCount !== 1 && !isEnhanced) {
     refuse(
       415,
       'multi-frame',
-      `${label} holds ${Number.isFinite(frames) ? frames : 'an unreadable number of'} frames; ` +
-        'Emberline reads single-frame images, one slice a file (export as "classic" images).',
+      `${label} holds ${frameCount} frames but is not an Enhanced CT or MR image; Emberline ` +
+        'reads single-frame CT and MR images and Enhanced CT and MR Image Storage.',
     );
   }
   const bitsAllocated = positiveInteger(header, '00280100', 'Bits Allocated', label);
@@ -411,7 +562,7 @@ function pixelLayout(header: DicomJsonDataset, label: string): PixelLayout {
   const highBit = firstNumber(header, '00280102') ?? bitsStored - 1;
   const representation = firstNumber(header, '00280103') ?? 0;
   if (
-    ![8, 16].includes(bitsAllocated) ||
+    (bitsAllocated !== 8 && bitsAllocated !== 16) ||
     !Number.isInteger(bitsStored) ||
     bitsStored < 1 ||
     bitsStored > bitsAllocated ||
@@ -426,12 +577,17 @@ function pixelLayout(header: DicomJsonDataset, label: string): PixelLayout {
         'bits allocated with the high bit at Bits Stored − 1.',
     );
   }
-  return { rows, columns, bitsAllocated, bitsStored, isSigned: representation === 1 };
+  return {
+    rows,
+    columns,
+    bitsAllocated,
+    bitsStored,
+    isSigned: representation === 1,
+    frameCount,
+  };
 }
 
-function rescaleOf(header: DicomJsonDataset, label: string) {
-  const slope = firstNumber(header, '00281053') ?? 1;
-  const intercept = firstNumber(header, '00281052') ?? 0;
+function checkedRescale(slope: number, intercept: number, label: string) {
   if (!(slope > 0) || !Number.isFinite(slope) || !Number.isFinite(intercept)) {
     refuse(
       400,
@@ -443,69 +599,124 @@ function rescaleOf(header: DicomJsonDataset, label: string) {
   return { slope, intercept };
 }
 
-function readPixels(
-  dataSet: DataSet,
-  header: DicomJsonDataset,
-  label: string,
-): Pick<ParsedInstance, 'pixels' | 'rescale' | 'valueRange'> {
-  const layout = pixelLayout(header, label);
-  const rescale = rescaleOf(header, label);
-  const element = dataSet.elements.x7fe00010;
-  if (!element) refuse(400, 'malformed', `${label} has no Pixel Data (7FE0,0010).`);
-  if (element.encapsulatedPixelData) {
-    refuse(400, 'malformed', `${label} holds encapsulated Pixel Data in an uncompressed syntax.`);
-  }
-  const count = layout.rows * layout.columns;
-  const bytesPerValue = layout.bitsAllocated / 8;
-  const needed = count * bytesPerValue;
-  const available = Math.min(element.length, dataSet.byteArray.length - element.dataOffset);
-  if (available < needed) {
-    refuse(
-      400,
-      'truncated',
-      `${label} is truncated: its Pixel Data holds ${Math.max(available, 0)} bytes, where ` +
-        `${layout.rows} rows × ${layout.columns} columns × ${bytesPerValue} bytes need ${needed}.`,
-    );
-  }
-  const view = new DataView(
-    dataSet.byteArray.buffer,
-    dataSet.byteArray.byteOffset + element.dataOffset,
-    needed,
-  );
-  const mask = 2 ** layout.bitsStored - 1;
-  const signBit = 2 ** (layout.bitsStored - 1);
-  const pixels = new Int16Array(count);
-  let min = Infinity;
-  let max = -Infinity;
-  for (let index = 0; index < count; index++) {
-    const raw = bytesPerValue === 2 ? view.getUint16(index * 2, true) : view.getUint8(index) & 0xff;
-    let stored = raw & mask;
-    if (layout.isSigned && stored >= signBit) stored -= 2 * signBit;
-    const value = Math.round(stored * rescale.slope + rescale.intercept);
-    if (value < -32768 || value > 32767) {
-      refuse(
-        400,
-        'value-range',
-        `${label}: after Rescale Slope and Intercept a pixel reaches ${value}, outside ` +
-          '−32768…32767, the range Emberline stores.',
-      );
-    }
-    pixels[index] = value;
-    if (value < min) min = value;
-    if (value > max) max = value;
-  }
-  return { pixels, rescale, valueRange: { min, max } };
+/** A classic image: one frame, its geometry in the top-level attributes (PS3.3 C.7.6.2). */
+function classicFrame(header: DicomJsonDataset, label: string): FrameDescriptor {
+  return {
+    imagePositionPatient: numberValues(header, '00200032'),
+    imageOrientationPatient: numberValues(header, '00200037'),
+    pixelSpacing: numberValues(header, '00280030'),
+    sliceThicknessMm: positiveOrNull(firstNumber(header, '00180050')),
+    rescale: checkedRescale(
+      firstNumber(header, '00281053') ?? 1,
+      firstNumber(header, '00281052') ?? 0,
+      label,
+    ),
+  };
 }
 
-/** Reads one file; throws an InstanceRefusal for anything Emberline does not accept. */
-export function readInstance(
-  bytes: Uint8Array,
+function positiveOrNull(value: number | undefined): number | null {
+  return value !== undefined && Number.isFinite(value) && value > 0 ? value : null;
+}
+
+const functionalGroupTags = {
+  shared: '52009229',
+  perFrame: '52009230',
+  planePosition: '00209113',
+  planeOrientation: '00209116',
+  pixelMeasures: '00289110',
+  pixelValueTransformation: '00289145',
+};
+
+/**
+ * The first item of a functional group macro's sequence for one frame: the Per-frame
+ * Functional Groups item wins over the Shared one (DICOM PS3.3 C.7.6.16).
+ */
+function groupItem(
+  perFrame: DicomJsonDataset | undefined,
+  shared: DicomJsonDataset | undefined,
+  sequenceTag: string,
+): DicomJsonDataset | undefined {
+  const own = perFrame ? sequenceItems(perFrame[sequenceTag])[0] : undefined;
+  return own ?? (shared ? sequenceItems(shared[sequenceTag])[0] : undefined);
+}
+
+/**
+ * The frames of an Enhanced CT/MR image from its functional groups (DICOM PS3.3 C.7.6.16 and
+ * C.7.6.16.2: Plane Position (Patient), Plane Orientation (Patient), Pixel Measures and Pixel
+ * Value Transformation). MR usually has no Pixel Value Transformation: identity then.
+ */
+function enhancedFrames(
+  header: DicomJsonDataset,
+  layout: PixelLayout,
   label: string,
-  limits: InstanceReadLimits,
-): ParsedInstance {
+): FrameDescriptor[] {
+  const shared = sequenceItems(header[functionalGroupTags.shared])[0];
+  const perFrame = sequenceItems(header[functionalGroupTags.perFrame]);
+  if (perFrame.length !== layout.frameCount) {
+    refuse(
+      400,
+      'malformed',
+      `${label} declares ${layout.frameCount} frames but its Per-frame Functional Groups ` +
+        `Sequence (5200,9230) holds ${perFrame.length} items; each frame needs one.`,
+    );
+  }
+  return perFrame.map((item, index) => {
+    const position = groupItem(item, shared, functionalGroupTags.planePosition);
+    const orientation = groupItem(item, shared, functionalGroupTags.planeOrientation);
+    const measures = groupItem(item, shared, functionalGroupTags.pixelMeasures);
+    const transformation = groupItem(item, shared, functionalGroupTags.pixelValueTransformation);
+    if (!position || !orientation || !measures) {
+      const missing = [
+        !position && 'Plane Position (Patient)',
+        !orientation && 'Plane Orientation (Patient)',
+        !measures && 'Pixel Measures',
+      ].filter(Boolean);
+      refuse(
+        400,
+        'malformed',
+        `${label}: frame ${index + 1} lacks the ${missing.join(', ')} functional group; its ` +
+          'place in the patient cannot be known.',
+      );
+    }
+    return {
+      imagePositionPatient: numberValues(position, '00200032'),
+      imageOrientationPatient: numberValues(orientation, '00200037'),
+      pixelSpacing: numberValues(measures, '00280030'),
+      sliceThicknessMm: positiveOrNull(firstNumber(measures, '00180050')),
+      rescale: checkedRescale(
+        (transformation && firstNumber(transformation, '00281053')) ?? 1,
+        (transformation && firstNumber(transformation, '00281052')) ?? 0,
+        `${label} (frame ${index + 1})`,
+      ),
+    };
+  });
+}
+
+function otherObject(
+  label: string,
+  header: DicomJsonDataset,
+  what: string,
+  refusal: RefusalPayload,
+  isUnusableImage: boolean,
+): ScannedOther {
+  // Only what sorts the object into its series goes along.
+  const kept: DicomJsonDataset = {};
+  for (const tag of ['00080016', '00080060', '0020000E', '00200011', '0008103E', '00080008']) {
+    if (header[tag]) kept[tag] = header[tag];
+  }
+  return { kind: 'other', label, what, header: kept, refusal, isUnusableImage };
+}
+
+interface ParsedFile {
+  dataSet: DataSet;
+  header: DicomJsonDataset;
+  syntax: TransferSyntax & { isDecodable: boolean };
+}
+
+function parseFile(bytes: Uint8Array, label: string, limits: InstanceReadLimits): ParsedFile {
   checkPreamble(bytes, label);
-  checkTransferSyntax(bytes, label);
-  const dataSet = parse(bytes, label);
+  const syntax = syntaxOf(transferSyntaxOf(bytes, label));
+  const dataSet = parse(bytes, label, limits.maxInstanceBytes);
   const characterSet = dataSet.string('x00080005') ?? '';
   const context: ReadContext = {
     byteArray: dataSet.byteArray,
@@ -513,6 +724,7 @@ export function readInstance(
     limits,
     isUtf8: /ISO_IR 192/.test(characterSet),
     isSigned: dataSet.uint16('x00280103') === 1,
+    isLittleEndian: syntax.byteOrder === 'little',
     attributeCount: 0,
   };
   let header: DicomJsonDataset;
@@ -525,5 +737,257 @@ export function readInstance(
     }
     refuse(400, 'malformed', `${label}: an attribute cannot be read (${parserMessage(error)}).`);
   }
-  return { label, header, ...readPixels(dataSet, header, label) };
+  return { dataSet, header, syntax };
+}
+
+/** Classifies a parsed file: a usable image with its frames, or another object and why. */
+function classify(parsed: ParsedFile, label: string): ScannedInstance {
+  const { dataSet, header, syntax } = parsed;
+  const sopClassUid = firstString(header, '00080016') ?? '';
+  const modality = firstString(header, '00080060');
+  const nonImage = nonImageKind(sopClassUid, modality);
+  const pixelElement = dataSet.elements.x7fe00010;
+  if (nonImage || !pixelElement) {
+    const what = nonImage ?? 'Object without pixels';
+    return otherObject(
+      label,
+      header,
+      what,
+      {
+        status: 415,
+        reason: 'modality',
+        detail: `${label} is a ${what.toLowerCase()}, not an image; Emberline keeps CT and MR image series only.`,
+      },
+      false,
+    );
+  }
+  const imageType = stringValues(header, '00080008').map((value) => value.toUpperCase());
+  if (imageType.includes('LOCALIZER')) {
+    return otherObject(
+      label,
+      header,
+      'Localizer',
+      {
+        status: 415,
+        reason: 'modality',
+        detail: `${label} is a localizer (scout) image, a planning view rather than a volume.`,
+      },
+      false,
+    );
+  }
+  const unusable = (what: string, refusal: RefusalPayload) =>
+    otherObject(label, header, what, refusal, true);
+  if (modality !== 'CT' && modality !== 'MR') {
+    return unusable(`${quotableCode(modality)} image`, {
+      status: 415,
+      reason: 'modality',
+      detail: `${label} is of modality ${quotableCode(modality)}; Emberline takes CT and MR series only.`,
+    });
+  }
+  if (!syntax.isDecodable) {
+    return unusable('Image in an unread compression', {
+      status: 415,
+      reason: 'transfer-syntax',
+      detail:
+        `${label} is compressed as ${syntax.name}, which Emberline does not decode. ` +
+        `It decodes ${[...transferSyntaxes.values()].map((entry) => entry.name).join(', ')}.`,
+    });
+  }
+  const isEnhanced = enhancedSopClasses.has(sopClassUid);
+  try {
+    const layout = pixelLayout(header, label, isEnhanced);
+    const frames = isEnhanced
+      ? enhancedFrames(header, layout, label)
+      : [classicFrame(header, label)];
+    if (firstString(header, '00280301') === 'YES') {
+      return unusable('Image with burned-in annotation', {
+        status: 415,
+        reason: 'burned-in-annotation',
+        detail:
+          `${label} declares Burned In Annotation (0028,0301) YES: its pixels may show ` +
+          'identifying text, which de-identification of the header does not remove. Export ' +
+          'the series without annotations.',
+      });
+    }
+    return {
+      kind: 'image',
+      label,
+      header,
+      transferSyntaxUid: syntax.uid,
+      layout,
+      frames,
+      isEnhanced,
+      pixelDataBytes: pixelElement.encapsulatedPixelData
+        ? (pixelElement.fragments ?? []).reduce((sum, fragment) => sum + fragment.length, 0)
+        : Math.max(0, pixelElement.length),
+    };
+  } catch (error) {
+    // A colour or oddly stored image is listed as not usable; a broken header refuses.
+    if (error instanceof InstanceRefusal && error.payload.status === 415) {
+      const what =
+        error.payload.reason === 'multi-frame' ? 'Multi-frame image' : 'Image in another format';
+      return unusable(what, error.payload);
+    }
+    throw error;
+  }
+}
+
+function quotableCode(value: string | undefined): string {
+  return (value ?? '').replace(/[^A-Z0-9 _]/gi, '').slice(0, 16) || '(none)';
+}
+
+/** Reads a file's header and sorts it: an image with its frames, or another object. */
+export function scanInstance(
+  bytes: Uint8Array,
+  label: string,
+  limits: InstanceReadLimits,
+): ScannedInstance {
+  return classify(parseFile(bytes, label, limits), label);
+}
+
+/** Stored values of every frame of a native (uncompressed) Pixel Data element. */
+function nativeFrames(
+  dataSet: DataSet,
+  element: Element,
+  layout: PixelLayout,
+  syntax: TransferSyntax,
+  label: string,
+): (Uint8Array | Uint16Array)[] {
+  if (element.encapsulatedPixelData) {
+    refuse(400, 'malformed', `${label} holds encapsulated Pixel Data in an uncompressed syntax.`);
+  }
+  const count = layout.rows * layout.columns;
+  const bytesPerValue = layout.bitsAllocated / 8;
+  const frameBytes = count * bytesPerValue;
+  const needed = frameBytes * layout.frameCount;
+  const available = Math.min(element.length, dataSet.byteArray.length - element.dataOffset);
+  if (available < needed) {
+    refuse(
+      400,
+      'truncated',
+      `${label} is truncated: its Pixel Data holds ${Math.max(available, 0)} bytes, where ` +
+        `${layout.frameCount > 1 ? `${layout.frameCount} frames × ` : ''}${layout.rows} rows × ` +
+        `${layout.columns} columns × ${bytesPerValue} bytes need ${needed}.`,
+    );
+  }
+  const frames: (Uint8Array | Uint16Array)[] = [];
+  for (let frame = 0; frame < layout.frameCount; frame++) {
+    const offset = dataSet.byteArray.byteOffset + element.dataOffset + frame * frameBytes;
+    if (bytesPerValue === 1) {
+      frames.push(new Uint8Array(dataSet.byteArray.buffer, offset, frameBytes));
+      continue;
+    }
+    const view = new DataView(dataSet.byteArray.buffer, offset, frameBytes);
+    const values = new Uint16Array(count);
+    const little = syntax.byteOrder === 'little';
+    for (let index = 0; index < count; index++) values[index] = view.getUint16(index * 2, little);
+    frames.push(values);
+  }
+  return frames;
+}
+
+/**
+ * Pixel Padding Value (0028,0120), with Pixel Padding Range Limit (0028,0121) when present:
+ * the stored values that mark pixels outside the scanned field (DICOM PS3.3 C.7.5.1.1.2).
+ */
+function paddingRange(header: DicomJsonDataset): { low: number; high: number } | null {
+  const value = firstNumber(header, '00280120');
+  if (value === undefined || !Number.isFinite(value)) return null;
+  const limit = firstNumber(header, '00280121');
+  const other = limit !== undefined && Number.isFinite(limit) ? limit : value;
+  return { low: Math.min(value, other), high: Math.max(value, other) };
+}
+
+/**
+ * What padded pixels become: air (−1024 HU) in CT, 0 in MR. The padding marks pixels outside
+ * the scanned field; stored as they are, they would reach values far below air (often −2000
+ * or −3024 HU after rescale) and stretch the value range and the default window.
+ */
+function paddingFill(modality: string | undefined): number {
+  return modality === 'CT' ? -1024 : 0;
+}
+
+/** Reads a file and decodes every frame: padding and rescale applied, checked to fit int16. */
+export function decodeInstance(
+  bytes: Uint8Array,
+  label: string,
+  limits: InstanceReadLimits,
+  onFrame?: (done: number, total: number) => void,
+): { scanned: ScannedImage; decoded: DecodedInstance } {
+  const parsed = parseFile(bytes, label, limits);
+  const scanned = classify(parsed, label);
+  if (scanned.kind !== 'image') throw new InstanceRefusal(scanned.refusal);
+  const { layout } = scanned;
+  const { dataSet, syntax } = parsed;
+  const element = dataSet.elements.x7fe00010;
+  const frameLayout: FrameLayout = {
+    rows: layout.rows,
+    columns: layout.columns,
+    bitsAllocated: layout.bitsAllocated,
+    bitsStored: layout.bitsStored,
+    isSigned: layout.isSigned,
+    label,
+  };
+  const compressed =
+    syntax.kind === 'encapsulated'
+      ? encapsulatedFrames(dataSet, element, layout.frameCount, label)
+      : null;
+  const native = compressed ? null : nativeFrames(dataSet, element, layout, syntax, label);
+  const mask = 2 ** layout.bitsStored - 1;
+  const signBit = 2 ** (layout.bitsStored - 1);
+  const padding = paddingRange(scanned.header);
+  const fill = paddingFill(firstString(scanned.header, '00080060'));
+  const count = layout.rows * layout.columns;
+  const frames: Int16Array<ArrayBuffer>[] = [];
+  let min = Infinity;
+  let max = -Infinity;
+  let lossyFrames = 0;
+  let losslessFrames = 0;
+  for (let frame = 0; frame < layout.frameCount; frame++) {
+    let values: Uint8Array | Uint16Array | Int16Array;
+    if (compressed) {
+      const result = decodeFrame(syntax, compressed[frame], frameLayout);
+      values = result.values;
+      if (result.isLossy === true) lossyFrames += 1;
+      if (result.isLossy === false) losslessFrames += 1;
+    } else {
+      values = (native as (Uint8Array | Uint16Array)[])[frame];
+    }
+    if (values.length < count) {
+      refuse(
+        400,
+        'malformed',
+        `${label}: frame ${frame + 1} decodes to ${values.length} pixels, where ` +
+          `${layout.rows} rows × ${layout.columns} columns need ${count}.`,
+      );
+    }
+    const { slope, intercept } = scanned.frames[frame].rescale;
+    const pixels = new Int16Array(count);
+    for (let index = 0; index < count; index++) {
+      let stored = values[index] & 0xffff & mask;
+      if (layout.isSigned && stored >= signBit) stored -= 2 * signBit;
+      let value: number;
+      if (padding && stored >= padding.low && stored <= padding.high) {
+        value = fill;
+      } else {
+        value = Math.round(stored * slope + intercept);
+        if (value < -32768 || value > 32767) {
+          refuse(
+            400,
+            'value-range',
+            `${label}: after Rescale Slope and Intercept a pixel reaches ${value}, outside ` +
+              '−32768…32767, the range Emberline stores.',
+          );
+        }
+      }
+      pixels[index] = value;
+      if (value < min) min = value;
+      if (value > max) max = value;
+    }
+    frames.push(pixels);
+    onFrame?.(frame + 1, layout.frameCount);
+  }
+  const isLossyByCodestream =
+    lossyFrames > 0 ? true : losslessFrames === layout.frameCount ? false : null;
+  return { scanned, decoded: { label, frames, valueRange: { min, max }, isLossyByCodestream } };
 }

@@ -1,34 +1,78 @@
 /**
- * A few worker threads that read uploads (`dicom-read.worker.ts`), each job bounded in time
- * (the worker is terminated past `timeoutMs`) and each worker in memory (`resourceLimits`): a
- * file that makes dicom-parser recurse, loop or swell ends in a refusal, never in a hang or in
- * the server running out of memory. A terminated or crashed worker is replaced on demand.
+ * A few worker threads that read uploads (`dicom-read.worker.ts`). Each file is bounded in
+ * time (the worker reports the file it starts; past `timeoutMs` without a report the worker is
+ * terminated and the refusal names that file) and each worker in memory (`resourceLimits` for
+ * the JavaScript heap; the codecs give back WebAssembly memory between files): a file that
+ * makes dicom-parser recurse, a codec loop or anything swell ends in a refusal, never in a hang
+ * or in the server running out of memory. A terminated or crashed worker is replaced on demand.
  */
 import { Worker } from 'node:worker_threads';
-import type { ReadLimits, ReadReply, ReadRequest, ReadResult } from './dicom-read-protocol';
+import type { DecodedInstance, ScannedImage } from './dicom-instance-reader';
+import type {
+  ReadLimits,
+  ReadRequest,
+  ScanResult,
+  UploadedFileMessage,
+  WorkerMessage,
+} from './dicom-read-protocol';
 import { ImagingRefusal } from './imaging-refusal';
 
 export interface DicomReadPoolOptions {
-  /** Worker threads at most (each reads one upload at a time). */
+  /** Worker threads at most (each reads one job at a time). */
   size: number;
-  /** Longest a worker may spend on one upload, startup included. */
+  /** Longest a worker may spend on one file (or on a run of 16 frames of one), startup included. */
   timeoutMs: number;
   /** V8 heap of one worker (old generation), megabytes. */
   memoryLimitMb: number;
-  /** Uploads waiting for a worker before new ones are refused with 503. */
+  /** Jobs waiting for a worker before new ones are refused with 503. */
   maxQueued: number;
   limits: ReadLimits;
 }
 
+/** A file of an upload to scan: its name (a relative path for folders) and bytes. */
+export interface FileToScan {
+  name: string;
+  bytes: Uint8Array;
+}
+
+/** A file to decode: its label from the scan and its bytes. */
+export interface FileToDecode {
+  label: string;
+  bytes: Uint8Array;
+}
+
+export interface DecodedFile {
+  scanned: ScannedImage;
+  decoded: DecodedInstance;
+}
+
+export interface ReadProgress {
+  fileIndex: number;
+  framesDone: number;
+  label: string;
+}
+
 interface Job {
-  files: Uint8Array[];
-  resolve: (result: ReadResult) => void;
+  kind: 'scan' | 'decode';
+  files: { name: string; bytes: Uint8Array }[];
+  /** Decode only: copy the bytes to the worker rather than hand them over. */
+  keepBytes: boolean;
+  onProgress?: (progress: ReadProgress) => void;
+  resolve: (result: ScanResult | DecodedFile[]) => void;
   reject: (error: Error) => void;
+}
+
+interface RunningJob extends Job {
+  jobId: number;
+  timer: NodeJS.Timeout;
+  hasTimedOut: boolean;
+  currentLabel: string;
+  decoded: DecodedFile[];
 }
 
 interface PoolWorker {
   worker: Worker;
-  job?: Job & { jobId: number; timer: NodeJS.Timeout; hasTimedOut: boolean };
+  job?: RunningJob;
   crash?: Error;
 }
 
@@ -58,8 +102,33 @@ export class DicomReadPool {
 
   constructor(private readonly options: DicomReadPoolOptions) {}
 
-  /** Reads the files of one upload; rejects with an ImagingRefusal for anything refused. */
-  read(files: Uint8Array[]): Promise<ReadResult> {
+  /** Unpacks an upload and reads every file's header; rejects with an ImagingRefusal. */
+  scan(files: FileToScan[], onProgress?: (progress: ReadProgress) => void): Promise<ScanResult> {
+    return this.submit({
+      kind: 'scan',
+      files,
+      keepBytes: false,
+      onProgress,
+    }) as Promise<ScanResult>;
+  }
+
+  /**
+   * Decodes the pixels of image files (in the order given); with `keepBytes` the caller's
+   * bytes stay usable (they are copied to the worker), else they are handed over.
+   */
+  decode(
+    files: FileToDecode[],
+    options: { keepBytes: boolean; onProgress?: (progress: ReadProgress) => void },
+  ): Promise<DecodedFile[]> {
+    return this.submit({
+      kind: 'decode',
+      files: files.map((file) => ({ name: file.label, bytes: file.bytes })),
+      keepBytes: options.keepBytes,
+      onProgress: options.onProgress,
+    }) as Promise<DecodedFile[]>;
+  }
+
+  private submit(job: Omit<Job, 'resolve' | 'reject'>): Promise<ScanResult | DecodedFile[]> {
     if (this.isClosed) return Promise.reject(new Error('the DICOM reading pool is closed'));
     if (this.queue.length >= this.options.maxQueued) {
       return Promise.reject(
@@ -70,8 +139,8 @@ export class DicomReadPool {
         ),
       );
     }
-    return new Promise<ReadResult>((resolve, reject) => {
-      this.queue.push({ files, resolve, reject });
+    return new Promise<ScanResult | DecodedFile[]>((resolve, reject) => {
+      this.queue.push({ ...job, resolve, reject });
       this.pump();
     });
   }
@@ -127,7 +196,7 @@ export class DicomReadPool {
     worker.unref();
     const entry: PoolWorker = { worker };
     this.all.add(entry);
-    worker.on('message', (reply: ReadReply) => this.finish(entry, reply));
+    worker.on('message', (message: WorkerMessage) => this.receive(entry, message));
     worker.on('error', (error) => {
       entry.crash = error;
     });
@@ -137,14 +206,35 @@ export class DicomReadPool {
 
   private start(entry: PoolWorker, job: Job): void {
     const jobId = this.nextJobId++;
-    const timer = setTimeout(() => {
-      if (entry.job) entry.job.hasTimedOut = true;
-      void entry.worker.terminate();
-    }, this.options.timeoutMs);
-    entry.job = { ...job, jobId, timer, hasTimedOut: false };
+    entry.job = {
+      ...job,
+      jobId,
+      timer: this.clock(entry),
+      hasTimedOut: false,
+      currentLabel: 'The upload',
+      decoded: [],
+    };
     entry.worker.ref();
-    const buffers = job.files.map(ownBuffer);
-    const request: ReadRequest = { jobId, files: buffers, limits: this.options.limits };
+    const buffers = job.files.map((file) =>
+      job.keepBytes ? file.bytes.slice().buffer : ownBuffer(file.bytes),
+    );
+    const request: ReadRequest =
+      job.kind === 'scan'
+        ? {
+            jobId,
+            kind: 'scan',
+            files: job.files.map((file, index): UploadedFileMessage => ({
+              name: file.name,
+              buffer: buffers[index],
+            })),
+            limits: this.options.limits,
+          }
+        : {
+            jobId,
+            kind: 'decode',
+            files: job.files.map((file, index) => ({ label: file.name, buffer: buffers[index] })),
+            limits: this.options.limits,
+          };
     try {
       entry.worker.postMessage(request, buffers);
     } catch {
@@ -153,15 +243,52 @@ export class DicomReadPool {
     }
   }
 
-  private finish(entry: PoolWorker, reply: ReadReply): void {
+  /** The time bound of the file being read: restarted by every progress report. */
+  private clock(entry: PoolWorker): NodeJS.Timeout {
+    return setTimeout(() => {
+      if (entry.job) entry.job.hasTimedOut = true;
+      void entry.worker.terminate();
+    }, this.options.timeoutMs);
+  }
+
+  private receive(entry: PoolWorker, message: WorkerMessage): void {
     const job = entry.job;
-    if (!job || job.jobId !== reply.jobId) return;
+    if (!job || job.jobId !== message.jobId) return;
+    switch (message.type) {
+      case 'progress':
+        clearTimeout(job.timer);
+        job.timer = this.clock(entry);
+        job.currentLabel = message.label;
+        job.onProgress?.({
+          fileIndex: message.fileIndex,
+          framesDone: message.framesDone,
+          label: message.label,
+        });
+        return;
+      case 'decoded':
+        job.decoded[message.index] = { scanned: message.scanned, decoded: message.decoded };
+        return;
+      case 'scanned': {
+        const { entries, skippedCount, skipped, directory } = message;
+        this.settle(entry, () => job.resolve({ entries, skippedCount, skipped, directory }));
+        return;
+      }
+      case 'done':
+        this.settle(entry, () => job.resolve(job.decoded));
+        return;
+      case 'refused':
+        this.settle(entry, () => job.reject(ImagingRefusal.from(message.refusal)));
+    }
+  }
+
+  private settle(entry: PoolWorker, answer: () => void): void {
+    const job = entry.job;
+    if (!job) return;
     clearTimeout(job.timer);
     entry.job = undefined;
     entry.worker.unref();
     this.idle.push(entry);
-    if (reply.ok) job.resolve({ instances: reply.instances, skippedCount: reply.skippedCount });
-    else job.reject(ImagingRefusal.from(reply.refusal));
+    answer();
     this.pump();
   }
 
@@ -174,19 +301,19 @@ export class DicomReadPool {
     entry.job = undefined;
     if (job) {
       clearTimeout(job.timer);
-      job.reject(this.refusalOfEndedJob(job.hasTimedOut, entry.crash));
+      job.reject(this.refusalOfEndedJob(job.currentLabel, job.hasTimedOut, entry.crash));
     }
     if (!this.isClosed) this.pump();
   }
 
-  private refusalOfEndedJob(hasTimedOut: boolean, crash: Error | undefined): Error {
+  private refusalOfEndedJob(label: string, hasTimedOut: boolean, crash: Error | undefined): Error {
     const seconds = Number((this.options.timeoutMs / 1000).toFixed(1));
     if (hasTimedOut) {
       return new ImagingRefusal(
         400,
         'too-complex',
-        `Reading the upload took longer than ${seconds} s; a file is damaged or far more ` +
-          'complex than an image series needs.',
+        `${label} took longer than ${seconds} s to read; it is damaged or far more complex ` +
+          'than an image needs.',
       );
     }
     const code = (crash as { code?: unknown } | undefined)?.code;
@@ -194,8 +321,8 @@ export class DicomReadPool {
       return new ImagingRefusal(
         400,
         'too-complex',
-        `Reading the upload needed more than ${this.options.memoryLimitMb} MB of memory; a ` +
-          'file is damaged or far more complex than an image series needs.',
+        `${label} needed more than ${this.options.memoryLimitMb} MB of memory to read; it is ` +
+          'damaged or far more complex than an image needs.',
       );
     }
     // Not the upload's fault as far as anyone can tell: an internal error, logged as such.

@@ -1,50 +1,129 @@
 /**
- * A worker thread that reads uploads: unpacks them, parses each file with dicom-parser and
- * answers the headers and pixels, or the refusal of the first file it cannot accept. The pool
- * that starts it bounds its time and memory, since dicom-parser recurses into sequences
- * without a depth limit; nothing here logs or writes anything.
+ * A worker thread that reads uploads. A `scan` job unpacks the upload (files, a zip, a folder
+ * with a DICOMDIR) and reads every file's header; a `decode` job decodes the pixels of chosen
+ * files, answering each file as soon as it is done so that the worker never holds a whole
+ * series. Before each file (and every few frames of a multi-frame file) it reports progress,
+ * which restarts the pool's clock for that file. The pool bounds its time and memory, since
+ * dicom-parser recurses into sequences without a depth limit and codecs run on untrusted
+ * bytes; nothing here logs or writes anything.
  */
 import { parentPort } from 'node:worker_threads';
-import { InstanceRefusal, readInstance, type ParsedInstance } from './dicom-instance-reader';
-import type { ReadReply, ReadRequest } from './dicom-read-protocol';
+import { decodeInstance, InstanceRefusal, scanInstance } from './dicom-instance-reader';
+import type { ReadRequest, ScannedEntry, WorkerMessage } from './dicom-read-protocol';
+import { initialiseCodecs, releaseCodecMemory } from './pixel-data';
 import { unpackUpload } from './upload-unpack';
 
-function read(request: ReadRequest): ReadReply {
+const codecsReady = initialiseCodecs();
+
+function post(message: WorkerMessage, transfer: ArrayBuffer[] = []): void {
+  parentPort?.postMessage(message, transfer);
+}
+
+function refusalOf(error: unknown, label: string): WorkerMessage & { type: 'refused' } {
+  if (error instanceof InstanceRefusal) {
+    return { jobId: 0, type: 'refused', refusal: error.payload };
+  }
+  const isTooDeep = error instanceof RangeError && /call stack/i.test(error.message);
+  return {
+    jobId: 0,
+    type: 'refused',
+    refusal: {
+      status: 400,
+      reason: isTooDeep ? 'too-complex' : 'malformed',
+      detail: isTooDeep
+        ? `${label} nests its attributes too deeply to be read.`
+        : `${label} could not be read as a DICOM image.`,
+    },
+  };
+}
+
+function scan(request: Extract<ReadRequest, { kind: 'scan' }>): void {
+  const { jobId, limits } = request;
   let label = 'The upload';
   try {
-    const { entries, skippedCount } = unpackUpload(
-      request.files.map((buffer) => new Uint8Array(buffer)),
-      request.limits,
+    const unpacked = unpackUpload(
+      request.files.map((file) => ({ name: file.name, bytes: new Uint8Array(file.buffer) })),
+      limits,
     );
-    const instances: ParsedInstance[] = [];
-    for (const entry of entries) {
+    const entries: ScannedEntry[] = [];
+    unpacked.entries.forEach((entry, index) => {
       label = entry.label;
-      instances.push(readInstance(entry.bytes, entry.label, request.limits));
-      // Let the file's bytes go as soon as it has been read.
-      entry.bytes = new Uint8Array(0);
-    }
-    return { jobId: request.jobId, ok: true, instances, skippedCount };
-  } catch (error) {
-    if (error instanceof InstanceRefusal) {
-      return { jobId: request.jobId, ok: false, refusal: error.payload };
-    }
-    const isTooDeep = error instanceof RangeError && /call stack/i.test(error.message);
-    return {
-      jobId: request.jobId,
-      ok: false,
-      refusal: {
-        status: 400,
-        reason: isTooDeep ? 'too-complex' : 'malformed',
-        detail: isTooDeep
-          ? `${label} nests its attributes too deeply to be read.`
-          : `${label} could not be read as a DICOM image.`,
+      post({ jobId, type: 'progress', label, fileIndex: index, framesDone: 0 });
+      entries.push({
+        label: entry.label,
+        path: entry.path,
+        bytes: entry.bytes,
+        scanned: scanInstance(entry.bytes, entry.label, limits),
+      });
+    });
+    const transfer = uniqueBuffers(entries.map((entry) => entry.bytes));
+    post(
+      {
+        jobId,
+        type: 'scanned',
+        entries,
+        skippedCount: unpacked.skippedCount,
+        skipped: unpacked.skipped,
+        directory: unpacked.directory,
       },
-    };
+      transfer,
+    );
+  } catch (error) {
+    post({ ...refusalOf(error, label), jobId });
   }
 }
 
+function decode(request: Extract<ReadRequest, { kind: 'decode' }>): void {
+  const { jobId, limits } = request;
+  let label = 'The upload';
+  try {
+    request.files.forEach((file, index) => {
+      label = file.label;
+      post({ jobId, type: 'progress', label, fileIndex: index, framesDone: 0 });
+      const { scanned, decoded } = decodeInstance(
+        new Uint8Array(file.buffer),
+        file.label,
+        limits,
+        (done, total) => {
+          // A long multi-frame file reports every 16 frames, so its clock runs per run.
+          if (done % 16 === 0 && done < total) {
+            post({
+              jobId,
+              type: 'progress',
+              label: file.label,
+              fileIndex: index,
+              framesDone: done,
+            });
+          }
+        },
+      );
+      post(
+        { jobId, type: 'decoded', index, scanned, decoded },
+        decoded.frames.map((frame) => frame.buffer),
+      );
+      releaseCodecMemory(limits.maxCodecMemoryBytes);
+    });
+    post({ jobId, type: 'done' });
+  } catch (error) {
+    post({ ...refusalOf(error, label), jobId });
+  }
+}
+
+/** The distinct whole buffers behind some views, for transfer (a zip's entries may share). */
+function uniqueBuffers(views: Uint8Array[]): ArrayBuffer[] {
+  const buffers = new Set<ArrayBuffer>();
+  for (const view of views) {
+    if (view.buffer instanceof ArrayBuffer) buffers.add(view.buffer);
+  }
+  return [...buffers];
+}
+
 parentPort?.on('message', (request: ReadRequest) => {
-  const reply = read(request);
-  const transfer = reply.ok ? reply.instances.map((instance) => instance.pixels.buffer) : [];
-  parentPort?.postMessage(reply, transfer);
+  void codecsReady.then(
+    () => (request.kind === 'scan' ? scan(request) : decode(request)),
+    (error: unknown) => {
+      // Not the upload's fault: the worker ends and the pool reports an internal error.
+      throw error;
+    },
+  );
 });

@@ -1,6 +1,7 @@
 import { Entity, Index, ManyToOne, Property, Unique, type Ref } from '@mikro-orm/core';
 import type {
   DeidentificationRecord,
+  SeriesCompression,
   GridDimensions,
   ImageModality,
   Vec3,
@@ -97,6 +98,10 @@ export class ImageSeries extends BaseEntity {
 
   @Property({ type: 'json' })
   deidentification: DeidentificationRecord;
+
+  /** The files' transfer syntax and any lossy compression they went through (null before it was kept). */
+  @Property({ type: 'json', nullable: true })
+  compression: SeriesCompression | null = null;
 
   @ManyToOne(() => User, { ref: true })
   uploadedBy: Ref<User>;

@@ -5,6 +5,7 @@ import { dirname } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { z } from 'zod';
 import type { DicomReadPoolOptions } from './dicom-read-pool';
+import type { PendingUploadLimits } from './pending-uploads';
 import type { UploadLimits } from './upload-receiver';
 
 export interface ImagingSettings {
@@ -13,6 +14,7 @@ export interface ImagingSettings {
   deidentificationSecret: string;
   upload: UploadLimits;
   pool: DicomReadPoolOptions;
+  pending: PendingUploadLimits;
 }
 
 const dataDir = fileURLToPath(new URL('../../../../.data/', import.meta.url));
@@ -29,9 +31,13 @@ const environmentSchema = z.object({
   DEIDENTIFICATION_SECRET: z.string().min(32).optional(),
   IMAGING_MAX_FILES: positive(2000),
   IMAGING_MAX_UPLOAD_BYTES: positive(512 * mebibyte),
-  IMAGING_MAX_INSTANCE_BYTES: positive(16 * mebibyte),
+  // One file may be a whole Enhanced CT series (hundreds of frames).
+  IMAGING_MAX_INSTANCE_BYTES: positive(512 * mebibyte),
   IMAGING_MAX_INFLATED_BYTES: positive(768 * mebibyte),
-  IMAGING_READ_TIMEOUT_MS: positive(60_000),
+  IMAGING_READ_TIMEOUT_MS: positive(30_000),
+  IMAGING_CODEC_MEMORY_MB: positive(256),
+  IMAGING_PENDING_MINUTES: positive(15),
+  IMAGING_PENDING_MAX_BYTES: positive(1536 * mebibyte),
   IMAGING_WORKER_MEMORY_MB: positive(256),
   IMAGING_WORKERS: positive(Math.max(1, Math.min(2, availableParallelism() - 1))),
   IMAGING_MAX_QUEUED: positive(8),
@@ -73,8 +79,14 @@ export function imagingSettingsFromEnvironment(env = process.env): ImagingSettin
         maxInstanceBytes: values.IMAGING_MAX_INSTANCE_BYTES,
         maxInflatedBytes: values.IMAGING_MAX_INFLATED_BYTES,
         maxSequenceDepth: 12,
-        maxAttributes: 20_000,
+        // An Enhanced CT of 1000 frames carries some 30 attributes a frame.
+        maxAttributes: 100_000,
+        maxCodecMemoryBytes: values.IMAGING_CODEC_MEMORY_MB * mebibyte,
       },
+    },
+    pending: {
+      ttlMs: values.IMAGING_PENDING_MINUTES * 60_000,
+      maxBytes: values.IMAGING_PENDING_MAX_BYTES,
     },
   };
 }

@@ -8,6 +8,8 @@ import {
   encodeVolumeFilePreamble,
   type DeidentificationRecord,
   type ImageSeriesView,
+  type UploadListing,
+  type UploadProgress,
 } from '@emberline/shared';
 import { hasRole } from '../../common/auth-middleware';
 import { ForbiddenError, NotFoundError } from '../../common/errors';
@@ -20,12 +22,15 @@ import { User } from '../users/user.entity';
 import { CaseDeidentificationKeys } from './case-deidentification-keys';
 import { deidentificationMethod, deidentifyHeader, uidsToReplace } from './deidentify';
 import type { DicomReadPool } from './dicom-read-pool';
+import type { ScannedEntry } from './dicom-read-protocol';
 import { firstString } from './dicom-json';
 import type { FileStore } from './file-store';
 import { ImageSeries } from './image-series.entity';
 import { ImagingRefusal } from './imaging-refusal';
 import type { ImagingSettings } from './imaging-settings';
-import { assembleSeries, type AssembledSeries } from './series-assembly';
+import type { PendingUploads, UploadProgressBoard } from './pending-uploads';
+import { assembleSeries, type AssembledSeries, type SeriesPlan } from './series-assembly';
+import { listCandidate, sortStudy } from './study-sorting';
 import { resolveUidReplacements } from './uid-replacements';
 import { receiveUpload } from './upload-receiver';
 
@@ -33,6 +38,19 @@ export interface ImagingDependencies {
   pool: DicomReadPool;
   store: FileStore;
   settings: ImagingSettings;
+  pending: PendingUploads;
+  progress: UploadProgressBoard;
+}
+
+/** What an upload answers: the stored series (one image series), or the listing to choose from. */
+export type UploadOutcome =
+  { status: 201; series: ImageSeriesView } | { status: 202; listing: UploadListing };
+
+/** A series chosen to store: its plan and the files its images come from. */
+interface SeriesToStore {
+  key: string;
+  plan: SeriesPlan;
+  files: { label: string; bytes: Uint8Array }[];
 }
 
 const deidentificationRecord = (): DeidentificationRecord => ({
@@ -72,32 +90,111 @@ export class ImagingService {
     caseId: string,
     request: Request,
     response: Response,
-  ): Promise<ImageSeriesView> {
+    progressToken: string | undefined,
+  ): Promise<UploadOutcome> {
+    const found = await this.findCaseToUploadTo(user, caseId);
+    try {
+      return await this.receive(user, actor, found, request, response, progressToken);
+    } catch (error) {
+      await this.auditRefusal(actor, found.id, error);
+      this.failProgress(progressToken, user.id);
+      throw error;
+    }
+  }
+
+  /** Stores the chosen series of an upload that held several; the others are dropped. */
+  async keep(
+    user: SignedInUser,
+    actor: Actor,
+    uploadId: string,
+    keys: string[],
+    progressToken: string | undefined,
+  ): Promise<ImageSeriesView[]> {
+    const pending = this.dependencies.pending.find(uploadId, user.id);
+    if (!pending) throw new NotFoundError('The upload (uploads are kept for 15 minutes)');
+    const found = await this.findCaseToUploadTo(user, pending.caseId);
+    const chosen = [...new Set(keys)].map((key) => {
+      const candidate = pending.candidates.find((entry) => entry.key === key);
+      if (!candidate) {
+        throw new ImagingRefusal(
+          400,
+          'no-files',
+          `The upload has no series "${key.replace(/[^\w-]/g, '').slice(0, 16)}"; it offers ` +
+            `${pending.candidates.map((entry) => entry.key).join(', ')}.`,
+        );
+      }
+      return {
+        key,
+        plan: candidate.plan,
+        files: candidate.entryIndices.map((index) => pending.files[index]),
+      };
+    });
+    try {
+      const stored = await this.storeSeries(user, actor, found, chosen, {
+        keepBytes: true,
+        progressToken,
+        uploadId,
+        skippedCount: pending.skipped.length,
+      });
+      // Nothing of the series not kept stays: the whole upload is forgotten.
+      this.dependencies.pending.remove(uploadId);
+      return stored;
+    } catch (error) {
+      await this.auditRefusal(actor, found.id, error);
+      this.failProgress(progressToken, user.id);
+      throw error;
+    }
+  }
+
+  /** Forgets an upload waiting for a choice, keeping nothing of it. */
+  async discard(user: SignedInUser, actor: Actor, uploadId: string): Promise<void> {
+    const pending = this.dependencies.pending.find(uploadId, user.id);
+    if (!pending) throw new NotFoundError('The upload');
+    this.dependencies.pending.remove(uploadId);
+    await writeAudit(this.em, actor, {
+      action: 'series.upload-discarded',
+      entityType: 'case',
+      entityId: pending.caseId,
+      detail: { uploadId, seriesOffered: pending.candidates.length },
+    });
+  }
+
+  progressOf(user: SignedInUser, token: string): UploadProgress {
+    const progress = this.dependencies.progress.get(token, user.id);
+    if (!progress) throw new NotFoundError('The upload progress');
+    return progress;
+  }
+
+  private async findCaseToUploadTo(user: SignedInUser, caseId: string): Promise<ClinicalCase> {
     const found = await this.findVisibleCase(user, caseId);
     if (!hasRole(user, 'presenting-physician') || found.presenter.id !== user.id) {
       throw new ForbiddenError('Only the presenting physician of this case uploads its images.');
     }
     assertCaseOpenForChanges(found);
-    try {
-      return await this.ingest(user, actor, found, request, response);
-    } catch (error) {
-      const reason =
-        error instanceof ImagingRefusal
-          ? error.reason
-          : error instanceof UniqueConstraintViolationException
-            ? 'duplicate-series'
-            : null;
-      if (reason) {
-        await writeAudit(this.em, actor, {
-          action: 'series.upload',
-          entityType: 'case',
-          entityId: found.id,
-          outcome: 'refused',
-          detail: { reason },
-        });
-      }
-      throw error;
-    }
+    return found;
+  }
+
+  private async auditRefusal(actor: Actor, caseId: string, error: unknown): Promise<void> {
+    const reason =
+      error instanceof ImagingRefusal
+        ? error.reason
+        : error instanceof UniqueConstraintViolationException
+          ? 'duplicate-series'
+          : null;
+    if (!reason) return;
+    await writeAudit(this.em, actor, {
+      action: 'series.upload',
+      entityType: 'case',
+      entityId: caseId,
+      outcome: 'refused',
+      detail: { reason },
+    });
+  }
+
+  private failProgress(token: string | undefined, userId: string): void {
+    this.dependencies.progress.update(token, userId, (progress) => {
+      progress.stage = 'failed';
+    });
   }
 
   async list(user: SignedInUser, actor: Actor, caseId: string): Promise<ImageSeriesView[]> {
@@ -167,17 +264,169 @@ export class ImagingService {
     return this.em.getRepository(ClinicalCase).findVisibleOrFail(user, id);
   }
 
-  private async ingest(
+  private async receive(
     user: SignedInUser,
     actor: Actor,
     found: ClinicalCase,
     request: Request,
     response: Response,
-  ): Promise<ImageSeriesView> {
-    const { settings, pool, store } = this.dependencies;
+    progressToken: string | undefined,
+  ): Promise<UploadOutcome> {
+    const { settings, pool, pending, progress } = this.dependencies;
     const files = await receiveUpload(request, response, settings.upload);
-    const { instances, skippedCount } = await pool.read(files);
-    const assembled = assembleSeries(instances);
+    progress.set(progressToken, user.id, {
+      stage: 'reading',
+      files: { done: 0, total: files.length },
+      series: [],
+    });
+    const scan = await pool.scan(files, ({ fileIndex }) =>
+      progress.update(progressToken, user.id, (state) => {
+        state.files.done = fileIndex;
+      }),
+    );
+    progress.update(progressToken, user.id, (state) => {
+      state.files = { done: scan.entries.length, total: scan.entries.length };
+    });
+    const sorted = sortStudy(scan.entries);
+    const skipped = [...scan.skipped, ...sorted.skipped];
+    if (sorted.candidates.length === 0) throw ImagingRefusal.from(sorted.refusalIfEmpty);
+    const filesOf = (entryIndices: number[]) =>
+      entryIndices.map((index) => fileOf(scan.entries[index]));
+    if (sorted.candidates.length === 1 && !sorted.hasSkippedImageSeries) {
+      const [only] = sorted.candidates;
+      const [series] = await this.storeSeries(
+        user,
+        actor,
+        found,
+        [{ key: only.key, plan: only.plan, files: filesOf(only.entryIndices) }],
+        { keepBytes: false, progressToken, uploadId: null, skippedCount: skipped.length },
+      );
+      return { status: 201, series };
+    }
+    const held = pending.add({
+      caseId: found.id,
+      userId: user.id,
+      files: scan.entries.map(fileOf),
+      candidates: sorted.candidates,
+      skipped,
+    });
+    progress.update(progressToken, user.id, (state) => {
+      state.stage = 'done';
+    });
+    await writeAudit(this.em, actor, {
+      action: 'series.upload-listed',
+      entityType: 'case',
+      entityId: found.id,
+      detail: {
+        uploadId: held.id,
+        seriesOffered: held.candidates.length,
+        skippedCount: skipped.length,
+      },
+    });
+    return {
+      status: 202,
+      listing: {
+        uploadId: held.id,
+        expiresAt: held.expiresAt.toISOString(),
+        series: held.candidates.map(listCandidate),
+        skipped,
+      },
+    };
+  }
+
+  /**
+   * Decodes, checks, de-identifies and stores series, all or none: every volume is written,
+   * then every row in one flush; a failure removes the volumes written.
+   */
+  private async storeSeries(
+    user: SignedInUser,
+    actor: Actor,
+    found: ClinicalCase,
+    chosen: SeriesToStore[],
+    options: {
+      keepBytes: boolean;
+      progressToken: string | undefined;
+      uploadId: string | null;
+      skippedCount: number;
+    },
+  ): Promise<ImageSeriesView[]> {
+    const { pool, store, progress } = this.dependencies;
+    const { progressToken } = options;
+    progress.set(progressToken, user.id, {
+      stage: 'decoding',
+      files: { done: 0, total: chosen.reduce((sum, entry) => sum + entry.files.length, 0) },
+      series: chosen.map((entry) => ({
+        key: entry.key,
+        description: entry.plan.description,
+        done: 0,
+        total: entry.plan.slices.length,
+      })),
+    });
+    const assembled: { entry: SeriesToStore; series: AssembledSeries }[] = [];
+    let filesBefore = 0;
+    for (const [position, entry] of chosen.entries()) {
+      const framesBefore = entry.plan.images.map((_, index) =>
+        entry.plan.images
+          .slice(0, index)
+          .reduce((sum, image) => sum + image.scanned.frames.length, 0),
+      );
+      const decoded = await pool.decode(entry.files, {
+        keepBytes: options.keepBytes,
+        onProgress: ({ fileIndex, framesDone }) =>
+          progress.update(progressToken, user.id, (state) => {
+            state.files.done = filesBefore + fileIndex;
+            state.series[position].done = framesBefore[fileIndex] + framesDone;
+          }),
+      });
+      filesBefore += entry.files.length;
+      progress.update(progressToken, user.id, (state) => {
+        state.series[position].done = entry.plan.slices.length;
+      });
+      assembled.push({ entry, series: assembleSeries(entry.plan, decoded) });
+    }
+    progress.update(progressToken, user.id, (state) => {
+      state.stage = 'storing';
+    });
+    const written: string[] = [];
+    const rows: ImageSeries[] = [];
+    try {
+      for (const { series: volume } of assembled) {
+        rows.push(await this.prepareSeries(user, found, volume, written));
+      }
+      for (const row of rows) {
+        recordAudit(this.em, actor, {
+          action: 'series.upload',
+          entityType: 'case',
+          entityId: found.id,
+          detail: {
+            seriesId: row.id,
+            sliceCount: row.sliceCount,
+            skippedCount: options.skippedCount,
+            ...(options.uploadId ? { uploadId: options.uploadId } : {}),
+          },
+        });
+      }
+      await this.em.flush();
+    } catch (error) {
+      // Nothing of a failed upload stays behind: not the rows, not the volumes.
+      this.em.clear();
+      await Promise.all(written.map((key) => store.remove(key)));
+      throw error;
+    }
+    progress.update(progressToken, user.id, (state) => {
+      state.stage = 'done';
+    });
+    return rows.map((row) => toView(row, user.displayName));
+  }
+
+  /** De-identifies one assembled series and writes its volume; the row is persisted, not flushed. */
+  private async prepareSeries(
+    user: SignedInUser,
+    found: ClinicalCase,
+    assembled: AssembledSeries,
+    written: string[],
+  ): Promise<ImageSeries> {
+    const { store } = this.dependencies;
     const header = await this.deidentifiedHeader(found.id, assembled);
     const uid = (tag: string, name: string) => {
       const value = firstString(header.dataset, tag);
@@ -195,7 +444,6 @@ export class ImagingService {
         `This series is stored for the case already (series ${stored.id}).`,
       );
     }
-
     const { geometry } = assembled;
     const storageKey = store.newVolumeKey();
     const preamble = encodeVolumeFilePreamble({
@@ -212,6 +460,7 @@ export class ImagingService {
       valueRange: assembled.valueRange,
       window: assembled.window,
     });
+    written.push(storageKey);
     const byteLength = await store.writeAtomically(storageKey, [
       preamble,
       littleEndianBytes(assembled.voxels),
@@ -239,22 +488,9 @@ export class ImagingService {
       deidentification: deidentificationRecord(),
     });
     series.seriesNumber = assembled.seriesNumber;
+    series.compression = assembled.compression;
     this.em.persist(series);
-    recordAudit(this.em, actor, {
-      action: 'series.upload',
-      entityType: 'case',
-      entityId: found.id,
-      detail: { seriesId: series.id, sliceCount: series.sliceCount, skippedCount },
-    });
-    try {
-      await this.em.flush();
-    } catch (error) {
-      // Nothing of a failed upload stays behind: not the row, not the volume.
-      this.em.clear();
-      await store.remove(storageKey);
-      throw error;
-    }
-    return toView(series, user.displayName);
+    return series;
   }
 
   private async deidentifiedHeader(caseId: string, assembled: AssembledSeries) {
@@ -293,7 +529,12 @@ function toView(series: ImageSeries, uploaderName: string): ImageSeriesView {
     byteLength: series.byteLength,
     volumeUrl: `/api/series/${series.id}/volume`,
     deidentification: series.deidentification,
+    compression: series.compression ?? null,
     uploadedBy: { id: series.uploadedBy.id, displayName: uploaderName },
     createdAt: series.createdAt.toISOString(),
   };
+}
+
+function fileOf(entry: ScannedEntry): { label: string; bytes: Uint8Array } {
+  return { label: entry.label, bytes: entry.bytes };
 }

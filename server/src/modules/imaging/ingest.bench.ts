@@ -1,6 +1,6 @@
 /**
  * Throughput of the ingest path on a CT-sized series, step by step: reading in the worker
- * (unpack, parse, pixels), stacking, de-identifying the header, writing the volume. Not a
+ * (unpack and headers, sorting into series, decoding the pixels), stacking, de-identifying the header, writing the volume. Not a
  * test: run it and read the figures.
  *
  *   node --import tsx server/src/modules/imaging/ingest.bench.ts [slices] [size]
@@ -17,6 +17,7 @@ import { deidentifyHeader } from './deidentify';
 import { DicomReadPool } from './dicom-read-pool';
 import { FileStore } from './file-store';
 import { assembleSeries } from './series-assembly';
+import { sortStudy } from './study-sorting';
 
 const sliceCount = Number(process.argv[2] ?? 200);
 const size = Number(process.argv[3] ?? 512);
@@ -74,7 +75,8 @@ const pool = new DicomReadPool({
     maxInstanceBytes: 16 * 1_048_576,
     maxInflatedBytes: 2048 * 1_048_576,
     maxSequenceDepth: 12,
-    maxAttributes: 20_000,
+    maxAttributes: 100_000,
+    maxCodecMemoryBytes: 256 * 1_048_576,
   },
 });
 await pool.warm();
@@ -86,10 +88,21 @@ try {
     ['one .zip', [archive]],
   ] as const) {
     let started = performance.now();
-    const { instances } = await pool.read(upload.map((file) => file.slice()));
+    const scan = await pool.scan(
+      upload.map((file, index) => ({ name: `IM${index}`, bytes: file.slice() })),
+    );
+    const scanned = milliseconds(started);
+    started = performance.now();
+    const [candidate] = sortStudy(scan.entries).candidates;
+    const sorted = milliseconds(started);
+    started = performance.now();
+    const decoded = await pool.decode(
+      candidate.entryIndices.map((index) => scan.entries[index]),
+      { keepBytes: false },
+    );
     const read = milliseconds(started);
     started = performance.now();
-    const assembled = assembleSeries(instances);
+    const assembled = assembleSeries(candidate.plan, decoded);
     const stacked = milliseconds(started);
     started = performance.now();
     deidentifyHeader(assembled.firstSliceHeader, { replaceUid: () => uid(5), dateShiftDays: -400 });
@@ -105,7 +118,8 @@ try {
     ]);
     const written = milliseconds(started);
     process.stdout.write(
-      `${name}: read ${read}, stack ${stacked}, de-identify ${cleaned}, write ${written}\n`,
+      `${name}: scan ${scanned}, sort ${sorted}, decode ${read}, stack ${stacked}, ` +
+        `de-identify ${cleaned}, write ${written}\n`,
     );
   }
 } finally {

@@ -1,9 +1,10 @@
 /**
- * From the instances of one upload to one regular volume: one series, CT or MR, single-frame,
- * consistent; the slices stacked by `geometryFromSlices` (DICOM PS3.3 C.7.6.2.1.1: sorted along
- * the slice normal, refusing mixed orientations, sizes and spacings and missing or uneven
- * slices). Several series in one upload are refused, not split: the presenter chooses what the
- * board sees, one series at a time, and a refusal never stores half of what was sent.
+ * From the scanned image files of one series to a plan, and from the plan and the decoded
+ * frames to one regular volume. A plan is made from headers alone (the study listing shows it
+ * before any pixel is decoded): one series, CT or MR, consistent, its frames (a file each for
+ * classic images, many in one file for Enhanced CT/MR) stacked by `geometryFromSlices` (DICOM
+ * PS3.3 C.7.6.2.1.1: sorted along the slice normal, refusing mixed orientations, sizes and
+ * spacings and missing or uneven slices).
  */
 import {
   geometryFromSlices,
@@ -11,13 +12,51 @@ import {
   SeriesGeometryError,
   voxelCount,
   type ImageModality,
+  type SeriesCompression,
+  type SeriesOrientationName,
   type VolumeGeometry,
   type VolumeValueUnit,
 } from '@emberline/shared';
-import type { ParsedInstance } from './dicom-instance-reader';
-import { firstNumber, firstString, numberValues, type DicomJsonDataset } from './dicom-json';
+import type { ScannedImage } from './dicom-instance-reader';
+import type { DecodedFile } from './dicom-read-pool';
+import {
+  firstNumber,
+  firstString,
+  numberValues,
+  sequenceItems,
+  stringValues,
+  type DicomJsonDataset,
+} from './dicom-json';
 import type { AppliedRescale } from './image-series.entity';
 import { ImagingRefusal } from './imaging-refusal';
+import { transferSyntaxes } from './pixel-data';
+import { phaseHintOf } from './series-phase';
+
+/** An image file of a series, as scanned. */
+export interface PlannedImage {
+  label: string;
+  scanned: ScannedImage;
+}
+
+/** A series checked and stacked from its headers: what the listing shows, what decoding fills. */
+export interface SeriesPlan {
+  seriesUid: string;
+  modality: ImageModality;
+  images: PlannedImage[];
+  /** Every frame of every image, in image order: the slices before sorting. */
+  slices: { image: number; frame: number; label: string }[];
+  geometry: VolumeGeometry;
+  /** `sliceOrder[k]` indexes `slices`: the slice that becomes slice k. */
+  sliceOrder: number[];
+  /** The header of the image holding slice k = 0, not yet de-identified. */
+  firstSliceHeader: DicomJsonDataset;
+  description: string;
+  seriesNumber: number | null;
+  sliceThicknessMm: number | null;
+  orientation: SeriesOrientationName;
+  phaseHint: string | null;
+  compression: SeriesCompression;
+}
 
 export interface AssembledSeries {
   modality: ImageModality;
@@ -31,22 +70,23 @@ export interface AssembledSeries {
   seriesNumber: number | null;
   /** The header of the first slice of the sorted stack (k = 0), not yet de-identified. */
   firstSliceHeader: DicomJsonDataset;
+  compression: SeriesCompression;
 }
 
 const tags = {
   sopInstanceUid: '00080018',
   modality: '00080060',
+  seriesDescription: '0008103E',
   seriesInstanceUid: '0020000E',
   frameOfReferenceUid: '00200052',
   seriesNumber: '00200011',
-  imagePositionPatient: '00200032',
-  imageOrientationPatient: '00200037',
-  pixelSpacing: '00280030',
-  rows: '00280010',
-  columns: '00280011',
-  burnedInAnnotation: '00280301',
   windowCenter: '00281050',
   windowWidth: '00281051',
+  lossyImageCompression: '00282110',
+  lossyImageCompressionRatio: '00282112',
+  lossyImageCompressionMethod: '00282114',
+  sharedFunctionalGroups: '52009229',
+  frameVoiLut: '00289132',
 };
 
 /** The default window of CT without one of its own: abdomen, centre 40 HU, width 400 (common practice). */
@@ -57,52 +97,33 @@ function quotable(value: string): string {
   return value.replace(/[^A-Z0-9 _]/gi, '').slice(0, 16) || '(empty)';
 }
 
-function listOf(labels: string[]): string {
-  return labels.length <= 3 ? labels.join(', ') : `${labels.slice(0, 3).join(', ')}…`;
-}
-
 function requireSameValue(
-  instances: readonly ParsedInstance[],
+  images: readonly PlannedImage[],
   tag: string,
   name: string,
   refusal: (values: Map<string, string[]>) => ImagingRefusal,
 ): string {
   const byValue = new Map<string, string[]>();
-  for (const instance of instances) {
-    const value = firstString(instance.header, tag);
+  for (const image of images) {
+    const value = firstString(image.scanned.header, tag);
     if (!value) {
-      throw new ImagingRefusal(400, 'malformed', `${instance.label} lacks a ${name}.`);
+      throw new ImagingRefusal(400, 'malformed', `${image.label} lacks a ${name}.`);
     }
-    byValue.set(value, [...(byValue.get(value) ?? []), instance.label]);
+    byValue.set(value, [...(byValue.get(value) ?? []), image.label]);
   }
   if (byValue.size > 1) throw refusal(byValue);
   return [...byValue.keys()][0];
 }
 
-function checkOneSeries(instances: readonly ParsedInstance[]): void {
-  requireSameValue(
-    instances,
-    tags.seriesInstanceUid,
-    'Series Instance UID (0020,000E)',
-    (bySeries) =>
-      new ImagingRefusal(
-        400,
-        'several-series',
-        `The upload holds ${bySeries.size} series (by Series Instance UID): ` +
-          [...bySeries.values()]
-            .map((labels) => `${labels.length} file${labels.length === 1 ? '' : 's'}`)
-            .join(', ') +
-          '. Upload one series at a time.',
-      ),
-  );
+function checkDistinctInstances(images: readonly PlannedImage[]): void {
   const seen = new Map<string, string>();
-  for (const instance of instances) {
-    const uid = firstString(instance.header, tags.sopInstanceUid);
+  for (const image of images) {
+    const uid = firstString(image.scanned.header, tags.sopInstanceUid);
     if (!uid) {
       throw new ImagingRefusal(
         400,
         'malformed',
-        `${instance.label} lacks a SOP Instance UID (0008,0018).`,
+        `${image.label} lacks a SOP Instance UID (0008,0018).`,
       );
     }
     const earlier = seen.get(uid);
@@ -110,17 +131,17 @@ function checkOneSeries(instances: readonly ParsedInstance[]): void {
       throw new ImagingRefusal(
         400,
         'duplicate-instance',
-        `${earlier} and ${instance.label} are the same image (same SOP Instance UID); ` +
+        `${earlier} and ${image.label} are the same image (same SOP Instance UID); ` +
           'send each slice once.',
       );
     }
-    seen.set(uid, instance.label);
+    seen.set(uid, image.label);
   }
 }
 
-function checkModality(instances: readonly ParsedInstance[]): ImageModality {
+function checkModality(images: readonly PlannedImage[]): ImageModality {
   const modality = requireSameValue(
-    instances,
+    images,
     tags.modality,
     'Modality (0008,0060)',
     (byModality) =>
@@ -141,9 +162,9 @@ function checkModality(instances: readonly ParsedInstance[]): ImageModality {
   return modality as ImageModality;
 }
 
-function checkFrameOfReference(instances: readonly ParsedInstance[]): void {
+function checkFrameOfReference(images: readonly PlannedImage[]): void {
   requireSameValue(
-    instances,
+    images,
     tags.frameOfReferenceUid,
     'Frame of Reference UID (0020,0052)',
     (byFrame) =>
@@ -156,41 +177,30 @@ function checkFrameOfReference(instances: readonly ParsedInstance[]): void {
   );
 }
 
-function checkNoBurnedInAnnotation(instances: readonly ParsedInstance[]): void {
-  const annotated = instances.filter(
-    (instance) => firstString(instance.header, tags.burnedInAnnotation) === 'YES',
-  );
-  if (annotated.length) {
-    throw new ImagingRefusal(
-      415,
-      'burned-in-annotation',
-      `${listOf(annotated.map((instance) => instance.label))} declare Burned In Annotation ` +
-        '(0028,0301) YES: their pixels may show identifying text, which de-identification of ' +
-        'the header does not remove. Export the series without annotations.',
-    );
-  }
-}
-
-function stackGeometry(instances: readonly ParsedInstance[]) {
+function stackGeometry(images: readonly PlannedImage[], slices: SeriesPlan['slices']) {
   try {
     return geometryFromSlices(
-      instances.map((instance) => ({
-        imagePositionPatient: numberValues(instance.header, tags.imagePositionPatient),
-        imageOrientationPatient: numberValues(instance.header, tags.imageOrientationPatient),
-        pixelSpacing: numberValues(instance.header, tags.pixelSpacing),
-        rows: firstNumber(instance.header, tags.rows) ?? NaN,
-        columns: firstNumber(instance.header, tags.columns) ?? NaN,
-      })),
+      slices.map(({ image, frame }) => {
+        const { scanned } = images[image];
+        const descriptor = scanned.frames[frame];
+        return {
+          imagePositionPatient: descriptor.imagePositionPatient,
+          imageOrientationPatient: descriptor.imageOrientationPatient,
+          pixelSpacing: descriptor.pixelSpacing,
+          rows: scanned.layout.rows,
+          columns: scanned.layout.columns,
+        };
+      }),
     );
   } catch (error) {
     if (error instanceof SeriesGeometryError) {
-      // "Slice n" of the geometry counts the files in the order they came.
+      // "Slice n" of the geometry counts the slices in the order they came.
       const detail = error.message.replace(/\b[Ss]lice (\d+)\b/g, (whole, number: string) => {
-        const instance = instances[Number(number) - 1];
-        if (!instance || /sorted stack/.test(error.message)) return whole;
+        const slice = slices[Number(number) - 1];
+        if (!slice || /sorted stack/.test(error.message)) return whole;
         return whole.startsWith('s')
-          ? instance.label[0].toLowerCase() + instance.label.slice(1)
-          : instance.label;
+          ? slice.label[0].toLowerCase() + slice.label.slice(1)
+          : slice.label;
       });
       throw new ImagingRefusal(400, `geometry:${error.problem}`, detail);
     }
@@ -198,13 +208,140 @@ function stackGeometry(instances: readonly ParsedInstance[]) {
   }
 }
 
+/** The nearest patient axis of the slice normal within 10°, else oblique (common practice). */
+export function orientationName(sliceNormalLps: readonly number[]): SeriesOrientationName {
+  const [x, y, z] = sliceNormalLps.map(Math.abs);
+  const within = Math.cos((10 * Math.PI) / 180);
+  if (z >= within) return 'axial';
+  if (y >= within) return 'coronal';
+  if (x >= within) return 'sagittal';
+  return 'oblique';
+}
+
+/**
+ * What the files say of the pixels' compression: the transfer syntax, and loss when the
+ * syntax is lossy or Lossy Image Compression (0028,2110) is 01 (DICOM PS3.3 C.7.6.1.1.5: once
+ * lossy, always marked). A syntax that may be either (JPEG-LS near-lossless, JPEG 2000) counts
+ * as lossy until the codestreams say otherwise (`settleCompression`).
+ */
+function compressionOf(images: readonly PlannedImage[]): SeriesCompression {
+  const uids = [...new Set(images.map((image) => image.scanned.transferSyntaxUid))];
+  const uid = uids[0];
+  const syntax = transferSyntaxes.get(uid);
+  const headers = images.map((image) => image.scanned.header);
+  const markedLossy = headers.some(
+    (header) => firstString(header, tags.lossyImageCompression) === '01',
+  );
+  const markedLossless = headers.every(
+    (header) => firstString(header, tags.lossyImageCompression) === '00',
+  );
+  const syntaxLossy = images.some((image) => {
+    const loss = transferSyntaxes.get(image.scanned.transferSyntaxUid)?.loss;
+    return loss === 'lossy' || (loss === 'depends' && !markedLossless);
+  });
+  const isLossy = markedLossy || syntaxLossy;
+  const ratios = numberValues(headers[0], tags.lossyImageCompressionRatio).filter(
+    (value) => Number.isFinite(value) && value > 0,
+  );
+  const methods = stringValues(headers[0], tags.lossyImageCompressionMethod);
+  return {
+    transferSyntaxUid: uid,
+    transferSyntaxName: uids.length > 1 ? 'mixed' : (syntax?.name ?? uid),
+    isLossy,
+    // With several lossy steps, the last ratio and method are those of the newest (PS3.3 C.7.6.1.1.5).
+    lossyRatio: isLossy ? (ratios.at(-1) ?? measuredRatio(images)) : null,
+    lossyMethod: isLossy ? (methods.at(-1) ?? syntax?.lossyMethod ?? null) : null,
+  };
+}
+
+/** Uncompressed over compressed bytes of the pixels, when the files carry no ratio. */
+function measuredRatio(images: readonly PlannedImage[]): number | null {
+  let stored = 0;
+  let uncompressed = 0;
+  for (const { scanned } of images) {
+    stored += scanned.pixelDataBytes;
+    uncompressed +=
+      scanned.layout.rows *
+      scanned.layout.columns *
+      (scanned.layout.bitsAllocated / 8) *
+      scanned.layout.frameCount;
+  }
+  return stored > 0 ? Math.round((10 * uncompressed) / stored) / 10 : null;
+}
+
+function descriptionOf(header: DicomJsonDataset, modality: string, seriesNumber: number | null) {
+  const text = (firstString(header, tags.seriesDescription) ?? '')
+    .replace(/[^\p{L}\p{N} .,:;()/+_-]/gu, '')
+    .trim()
+    .slice(0, 64);
+  return text || `${modality} series${seriesNumber !== null ? ` ${seriesNumber}` : ''}`;
+}
+
+/** Checks the image files of one series and stacks them from their headers. */
+export function planSeries(images: readonly PlannedImage[]): SeriesPlan {
+  if (images.length === 0) {
+    throw new ImagingRefusal(400, 'no-files', 'The upload holds no DICOM files.');
+  }
+  const seriesUid = requireSameValue(
+    images,
+    tags.seriesInstanceUid,
+    'Series Instance UID (0020,000E)',
+    (bySeries) =>
+      new ImagingRefusal(
+        400,
+        'several-series',
+        `The files belong to ${bySeries.size} series (by Series Instance UID).`,
+      ),
+  );
+  checkDistinctInstances(images);
+  const modality = checkModality(images);
+  checkFrameOfReference(images);
+  const slices = images.flatMap((image, imageIndex) =>
+    image.scanned.frames.map((_, frame) => ({
+      image: imageIndex,
+      frame,
+      label: image.scanned.frames.length > 1 ? `${image.label} frame ${frame + 1}` : image.label,
+    })),
+  );
+  const { geometry, sliceOrder } = stackGeometry(images, slices);
+  const first = slices[sliceOrder[0]];
+  const firstImage = images[first.image].scanned;
+  const header = firstImage.header;
+  const seriesNumberValue = firstNumber(header, tags.seriesNumber);
+  const seriesNumber =
+    seriesNumberValue !== undefined && Number.isInteger(seriesNumberValue)
+      ? seriesNumberValue
+      : null;
+  return {
+    seriesUid,
+    modality,
+    images: [...images],
+    slices,
+    geometry,
+    sliceOrder,
+    firstSliceHeader: header,
+    description: descriptionOf(header, modality, seriesNumber),
+    seriesNumber,
+    sliceThicknessMm:
+      firstImage.frames[first.frame].sliceThicknessMm ??
+      (geometry.dimensions[2] > 1 ? geometry.spacingMm[2] : null),
+    orientation: orientationName(geometry.direction[2]),
+    phaseHint: phaseHintOf(header),
+    compression: compressionOf(images),
+  };
+}
+
 function defaultWindow(
   header: DicomJsonDataset,
   modality: ImageModality,
   valueRange: { min: number; max: number },
 ): { centre: number; width: number } {
-  const centre = firstNumber(header, tags.windowCenter);
-  const width = firstNumber(header, tags.windowWidth);
+  // Enhanced images keep their window in the Frame VOI LUT functional group (PS3.3 C.7.6.16.2.10).
+  const shared = sequenceItems(header[tags.sharedFunctionalGroups])[0];
+  const voi = shared ? sequenceItems(shared[tags.frameVoiLut])[0] : undefined;
+  const source = voi ?? header;
+  const centre = firstNumber(source, tags.windowCenter);
+  const width = firstNumber(source, tags.windowWidth);
   if (centre !== undefined && width !== undefined && Number.isFinite(centre) && width > 0) {
     return { centre, width };
   }
@@ -213,51 +350,68 @@ function defaultWindow(
   return { centre: valueRange.min + span / 2, width: span };
 }
 
-function appliedRescale(instances: readonly ParsedInstance[]): AppliedRescale {
-  const first = instances[0].rescale;
+function appliedRescale(plan: SeriesPlan): AppliedRescale {
+  const rescales = plan.images.flatMap((image) => image.scanned.frames.map((f) => f.rescale));
+  const first = rescales[0];
   return {
     slope: first.slope,
     intercept: first.intercept,
-    isUniform: instances.every(
-      (instance) =>
-        instance.rescale.slope === first.slope && instance.rescale.intercept === first.intercept,
+    isUniform: rescales.every(
+      (rescale) => rescale.slope === first.slope && rescale.intercept === first.intercept,
     ),
   };
 }
 
-/** Checks the instances of an upload and stacks them; throws an ImagingRefusal otherwise. */
-export function assembleSeries(instances: readonly ParsedInstance[]): AssembledSeries {
-  if (instances.length === 0) {
-    throw new ImagingRefusal(400, 'no-files', 'The upload holds no DICOM files.');
+/** The compression once decoded: codestreams that all say lossless clear a "may be lossy". */
+function settleCompression(plan: SeriesPlan, decoded: readonly DecodedFile[]): SeriesCompression {
+  const { compression } = plan;
+  if (!compression.isLossy) return compression;
+  const markedLossy = plan.images.some(
+    (image) => firstString(image.scanned.header, tags.lossyImageCompression) === '01',
+  );
+  const syntaxAlwaysLossy = plan.images.some(
+    (image) => transferSyntaxes.get(image.scanned.transferSyntaxUid)?.loss === 'lossy',
+  );
+  const allSayLossless = decoded.every((file) => file.decoded.isLossyByCodestream === false);
+  if (!markedLossy && !syntaxAlwaysLossy && allSayLossless) {
+    return { ...compression, isLossy: false, lossyRatio: null, lossyMethod: null };
   }
-  checkOneSeries(instances);
-  const modality = checkModality(instances);
-  checkFrameOfReference(instances);
-  checkNoBurnedInAnnotation(instances);
-  const { geometry, sliceOrder } = stackGeometry(instances);
+  return compression;
+}
+
+/** Stacks the decoded frames of a plan's images (given in the plan's image order). */
+export function assembleSeries(plan: SeriesPlan, decoded: readonly DecodedFile[]): AssembledSeries {
+  if (decoded.length !== plan.images.length || decoded.some((file) => !file)) {
+    throw new Error('the decoded files do not match the series plan');
+  }
+  const { geometry, sliceOrder } = plan;
   const sliceVoxels = geometry.dimensions[0] * geometry.dimensions[1];
   const voxels = new Int16Array(voxelCount(geometry.dimensions));
+  sliceOrder.forEach((index, k) => {
+    const slice = plan.slices[index];
+    const frame = decoded[slice.image].decoded.frames[slice.frame];
+    if (!frame || frame.length !== sliceVoxels) {
+      throw new ImagingRefusal(400, 'malformed', `${slice.label} did not decode to a whole slice.`);
+    }
+    voxels.set(frame, k * sliceVoxels);
+  });
   let min = Infinity;
   let max = -Infinity;
-  sliceOrder.forEach((index, k) => {
-    const instance = instances[index];
-    voxels.set(instance.pixels, k * sliceVoxels);
-    min = Math.min(min, instance.valueRange.min);
-    max = Math.max(max, instance.valueRange.max);
-  });
-  const firstSlice = instances[sliceOrder[0]];
+  for (const file of decoded) {
+    min = Math.min(min, file.decoded.valueRange.min);
+    max = Math.max(max, file.decoded.valueRange.max);
+  }
   const valueRange = { min, max };
-  const seriesNumber = firstNumber(firstSlice.header, tags.seriesNumber);
   return {
-    modality,
+    modality: plan.modality,
     geometry,
     voxels,
-    valueUnit: modality === 'CT' ? 'HU' : 'scanner-units',
+    valueUnit: plan.modality === 'CT' ? 'HU' : 'scanner-units',
     valueRange,
-    rescaleApplied: appliedRescale(instances),
-    window: defaultWindow(firstSlice.header, modality, valueRange),
-    seriesNumber:
-      seriesNumber !== undefined && Number.isInteger(seriesNumber) ? seriesNumber : null,
-    firstSliceHeader: firstSlice.header,
+    rescaleApplied: appliedRescale(plan),
+    window: defaultWindow(plan.firstSliceHeader, plan.modality, valueRange),
+    seriesNumber: plan.seriesNumber,
+    firstSliceHeader: plan.firstSliceHeader,
+    compression: settleCompression(plan, decoded),
   };
 }

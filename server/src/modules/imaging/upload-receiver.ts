@@ -130,7 +130,7 @@ export async function receiveUpload(
   request: Request,
   response: Response,
   limits: UploadLimits,
-): Promise<Uint8Array[]> {
+): Promise<{ name: string; bytes: Uint8Array }[]> {
   const declaredBytes = Number(request.get('content-length') ?? NaN);
   if (declaredBytes > limits.maxUploadBytes + framingBytesPerFile * (limits.maxFiles + 1)) {
     // Refused before a byte of it is read: close the connection rather than drain the body.
@@ -148,6 +148,8 @@ export async function receiveUpload(
   }
   const middleware = multer({
     storage: boundedMemoryStorage(limits),
+    // A folder's files come with their relative paths (a DICOMDIR names files by path).
+    preservePath: true,
     limits: {
       files: limits.maxFiles,
       fileSize: limits.maxUploadBytes,
@@ -178,5 +180,18 @@ export async function receiveUpload(
         `"${uploadFieldName}".`,
     );
   }
-  return files.map((file) => new Uint8Array(file.buffer.buffer, file.buffer.byteOffset, file.size));
+  return files.map((file) => ({
+    name: relativePath(file.originalname),
+    bytes: new Uint8Array(file.buffer.buffer, file.buffer.byteOffset, file.size),
+  }));
+}
+
+/** A sent file name as a relative path: '/' separators, no leading '/', no '..' or '.' parts. */
+function relativePath(name: string | undefined): string {
+  return (name ?? '')
+    .replace(/\\/g, '/')
+    .split('/')
+    .filter((part) => part !== '' && part !== '.' && part !== '..')
+    .join('/')
+    .slice(0, 512);
 }

@@ -22,3 +22,4 @@ export type { DecodedFrame, FrameLayout } from './frame-layout';
 export { encapsulatedFrames } from './encapsulated-frames';
 export { decodeFrame } from './decode-frame';
 export { initialiseCodecs, releaseCodecMemory, wasmMemoryBytes } from './wasm-codecs';
+export { withExtendedOffsetTableReadable } from './extended-offset-table';

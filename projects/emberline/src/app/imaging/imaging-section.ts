@@ -1,11 +1,13 @@
 import { DatePipe, DecimalPipe } from '@angular/common';
 import { ChangeDetectionStrategy, Component, computed, inject } from '@angular/core';
 import { MatButton } from '@angular/material/button';
+import { MatIcon } from '@angular/material/icon';
 import { MatProgressBar } from '@angular/material/progress-bar';
 import { RouterLink } from '@angular/router';
 import type { ImageSeriesView } from '@emberline/shared';
 import { CaseFileState } from '../cases/case-file-state';
 import { problemMessage } from '../core/problem';
+import { compressionNote } from './compression-note';
 import { SeriesApi } from './series-api';
 import { SeriesUpload } from './series-upload';
 import { StructurePanel } from './structure-panel';
@@ -20,6 +22,7 @@ import { StructurePanel } from './structure-panel';
     DatePipe,
     DecimalPipe,
     MatButton,
+    MatIcon,
     MatProgressBar,
     RouterLink,
     SeriesUpload,
@@ -33,6 +36,7 @@ export class ImagingSection {
   private readonly state = inject(CaseFileState);
 
   protected readonly detail = this.state.detail;
+  protected readonly compressionNote = compressionNote;
   protected readonly canEdit = computed(() => this.detail()?.permissions.canEdit ?? false);
   protected readonly series = inject(SeriesApi).list(this.state.caseId);
   protected readonly seriesList = computed<ImageSeriesView[]>(() =>

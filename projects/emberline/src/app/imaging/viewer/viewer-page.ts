@@ -11,6 +11,7 @@ import {
 } from '@angular/core';
 import { takeUntilDestroyed, toObservable } from '@angular/core/rxjs-interop';
 import { MatButton } from '@angular/material/button';
+import { MatIcon } from '@angular/material/icon';
 import { MatProgressBar } from '@angular/material/progress-bar';
 import { Router, RouterLink } from '@angular/router';
 import {
@@ -25,6 +26,7 @@ import { CaseFileState } from '../../cases/case-file-state';
 import { AuthSession } from '../../core/auth-session';
 import { problemMessage } from '../../core/problem';
 import { PlanApi } from '../../plans/plan-api';
+import { compressionNote } from '../compression-note';
 import { AnnotationLayer } from './annotations/annotation-layer';
 import { mayAnnotateCase } from './annotations/annotation-permissions';
 import { AnnotationControls } from './annotations/annotation-controls';
@@ -61,6 +63,7 @@ import { hasWebGl2, noWebGl2Message } from './webgl-support';
   imports: [
     RouterLink,
     MatButton,
+    MatIcon,
     MatProgressBar,
     ViewerToolbar,
     ViewerReadouts,
@@ -138,6 +141,8 @@ export class ViewerPage {
   });
   protected readonly annotationCount = computed(() => this.annotations.annotations().length);
   protected readonly series = signal<ImageSeriesView | null>(null);
+  /** The lossy-compression note of the series on screen, or ''. */
+  protected readonly lossyNote = computed(() => compressionNote(this.series()?.compression));
   protected readonly loadError = signal('');
   protected readonly isLoaded = signal(false);
 

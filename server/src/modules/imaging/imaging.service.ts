@@ -380,6 +380,7 @@ export class ImagingService {
       });
       filesBefore += entry.files.length;
       progress.update(progressToken, user.id, (state) => {
+        state.files.done = filesBefore;
         state.series[position].done = entry.plan.slices.length;
       });
       assembled.push({ entry, series: assembleSeries(entry.plan, decoded) });

@@ -3,7 +3,8 @@
  * slices of the invented sample CT (`sample-data/abdomen/abdomen-ct.ts`) written uncompressed,
  * then compressed by independent encoders, Debian's dcmtk (dcmcjpeg, dcmcjpls, dcmcrle,
  * dcmconv) and OpenJPEG's opj_compress, whose JPEG 2000 codestreams are wrapped here as
- * encapsulated Pixel Data (DICOM PS3.5 A.4) in Part 10 files.
+ * encapsulated Pixel Data (DICOM PS3.5 A.4) in Part 10 files and also decoded by Debian's
+ * opj_decompress, for comparison.
  *
  * Three pixel variants of the same slices:
  * - `sample`: the generator's own files, Pixel Representation 1, Bits Stored 16, HU + 1024
@@ -62,6 +63,8 @@ export interface ReferenceFile {
   isIrreversible?: boolean;
   /** Multi-frame files: how the frames lie in the encapsulated Pixel Data. */
   encapsulation?: Encapsulation;
+  /** JPEG 2000: Debian's opj_decompress's decoding of the codestream (raw, little endian). */
+  openJpegDecode?: string;
 }
 
 export interface CompressedDicomSet {
@@ -96,7 +99,7 @@ export const jpeg2000Ratio = 10;
 /** Fragment size limit (kB) for files whose frames span several fragments. */
 const fragmentKilobytes = 4;
 
-const tools = ['dcmcjpeg', 'dcmcjpls', 'dcmcrle', 'dcmconv', 'opj_compress'];
+const tools = ['dcmcjpeg', 'dcmcjpls', 'dcmcrle', 'dcmconv', 'opj_compress', 'opj_decompress'];
 
 let cached: CompressedDicomSet | null = null;
 
@@ -148,7 +151,11 @@ function withDirectory(set: CompressedDicomSet, directory: string): CompressedDi
   return {
     directory,
     variants,
-    files: set.files.map((file) => ({ ...file, path: at(file.path) })),
+    files: set.files.map((file) => ({
+      ...file,
+      path: at(file.path),
+      ...(file.openJpegDecode ? { openJpegDecode: at(file.openJpegDecode) } : {}),
+    })),
     multiFrame: { ...set.multiFrame, path: at(set.multiFrame.path) },
   };
 }
@@ -238,6 +245,8 @@ function build(directory: string, originals: Uint8Array[]): CompressedDicomSet {
       ) => {
         const codestream = openJpegCodestream(directory, input, `${made(suffix)}.j2k`, options);
         const path = made(suffix);
+        const openJpegDecode = `${path}.opj.rawl`;
+        run('opj_decompress', ['-i', `${path}.j2k`, '-o', openJpegDecode]);
         const original = readFileSync(join(directory, input));
         const ratio = pixelBytes(original) / codestream.length;
         writeFileSync(
@@ -249,6 +258,7 @@ function build(directory: string, originals: Uint8Array[]): CompressedDicomSet {
         files.push({
           ...file(what, uid, path, `opj_compress ${options.join(' ')}`),
           ...extra,
+          openJpegDecode,
         });
       };
       j2k('JPEG 2000 lossless', uids.j2kLossless, 'j2k', [], {});

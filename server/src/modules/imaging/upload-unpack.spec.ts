@@ -95,6 +95,21 @@ describe('unpackUpload: files recognised by their content (DICOM PS3.10 7.1)', (
     ]);
   });
 
+  it('lists at most 200 skipped files one by one, then counts the rest in one line', () => {
+    const notes = Array.from({ length: 250 }, (_, index) => file(`NOTE${index}.TXT`, text('x')));
+    const result = unpackUpload([file('IM1', part10Stub()), ...notes], {
+      ...limits,
+      maxFiles: 300,
+    });
+    expect(result.skippedCount).toBe(250);
+    expect(result.skipped).toHaveLength(201);
+    expect(result.skipped[199]).toEqual({ description: 'NOTE199.TXT', reason: 'not a DICOM file' });
+    expect(result.skipped[200]).toEqual({
+      description: '50 more files',
+      reason: 'not read; the listing stops at 200',
+    });
+  });
+
   it('refuses an upload in which no file is DICOM (415), or every file is empty (400)', () => {
     const several = refusalOf(() =>
       unpackUpload([file('notes.txt', text('a list')), file('photo', new Uint8Array(200))], limits),
@@ -326,6 +341,18 @@ describe('unpackUpload: a DICOMDIR decides what is read (DICOM PS3.10 section 8)
     expect(result.entries.map((entry) => entry.label)).toEqual(['File 2 (IM1)', 'File 3 (IM2)']);
     expect(result.skipped).toEqual([{ description: 'DICOMDIR', reason: 'not a DICOM file' }]);
     expect(result.directory).toBeUndefined();
+  });
+
+  it('refuses a named path that two files match but for the case of their letters', () => {
+    const { files } = mediaFolder(1);
+    const twin = { ...files[1], name: files[1].name.toLowerCase() };
+    expect(refusalOf(() => unpackUpload([...files, twin], limits))).toEqual({
+      status: 400,
+      reason: 'dicomdir',
+      detail:
+        'File 2 (IM000001) and File 3 (im000001) have the same path but for the case of ' +
+        'their letters: the file File 1 (DICOMDIR) names by it is ambiguous.',
+    });
   });
 
   it('says nothing of the patient record, accepted or refused', () => {

@@ -247,7 +247,9 @@ function planFromDirectories(
   const byKey = new Map<string, Candidate[]>();
   for (const file of files) {
     const key = pathKey(file.path.split('/'));
-    byKey.set(key, [...(byKey.get(key) ?? []), file]);
+    const same = byKey.get(key);
+    if (same) same.push(file);
+    else byKey.set(key, [file]);
   }
   const selected: Candidate[] = [];
   const chosen = new Set<Candidate>();
@@ -268,7 +270,7 @@ function planFromDirectories(
           400,
           'dicomdir',
           `${matches[0].label} and ${matches[1].label} have the same path but for the case ` +
-            `of its letters, so the file ${directoryFile.label} names is ambiguous.`,
+            `of their letters: the file ${directoryFile.label} names by it is ambiguous.`,
         );
       }
       const [match] = matches;

@@ -299,7 +299,12 @@ export class ImagingService {
         actor,
         found,
         [{ key: only.key, plan: only.plan, files: filesOf(only.entryIndices) }],
-        { keepBytes: false, progressToken, uploadId: null, skippedCount: skipped.length },
+        {
+          keepBytes: false,
+          progressToken,
+          uploadId: null,
+          skippedCount: scan.skippedCount + sorted.skipped.length,
+        },
       );
       return { status: 201, series };
     }

@@ -277,6 +277,52 @@ describe('SeriesUpload', () => {
     await fixture.whenStable();
   });
 
+  it('reads a dropped folder and sends its files under their paths', async () => {
+    // A fake folder of the File and Directory Entries API: "study" holding "SE4" with two
+    // images, a DICOMDIR and a hidden file; each folder hands its entries over in one batch.
+    const fileEntry = (name: string) =>
+      ({
+        name,
+        isFile: true,
+        isDirectory: false,
+        file: (resolve: (file: File) => void) => resolve(dicomFile(name, 100)),
+      }) as unknown as FileSystemEntry;
+    const folderEntry = (name: string, children: FileSystemEntry[]) =>
+      ({
+        name,
+        isFile: false,
+        isDirectory: true,
+        createReader: () => {
+          let isRead = false;
+          return {
+            readEntries: (resolve: (batch: FileSystemEntry[]) => void) => {
+              resolve(isRead ? [] : children);
+              isRead = true;
+            },
+          };
+        },
+      }) as unknown as FileSystemEntry;
+    const study = folderEntry('study', [
+      fileEntry('.DS_Store'),
+      fileEntry('DICOMDIR'),
+      folderEntry('SE4', [fileEntry('IM0001'), fileEntry('IM0002')]),
+    ]);
+    const drop = new Event('drop', { cancelable: true });
+    Object.defineProperty(drop, 'dataTransfer', {
+      value: { items: [{ kind: 'file', webkitGetAsEntry: () => study }], files: [] },
+    });
+    element(fixture, '.drop-zone').dispatchEvent(drop);
+    await vi.waitFor(() => expect(textOf(fixture)).toContain('3 files in 2 folders chosen'));
+
+    buttonNamed(fixture, 'Upload series').click();
+    const request = http.expectOne(uploadRequest);
+    expect(
+      (request.request.body as FormData).getAll('files').map((file) => (file as File).name),
+    ).toEqual(['study/DICOMDIR', 'study/SE4/IM0001', 'study/SE4/IM0002']);
+    request.flush(stored('series-1', 4), { status: 201, statusText: 'Created' });
+    await fixture.whenStable();
+  });
+
   it('polls the server’s progress every 500 ms once the files are sent, and stops at the answer', async () => {
     await choose([dicomFile('study.zip', 4000)]);
     vi.useFakeTimers();

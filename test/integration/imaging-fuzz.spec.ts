@@ -1,6 +1,7 @@
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { deflateRawSync } from 'node:zlib';
 import dicomParser from 'dicom-parser';
+import { compressedDicomSet } from '../support/compressed-dicom';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -222,7 +223,7 @@ describe('fuzzing the reading path: mutated and truncated files', () => {
         kind: 'refused',
         status: 400,
         reason: 'too-complex',
-        detail: 'File 1 nests its attributes too deeply to be read.',
+        detail: 'File 1 (IM1) nests its attributes too deeply to be read.',
       });
     }
   });
@@ -234,7 +235,7 @@ describe('fuzzing the reading path: mutated and truncated files', () => {
       status: 400,
       reason: 'too-complex',
       detail:
-        'File 1 nests sequences deeper than 12 levels (at (0008,1140)); an image header never needs that.',
+        'File 1 (IM1) nests sequences deeper than 12 levels (at (0008,1140)); an image header never needs that.',
     });
   });
 
@@ -285,6 +286,97 @@ describe('fuzzing the reading path: mutated and truncated files', () => {
       detail: expect.stringMatching(/^File 1.* inflates to more than 32\.0 MB/),
     });
   });
+});
+
+/**
+ * The compressed syntaxes under damage: every single-frame reference file the codec tests build
+ * with dcmtk and opj_compress (JPEG Lossless, JPEG-LS, JPEG 2000, RLE, big endian, deflated),
+ * its Pixel Data truncated, bit-flipped, zeroed in runs or given extreme item lengths, then scanned and decoded in the workers as an upload is: each must decode or end in a
+ * 4xx ImagingRefusal, within the time bound (0 crashes, 0 hangs).
+ */
+describe('fuzzing the decoders: damaged compressed pixel data', () => {
+  const perFile = 24;
+
+  function pixelDataOffset(bytes: Uint8Array): number {
+    try {
+      const element = dicomParser.parseDicom(bytes, { untilTag: 'x7fe00010' }).elements.x7fe00010;
+      return element ? element.dataOffset : Math.floor(bytes.length / 2);
+    } catch {
+      return Math.floor(bytes.length / 2);
+    }
+  }
+
+  function damage(original: Uint8Array, random: () => number): Uint8Array {
+    const at = (length: number) => Math.floor(random() * length);
+    const start = pixelDataOffset(original);
+    const span = Math.max(1, original.length - start);
+    const bytes = original.slice();
+    switch (at(4)) {
+      case 0:
+        return bytes.subarray(0, start + at(span));
+      case 1:
+        for (let n = 1 + at(32); n > 0; n--) bytes[start + at(span)] ^= 1 << at(8);
+        return bytes;
+      case 2: {
+        const from = start + at(span);
+        bytes.fill(at(2) ? 0 : 0xff, from, Math.min(bytes.length, from + 1 + at(256)));
+        return bytes;
+      }
+      default: {
+        // An item or fragment length (or any four bytes there) set to an extreme.
+        const offset = start + at(Math.max(1, span - 4));
+        const value = [0xffffffff, 0, 0x7ffffffe, at(2 ** 32)][at(4)];
+        if (offset + 4 <= bytes.length) new DataView(bytes.buffer).setUint32(offset, value, true);
+        return bytes;
+      }
+    }
+  }
+
+  it(`decodes or refuses ${perFile} damaged variants of every compressed reference file`, async () => {
+    const set = compressedDicomSet();
+    // Single-frame files: the multi-frame ones are CT Image Storage with several frames, which an
+    // upload sets aside before decoding (their splitting into frames is fuzzed in pixel-data/).
+    const references = set.files.filter(
+      (file) => file.variant === 'sample' && file.frames.length === 1,
+    );
+    const random = seededRandom(seed + 1);
+    const outcomes = new Map<string, number>();
+    let slowestMs = 0;
+    let variants = 0;
+    for (const reference of references) {
+      const original = new Uint8Array(readFileSync(reference.path));
+      for (let n = 0; n < perFile; n++) {
+        const variant = damage(original, random);
+        const begin = performance.now();
+        let outcome: string;
+        try {
+          const scan = await pool.scan([{ name: 'IM1', bytes: variant }]);
+          const images = scan.entries.filter((entry) => entry.scanned.kind === 'image');
+          if (images.length) await pool.decode(images, { keepBytes: false });
+          outcome = images.length
+            ? 'decoded'
+            : `skipped: ${scan.entries.map((entry) => (entry.scanned.kind === 'other' ? entry.scanned.what : '')).join()}`;
+        } catch (error) {
+          if (!(error instanceof ImagingRefusal)) throw error;
+          expect(error.status, error.message).toBeGreaterThanOrEqual(400);
+          expect(error.status, error.message).toBeLessThan(500);
+          outcome = error.reason;
+        }
+        slowestMs = Math.max(slowestMs, performance.now() - begin);
+        outcomes.set(outcome, (outcomes.get(outcome) ?? 0) + 1);
+        variants += 1;
+      }
+    }
+    process.stdout.write(
+      `compressed fuzz: ${variants} variants of ${references.length} files, slowest ` +
+        `${slowestMs.toFixed(0)} ms; ${JSON.stringify(Object.fromEntries([...outcomes].sort()))}\n`,
+    );
+    expect(variants).toBe(references.length * perFile);
+    expect(slowestMs).toBeLessThan(timeoutMs + 2000);
+    // The damage reaches the decoders: some variants are refused by them, some still decode.
+    expect(outcomes.get('decoded') ?? 0).toBeGreaterThan(0);
+    expect(outcomes.size).toBeGreaterThan(2);
+  }, 300_000);
 });
 
 describe('the server under mutated uploads', () => {

@@ -494,6 +494,7 @@ const sopClasses = {
   enhancedMrImage: '1.2.840.10008.5.1.4.1.1.4.1',
   legacyEnhancedMrImage: '1.2.840.10008.5.1.4.1.1.4.4',
 };
+const imageSopClasses = new Set(Object.values(sopClasses));
 const enhancedSopClasses = new Set([
   sopClasses.enhancedCtImage,
   sopClasses.legacyEnhancedCtImage,
@@ -747,6 +748,10 @@ function classify(parsed: ParsedFile, label: string): ScannedInstance {
   const modality = firstString(header, '00080060');
   const nonImage = nonImageKind(sopClassUid, modality);
   const pixelElement = dataSet.elements.x7fe00010;
+  if (!pixelElement && imageSopClasses.has(sopClassUid)) {
+    // A CT or MR image without its pixels is a damaged file, not another kind of object.
+    refuse(400, 'malformed', `${label} has no Pixel Data (7FE0,0010); the file may be cut short.`);
+  }
   if (nonImage || !pixelElement) {
     const what = nonImage ?? 'Object without pixels';
     return otherObject(

@@ -186,10 +186,14 @@ function codestreamStarts(
   return starts;
 }
 
+/**
+ * A frame's bytes: a view of the file's bytes when it is one fragment, else a copy. Always a
+ * plain Uint8Array, even over a Node Buffer (whose slice() would not copy).
+ */
 function joinFragments(bytes: Uint8Array, fragments: readonly Fragment[]): Uint8Array {
   if (fragments.length === 1) {
     const [only] = fragments;
-    return bytes.subarray(only.position, only.position + only.length);
+    return new Uint8Array(bytes.buffer, bytes.byteOffset + only.position, only.length);
   }
   const total = fragments.reduce((sum, fragment) => sum + fragment.length, 0);
   const joined = new Uint8Array(total);

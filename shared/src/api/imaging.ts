@@ -104,7 +104,7 @@ export interface SeriesCompression {
   transferSyntaxName: string;
   /** True when any step of the pixels' history was lossy. */
   isLossy: boolean;
-  /** Lossy Image Compression Ratio (0028,2112), or compressed over uncompressed bytes; null if not lossy. */
+  /** Lossy Image Compression Ratio (0028,2112), else uncompressed over compressed bytes (10 for 10:1); null if not lossy. */
   lossyRatio: number | null;
   /** Lossy Image Compression Method (0028,2114), e.g. ISO_15444_1; null if not lossy or unknown. */
   lossyMethod: string | null;

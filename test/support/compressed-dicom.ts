@@ -402,7 +402,7 @@ function pixelBytes(file: Uint8Array): number {
 }
 
 /** One of the three pixel variants of a generator slice (see the top of this file). */
-function variantOf(original: Uint8Array, name: VariantName): Uint8Array {
+export function variantOf(original: Uint8Array, name: VariantName): Uint8Array {
   if (name === 'sample') return original;
   const { meta, dict } = readDataset(original);
   const stored = new Int16Array(pixelArray(dict));
@@ -434,7 +434,7 @@ function multiFrameFile(slices: Uint8Array[]): Uint8Array {
 }
 
 /** opj_compress on the stored values of an uncompressed file (raw, little endian). */
-function openJpegCodestream(
+export function openJpegCodestream(
   directory: string,
   input: string,
   output: string,

@@ -210,6 +210,30 @@ describe(`patient coordinates (${GEOMETRY})`, () => {
     expect(Math.max(...voxels)).toBe(-469);
   });
 
+  it('reads Pixel Padding Value (and its Range Limit) as outside the field: air, not below it', async () => {
+    // DICOM PS3.3 C.7.5.1.1.2: stored values from Pixel Padding Value to Pixel Padding Range
+    // Limit mark pixels outside the scanned field. Stored −2000…−1990 in the first three
+    // columns (signed 16-bit); intercept −1024 would put them near −3000 HU as values.
+    const padded = (i: number, j: number, s: number) =>
+      i < 3 ? -2000 + ((j + s) % 11) : 1000 + i + 3 * j + 100 * s;
+    const spec = seriesSpec({
+      pixelRepresentation: 1,
+      storedValue: (i, j, s) => padded(i, j, s) & 0xffff,
+      adjust: (_s, dataset) => {
+        dataset['00280120'] = { vr: 'SS', Value: [-2000] };
+        dataset['00280121'] = { vr: 'SS', Value: [-1990] };
+      },
+    });
+    const view = await accepted(buildSeries(spec));
+    const { voxels } = await volumeOf(view);
+    // Padding becomes air (−1024 HU); the rest is stored − 1024 as before.
+    expect(voxels[0]).toBe(-1024);
+    expect(voxels[2 + 32 * 5]).toBe(-1024);
+    expect(voxels[3]).toBe(1000 + 3 - 1024);
+    expect(view.valueRange.min).toBe(-1024);
+    expect(Math.min(...voxels)).toBe(-1024);
+  });
+
   it('takes an MR series, values in scanner units, window from the range', async () => {
     const spec = seriesSpec({ modality: 'MR', storedValue: (i, j) => 100 + i + j });
     const view = await accepted(buildSeries(spec));

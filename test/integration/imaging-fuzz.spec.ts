@@ -1,6 +1,8 @@
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { deflateRawSync } from 'node:zlib';
 import dicomParser from 'dicom-parser';
+import dcmjs from 'dcmjs';
+import { createRequire } from 'node:module';
 import { compressedDicomSet } from '../support/compressed-dicom';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -129,6 +131,63 @@ function mutate(original: Uint8Array, random: () => number): Uint8Array {
       return Uint8Array.from([...bytes.subarray(0, offset), ...span, ...bytes.subarray(offset)]);
     }
   }
+}
+
+interface J2kEncoder {
+  getDecodedBuffer(frameInfo: object): Uint8Array;
+  getEncodedBuffer(): Uint8Array;
+  encode(): void;
+  delete(): void;
+}
+
+/**
+ * A file like `template` whose pixels are one `size` × `size` frame of noise, JPEG 2000
+ * lossless (.90), encoded by the OpenJPEG WebAssembly build and wrapped by dcmjs.
+ */
+async function noisyJpeg2000(template: Uint8Array, size: number): Promise<Uint8Array> {
+  const factory = createRequire(import.meta.url)(
+    '@cornerstonejs/codec-openjpeg/wasmjs',
+  ) as () => Promise<{
+    J2KEncoder: new () => J2kEncoder;
+  }>;
+  const openJpeg = await factory();
+  const encoder = new openJpeg.J2KEncoder();
+  let codestream: Uint8Array;
+  try {
+    const input = encoder.getDecodedBuffer({
+      width: size,
+      height: size,
+      bitsPerSample: 16,
+      componentCount: 1,
+      isSigned: false,
+    });
+    const random = seededRandom(7);
+    for (let index = 0; index < input.length; index++) input[index] = Math.floor(random() * 256);
+    encoder.encode();
+    codestream = encoder.getEncodedBuffer().slice();
+  } finally {
+    encoder.delete();
+  }
+  const message = dcmjs.data.DicomMessage.readFile(
+    template.buffer.slice(template.byteOffset, template.byteOffset + template.byteLength),
+  );
+  const natural = dcmjs.data.DicomMetaDictionary.naturalizeDataset(message.dict) as Record<
+    string,
+    unknown
+  >;
+  Object.assign(natural, {
+    Rows: size,
+    Columns: size,
+    BitsStored: 16,
+    HighBit: 15,
+    PixelRepresentation: 0,
+    RescaleIntercept: 0,
+    PixelData: [codestream.buffer],
+  });
+  const meta = { ...message.meta, '00020010': { vr: 'UI', Value: ['1.2.840.10008.1.2.4.90'] } };
+  const dict = new dcmjs.data.DicomDict(meta);
+  dict.dict = dcmjs.data.DicomMetaDictionary.denaturalizeDataset(natural);
+  return new Uint8Array(dict.write());
 }
 
 /** A valid file's meta, then `count` nested sequences of undefined length (explicit VR LE). */
@@ -267,6 +326,35 @@ describe('fuzzing the reading path: mutated and truncated files', () => {
       });
     } finally {
       await hurried.close();
+    }
+  });
+
+  it('names the file that outlasts the per-file bound while decoding, and reads on', async () => {
+    // A 2048 × 2048 frame of noise, JPEG 2000 lossless: a second or so to decode, against a
+    // bound of 250 ms a file; the two files before it decode well within it.
+    const slow = await noisyJpeg2000(files[2], 2048);
+    const bounded = new DicomReadPool({
+      size: 1,
+      timeoutMs: 250,
+      memoryLimitMb,
+      maxQueued: 4,
+      limits,
+    });
+    try {
+      await bounded.warm();
+      const scan = await bounded.scan([
+        { name: 'IM1', bytes: files[0].slice() },
+        { name: 'IM2', bytes: files[1].slice() },
+        { name: 'IM3', bytes: slow },
+      ]);
+      await expect(bounded.decode(scan.entries, { keepBytes: false })).rejects.toMatchObject({
+        status: 400,
+        reason: 'too-complex',
+        message: expect.stringMatching(/^File 3 \(IM3\) took longer than 0\.25 s to read/),
+      });
+      expect(await ingest(files.slice(0, 3), bounded)).toEqual({ kind: 'accepted' });
+    } finally {
+      await bounded.close();
     }
   });
 

@@ -74,7 +74,12 @@ interface PoolWorker {
   worker: Worker;
   job?: RunningJob;
   crash?: Error;
+  /** The worker's codecs are compiled; until then a job's clock allows for the startup. */
+  isReady: boolean;
 }
+
+/** How long a new worker may take to start (its WebAssembly codecs compiled) before its first file. */
+const startupAllowanceMs = 30_000;
 
 const isRunningFromSources = import.meta.url.endsWith('.ts');
 
@@ -145,7 +150,7 @@ export class DicomReadPool {
     });
   }
 
-  /** Starts the workers ahead of the first upload (their startup then counts for nothing). */
+  /** Starts the workers ahead of the first upload (their startup, codecs included, then counts for nothing). */
   async warm(): Promise<void> {
     const started: Promise<void>[] = [];
     while (this.all.size < this.options.size) {
@@ -153,7 +158,10 @@ export class DicomReadPool {
       this.idle.push(entry);
       started.push(
         new Promise((resolve) => {
-          entry.worker.once('online', () => resolve());
+          // Ready once its codecs are compiled (WebAssembly), so that no job waits for them.
+          entry.worker.on('message', (message: WorkerMessage) => {
+            if (message.type === 'ready') resolve();
+          });
           entry.worker.once('exit', () => resolve());
         }),
       );
@@ -194,7 +202,7 @@ export class DicomReadPool {
     worker.stdout.resume();
     worker.stderr.resume();
     worker.unref();
-    const entry: PoolWorker = { worker };
+    const entry: PoolWorker = { worker, isReady: false };
     this.all.add(entry);
     worker.on('message', (message: WorkerMessage) => this.receive(entry, message));
     worker.on('error', (error) => {
@@ -209,7 +217,7 @@ export class DicomReadPool {
     entry.job = {
       ...job,
       jobId,
-      timer: this.clock(entry),
+      timer: this.clock(entry, entry.isReady ? 0 : startupAllowanceMs),
       hasTimedOut: false,
       currentLabel: 'The upload',
       decoded: [],
@@ -244,14 +252,18 @@ export class DicomReadPool {
   }
 
   /** The time bound of the file being read: restarted by every progress report. */
-  private clock(entry: PoolWorker): NodeJS.Timeout {
+  private clock(entry: PoolWorker, startupMs = 0): NodeJS.Timeout {
     return setTimeout(() => {
       if (entry.job) entry.job.hasTimedOut = true;
       void entry.worker.terminate();
-    }, this.options.timeoutMs);
+    }, this.options.timeoutMs + startupMs);
   }
 
   private receive(entry: PoolWorker, message: WorkerMessage): void {
+    if (message.type === 'ready') {
+      entry.isReady = true;
+      return;
+    }
     const job = entry.job;
     if (!job || job.jobId !== message.jobId) return;
     switch (message.type) {
@@ -307,7 +319,7 @@ export class DicomReadPool {
   }
 
   private refusalOfEndedJob(label: string, hasTimedOut: boolean, crash: Error | undefined): Error {
-    const seconds = Number((this.options.timeoutMs / 1000).toFixed(1));
+    const seconds = Number((this.options.timeoutMs / 1000).toFixed(2));
     if (hasTimedOut) {
       return new ImagingRefusal(
         400,

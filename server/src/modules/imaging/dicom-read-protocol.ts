@@ -50,6 +50,8 @@ export type ReadRequest =
   | { jobId: number; kind: 'decode'; files: DecodeFile[]; limits: ReadLimits };
 
 export type WorkerMessage =
+  /** The worker's codecs are compiled: sent once, before any job. */
+  | { jobId: 0; type: 'ready' }
   /**
    * File `fileIndex` is being read, `framesDone` of its frames decoded so far (a multi-frame
    * file reports every few frames): restarts the clock of that file.

@@ -14,6 +14,7 @@ import { initialiseCodecs, releaseCodecMemory } from './pixel-data';
 import { unpackUpload } from './upload-unpack';
 
 const codecsReady = initialiseCodecs();
+void codecsReady.then(() => parentPort?.postMessage({ jobId: 0, type: 'ready' }));
 
 function post(message: WorkerMessage, transfer: ArrayBuffer[] = []): void {
   parentPort?.postMessage(message, transfer);

@@ -19,7 +19,16 @@
  */
 import { createHash } from 'node:crypto';
 import { execFileSync } from 'node:child_process';
-import { existsSync, mkdirSync, readFileSync, renameSync, rmSync, writeFileSync } from 'node:fs';
+import {
+  existsSync,
+  mkdirSync,
+  readdirSync,
+  readFileSync,
+  renameSync,
+  rmSync,
+  statSync,
+  writeFileSync,
+} from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -122,6 +131,7 @@ export function compressedDicomSet(): CompressedDicomSet {
   const directory = join(tmpdir(), `emberline-compressed-dicom-${hash.digest('hex').slice(0, 16)}`);
   const manifestPath = join(directory, 'set.json');
   if (!existsSync(manifestPath)) {
+    pruneStaleSets(directory);
     const partial = `${directory}.partial-${process.pid}`;
     rmSync(partial, { recursive: true, force: true });
     mkdirSync(partial, { recursive: true });
@@ -137,6 +147,21 @@ export function compressedDicomSet(): CompressedDicomSet {
   const relative = JSON.parse(readFileSync(manifestPath, 'utf8')) as CompressedDicomSet;
   cached = withDirectory(relative, directory);
   return cached;
+}
+
+/** Sets of earlier versions of this file, untouched for a day, go when a new one is built. */
+function pruneStaleSets(current: string): void {
+  const prefix = 'emberline-compressed-dicom-';
+  const dayAgo = Date.now() - 24 * 3600 * 1000;
+  for (const name of readdirSync(tmpdir())) {
+    const path = join(tmpdir(), name);
+    if (!name.startsWith(prefix) || path === current) continue;
+    try {
+      if (statSync(path).mtimeMs < dayAgo) rmSync(path, { recursive: true, force: true });
+    } catch {
+      // Gone already, or not ours to remove: either way nothing to do.
+    }
+  }
 }
 
 /** The manifest holds paths relative to the set's folder. */
@@ -242,11 +267,12 @@ function build(directory: string, originals: Uint8Array[]): CompressedDicomSet {
         suffix: string,
         options: string[],
         extra: Partial<ReferenceFile>,
+        format: 'j2k' | 'jp2' = 'j2k',
       ) => {
-        const codestream = openJpegCodestream(directory, input, `${made(suffix)}.j2k`, options);
         const path = made(suffix);
+        const codestream = openJpegCodestream(directory, input, `${path}.${format}`, options);
         const openJpegDecode = `${path}.opj.rawl`;
-        run('opj_decompress', ['-i', `${path}.j2k`, '-o', openJpegDecode]);
+        run('opj_decompress', ['-i', `${path}.${format}`, '-o', openJpegDecode]);
         const original = readFileSync(join(directory, input));
         const ratio = pixelBytes(original) / codestream.length;
         writeFileSync(
@@ -262,6 +288,10 @@ function build(directory: string, originals: Uint8Array[]): CompressedDicomSet {
         });
       };
       j2k('JPEG 2000 lossless', uids.j2kLossless, 'j2k', [], {});
+      if (name === 'sample' && index === 0) {
+        // A JP2 file rather than a bare codestream: not allowed in DICOM (PS3.5 A.4.4), seen.
+        j2k('JPEG 2000 lossless in a JP2 file', uids.j2kLossless, 'jp2', [], {}, 'jp2');
+      }
       j2k(
         `JPEG 2000 irreversible, ratio ${jpeg2000Ratio}`,
         uids.j2k,

@@ -12,22 +12,22 @@ import { execFileSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import dcmjs from 'dcmjs';
-import { decodeVolumeFile, type ImageSeriesView } from '@emberline/shared';
+import type { ImageSeriesView } from '@emberline/shared';
 import { generateAbdomenCt } from '../../sample-data/generate-abdomen-ct';
-import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
-import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
-import { setEnvironment, uploadFiles } from './imaging-fixtures';
+import type { ApiClient } from '../support/test-app';
+import { uploadFiles } from './imaging-fixtures';
+import { useImagingTestApp, volumeOf } from './imaging-test-app';
 
 dcmjs.log.setLevel('error');
 const { DicomMessage, DicomMetaDictionary, DicomDict } = dcmjs.data;
 
 const work = mkdtempSync(join(tmpdir(), 'emberline-imaging-compressed-'));
-const fileStoreDir = join(work, 'store');
-let restoreEnvironment: () => void = () => undefined;
-let testApp: TestApp;
-let ids: DemoIds;
+const context = useImagingTestApp(
+  'imaging-compressed',
+  'imaging-compressed-secret-3b8d1f6a9c2e5a7d0f4b',
+);
 let originals: string[];
 
 /**
@@ -38,12 +38,7 @@ let originals: string[];
  */
 const jpeg2000MaxErrorHu = 80;
 
-beforeAll(async () => {
-  restoreEnvironment = setEnvironment({
-    FILE_STORE_DIR: fileStoreDir,
-    DEIDENTIFICATION_SECRET: 'imaging-compressed-secret-3b8d1f6a9c2e5a7d0f4b',
-  });
-  testApp = await startTestApp();
+beforeAll(() => {
   const slices = generateAbdomenCt().slices.slice(26, 36);
   mkdirSync(join(work, 'original'), { recursive: true });
   originals = slices.map((slice, index) => {
@@ -53,17 +48,7 @@ beforeAll(async () => {
   });
 }, 60_000);
 
-afterAll(async () => {
-  await testApp.close();
-  restoreEnvironment();
-  rmSync(work, { recursive: true, force: true });
-});
-
-beforeEach(async () => {
-  ids = await resetToDemo(testApp.orm);
-  rmSync(fileStoreDir, { recursive: true, force: true });
-  mkdirSync(fileStoreDir, { recursive: true });
-});
+afterAll(() => rmSync(work, { recursive: true, force: true }));
 
 /**
  * Runs a dcmtk tool on every original: `tool [...options] in out`. With `asUnsigned`, on copies
@@ -200,11 +185,7 @@ const syntaxes: {
   },
 ];
 
-async function presenter(): Promise<ApiClient> {
-  const client = new ApiClient(testApp.app);
-  expect((await client.signIn('presenter@emberline.test', demoPassword)).status).toBe(200);
-  return client;
-}
+const presenter = () => context.signIn();
 
 async function upload(client: ApiClient, caseId: string, paths: string[]) {
   const response = await uploadFiles(
@@ -215,18 +196,6 @@ async function upload(client: ApiClient, caseId: string, paths: string[]) {
   );
   expect(response.status, JSON.stringify(response.body)).toBe(201);
   return response.body as ImageSeriesView;
-}
-
-async function volumeOf(client: ApiClient, series: ImageSeriesView) {
-  const response = await client.agent
-    .get(series.volumeUrl)
-    .buffer(true)
-    .parse((res, done) => {
-      const chunks: Buffer[] = [];
-      res.on('data', (chunk: Buffer) => chunks.push(chunk));
-      res.on('end', () => done(null, Buffer.concat(chunks)));
-    });
-  return decodeVolumeFile(new Uint8Array(response.body as Buffer));
 }
 
 describe('compressed series through the upload path', () => {
@@ -243,8 +212,8 @@ describe('compressed series through the upload path', () => {
       );
       expect(transferSyntax).toContain(syntax.uid);
       const client = await presenter();
-      const reference = await upload(client, ids.northReady, originals);
-      const series = await upload(client, ids.northDraft, compressed);
+      const reference = await upload(client, context.ids.northReady, originals);
+      const series = await upload(client, context.ids.northDraft, compressed);
       expect(series.sliceCount).toBe(10);
       for (const key of ['dimensions', 'spacingMm', 'originLps', 'orientation'] as const) {
         expect(series[key], key).toEqual(reference[key]);

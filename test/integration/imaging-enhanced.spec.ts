@@ -6,48 +6,27 @@
  * the single-frame series it came from: the two volumes must match in geometry and voxel for
  * voxel, frames stored in order or reversed.
  */
-import { mkdirSync, mkdtempSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
-import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
+import { beforeAll, describe, expect, it } from 'vitest';
 import dcmjs from 'dcmjs';
-import { decodeVolumeFile, type ImageSeriesView } from '@emberline/shared';
+import type { ImageSeriesView } from '@emberline/shared';
 import { generateAbdomenCt } from '../../sample-data/generate-abdomen-ct';
-import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
-import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
-import { originalUid, setEnvironment, uploadFiles } from './imaging-fixtures';
+import { originalUid, uploadFiles } from './imaging-fixtures';
+import { useImagingTestApp, volumeOf } from './imaging-test-app';
 
 dcmjs.log.setLevel('error');
 const { DicomMessage, DicomMetaDictionary, DicomDict } = dcmjs.data;
 
-const fileStoreDir = mkdtempSync(join(tmpdir(), 'emberline-imaging-enhanced-'));
-let restoreEnvironment: () => void = () => undefined;
-let testApp: TestApp;
-let ids: DemoIds;
+const context = useImagingTestApp(
+  'imaging-enhanced',
+  'imaging-enhanced-secret-7c2e9a4b1d6f3a8e5c0b',
+);
 let slices: Uint8Array[];
 
-beforeAll(async () => {
-  restoreEnvironment = setEnvironment({
-    FILE_STORE_DIR: fileStoreDir,
-    DEIDENTIFICATION_SECRET: 'imaging-enhanced-secret-7c2e9a4b1d6f3a8e5c0b',
-  });
-  testApp = await startTestApp();
+beforeAll(() => {
   // The committed sample grid, 20 slices of it: enough frames, a quick test.
   slices = generateAbdomenCt({ noiseStandardDeviationHu: 0 })
     .slices.slice(20, 40)
     .map((slice) => new Uint8Array(slice));
-});
-
-afterAll(async () => {
-  await testApp.close();
-  restoreEnvironment();
-  rmSync(fileStoreDir, { recursive: true, force: true });
-});
-
-beforeEach(async () => {
-  ids = await resetToDemo(testApp.orm);
-  rmSync(fileStoreDir, { recursive: true, force: true });
-  mkdirSync(fileStoreDir, { recursive: true });
 });
 
 type Natural = Record<string, unknown>;
@@ -125,24 +104,7 @@ function enhancedCt(
   return new Uint8Array(dict.write());
 }
 
-async function presenter(): Promise<ApiClient> {
-  const client = new ApiClient(testApp.app);
-  expect((await client.signIn('presenter@emberline.test', demoPassword)).status).toBe(200);
-  return client;
-}
-
-async function volumeOf(client: ApiClient, series: ImageSeriesView) {
-  const response = await client.agent
-    .get(series.volumeUrl)
-    .buffer(true)
-    .parse((res, done) => {
-      const chunks: Buffer[] = [];
-      res.on('data', (chunk: Buffer) => chunks.push(chunk));
-      res.on('end', () => done(null, Buffer.concat(chunks)));
-    });
-  expect(response.status).toBe(200);
-  return decodeVolumeFile(new Uint8Array(response.body as Buffer));
-}
+const presenter = () => context.signIn();
 
 describe('Enhanced CT Image Storage', () => {
   it.each([
@@ -152,12 +114,12 @@ describe('Enhanced CT Image Storage', () => {
     'reads %s to the geometry and voxels of the single-frame series',
     async (_name, reversed) => {
       const client = await presenter();
-      const classic = await uploadFiles(client, ids.northDraft, slices);
+      const classic = await uploadFiles(client, context.ids.northDraft, slices);
       expect(classic.status, JSON.stringify(classic.body)).toBe(201);
       const frames = reversed ? [...slices].reverse() : slices;
       const enhanced = await uploadFiles(
         client,
-        ids.northDraft,
+        context.ids.northDraft,
         [enhancedCt(frames)],
         () => 'ENHANCED',
       );
@@ -189,7 +151,7 @@ describe('Enhanced CT Image Storage', () => {
     const client = await presenter();
     const response = await uploadFiles(
       client,
-      ids.northDraft,
+      context.ids.northDraft,
       [enhancedCt(slices, { dropPositionOfFrame: 4 })],
       () => 'ENHANCED',
     );

@@ -362,7 +362,8 @@ describe('fuzzing the reading path: mutated and truncated files', () => {
     // 64 MB of zeros deflate to some 64 kB: a "deflate bomb" against the 32 MB a file may hold.
     const written = part10({}, { transferSyntaxUid: '1.2.840.10008.1.2.1.99' });
     // Whatever dcmjs wrote after the file meta is replaced by the bomb.
-    const metaEnd = dicomParser.readPart10Header(written).position;
+    const metaEnd = (dicomParser.readPart10Header(written) as unknown as { position: number })
+      .position;
     const bomb = Uint8Array.from([
       ...written.subarray(0, metaEnd),
       ...deflateRawSync(new Uint8Array(64 * 1_048_576)),

@@ -8,66 +8,30 @@
  * PS3.4 Annex B, from memory) is the source of how the objects are told apart.
  */
 import { execFileSync } from 'node:child_process';
-import { mkdirSync, mkdtempSync, readdirSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
 import { randomUUID } from 'node:crypto';
-import { afterAll, beforeAll, beforeEach, describe, expect, inject, it } from 'vitest';
+import { describe, expect, inject, it } from 'vitest';
 import type { ImageSeriesView, UploadListing, UploadProgress } from '@emberline/shared';
 import { AuditEvent } from '../../server/src/modules/audit/audit-event.entity';
 import { CaseDeidentificationKeys } from '../../server/src/modules/imaging/case-deidentification-keys';
 import { ImageSeries } from '../../server/src/modules/imaging/image-series.entity';
 import { UidReplacement } from '../../server/src/modules/imaging/uid-replacement.entity';
-import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
-import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
+import { ApiClient } from '../support/test-app';
+import { demoPassword } from '../support/demo';
 import {
   buildSeries,
   originalUid,
   part10,
   rawRequestHeaders,
   seriesSpec,
-  setEnvironment,
   seriesUploadCall,
   type JsonDataset,
 } from './imaging-fixtures';
+import { useImagingTestApp } from './imaging-test-app';
 
 const secret = 'imaging-study-secret-4e1a9c7b3d5f2a8c6e0b';
-const fileStoreDir = mkdtempSync(join(tmpdir(), 'emberline-imaging-study-'));
-let restoreEnvironment: () => void = () => undefined;
-let testApp: TestApp;
-let ids: DemoIds;
-
-beforeAll(async () => {
-  restoreEnvironment = setEnvironment({
-    FILE_STORE_DIR: fileStoreDir,
-    DEIDENTIFICATION_SECRET: secret,
-  });
-  testApp = await startTestApp();
-});
-
-afterAll(async () => {
-  await testApp.close();
-  restoreEnvironment();
-  rmSync(fileStoreDir, { recursive: true, force: true });
-});
-
-beforeEach(async () => {
-  ids = await resetToDemo(testApp.orm);
-  rmSync(fileStoreDir, { recursive: true, force: true });
-  mkdirSync(fileStoreDir, { recursive: true });
-});
-
-async function presenter(): Promise<ApiClient> {
-  const client = new ApiClient(testApp.app);
-  expect((await client.signIn('presenter@emberline.test', demoPassword)).status).toBe(200);
-  return client;
-}
-
-function volumesStored(): string[] {
-  return (readdirSync(fileStoreDir, { recursive: true }) as string[]).filter((name) =>
-    String(name).endsWith('.vol'),
-  );
-}
+const context = useImagingTestApp('imaging-study', secret);
+const presenter = () => context.signIn();
+const volumesStored = () => context.volumesStored();
 
 function databaseDump(): string {
   return execFileSync('/usr/lib/postgresql/15/bin/pg_dump', ['--no-owner', inject('databaseUrl')], {
@@ -149,7 +113,7 @@ function sopInstanceUidOf(file: Uint8Array): string {
 }
 
 async function uploadStudy(client: ApiClient, files: Uint8Array[], token: string) {
-  let { call } = await seriesUploadCall(client, ids.northDraft);
+  let { call } = await seriesUploadCall(client, context.ids.northDraft);
   call = call.query({ progress: token });
   files.forEach((file, index) => {
     call = call.attach('files', Buffer.from(file), {
@@ -215,9 +179,9 @@ describe('an upload holding a whole study', () => {
     expect(listing.skipped).toHaveLength(2);
     // Nothing is stored before the choice.
     expect(volumesStored()).toEqual([]);
-    const em = testApp.orm.em.fork();
-    expect(await em.count(ImageSeries, { clinicalCase: ids.northDraft })).toBe(0);
-    expect(await em.count(UidReplacement, { clinicalCase: ids.northDraft })).toBe(0);
+    const em = context.app.orm.em.fork();
+    expect(await em.count(ImageSeries, { clinicalCase: context.ids.northDraft })).toBe(0);
+    expect(await em.count(UidReplacement, { clinicalCase: context.ids.northDraft })).toBe(0);
     const progress = await client.agent.get(`/api/upload-progress/${token}`);
     expect(progress.status).toBe(200);
     expect(progress.body as UploadProgress).toEqual({
@@ -259,12 +223,12 @@ describe('an upload holding a whole study', () => {
       series: [{ key: venous?.key, description: 'Portal venous 2.5mm', done: 6, total: 6 }],
     });
     expect(volumesStored()).toHaveLength(1);
-    const em = testApp.orm.em.fork();
-    expect(await em.count(ImageSeries, { clinicalCase: ids.northDraft })).toBe(1);
+    const em = context.app.orm.em.fork();
+    expect(await em.count(ImageSeries, { clinicalCase: context.ids.northDraft })).toBe(1);
     // The replacements made are those of the kept series; none for what was discarded.
-    const keys = new CaseDeidentificationKeys(secret, ids.northDraft);
+    const keys = new CaseDeidentificationKeys(secret, context.ids.northDraft);
     const hashes = new Set(
-      (await em.find(UidReplacement, { clinicalCase: ids.northDraft })).map(
+      (await em.find(UidReplacement, { clinicalCase: context.ids.northDraft })).map(
         (row) => row.originalHash,
       ),
     );
@@ -307,9 +271,9 @@ describe('an upload holding a whole study', () => {
     const kept = await post(client, `/api/uploads/${listing.uploadId}/keep`, { keys: ['s1'] });
     expect(kept.status).toBe(404);
     const actions = (
-      await testApp.orm.em
+      await context.app.orm.em
         .fork()
-        .find(AuditEvent, { entityId: ids.northDraft }, { orderBy: { id: 'asc' } })
+        .find(AuditEvent, { entityId: context.ids.northDraft }, { orderBy: { id: 'asc' } })
     ).map((event) => event.action);
     expect(actions).toEqual(
       expect.arrayContaining(['series.upload-listed', 'series.upload-discarded']),
@@ -324,7 +288,7 @@ describe('an upload holding a whole study', () => {
     expect((unknown.body as { detail: string }).detail).toMatch(/no series "s9"; it offers s1, s2/);
     const empty = await post(client, `/api/uploads/${listing.uploadId}/keep`, { keys: [] });
     expect(empty.status).toBe(400);
-    const other = new ApiClient(testApp.app);
+    const other = new ApiClient(context.app.app);
     expect((await other.signIn('member@emberline.test', demoPassword)).status).toBe(200);
     const foreign = await post(other, `/api/uploads/${listing.uploadId}/keep`, { keys: ['s1'] });
     expect(foreign.status).toBe(404);

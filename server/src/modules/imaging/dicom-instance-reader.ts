@@ -22,6 +22,7 @@ import {
   decodeFrame,
   encapsulatedFrames,
   transferSyntaxes,
+  withExtendedOffsetTableReadable,
   type FrameLayout,
   type TransferSyntax,
 } from './pixel-data';
@@ -717,7 +718,8 @@ interface ParsedFile {
 function parseFile(bytes: Uint8Array, label: string, limits: InstanceReadLimits): ParsedFile {
   checkPreamble(bytes, label);
   const syntax = syntaxOf(transferSyntaxOf(bytes, label));
-  const dataSet = parse(bytes, label, limits.maxInstanceBytes);
+  // dicom-parser does not know the VR OV of an Extended Offset Table: read it as OB.
+  const dataSet = parse(withExtendedOffsetTableReadable(bytes), label, limits.maxInstanceBytes);
   const characterSet = dataSet.string('x00080005') ?? '';
   const context: ReadContext = {
     byteArray: dataSet.byteArray,

@@ -1,7 +1,5 @@
-import { mkdirSync, mkdtempSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
-import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
+import { rmSync } from 'node:fs';
+import { afterAll, describe, expect, it } from 'vitest';
 import dicomParser from 'dicom-parser';
 import { zipSync } from 'fflate';
 import {
@@ -10,13 +8,12 @@ import {
   type ProblemDetails,
 } from '@emberline/shared';
 import { unpackUpload, type UploadedFile } from '../../server/src/modules/imaging/upload-unpack';
-import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
-import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
+import type { ApiClient } from '../support/test-app';
+import { useImagingTestApp } from './imaging-test-app';
 import {
   buildSeries,
   seededRandom,
   seriesSpec,
-  setEnvironment,
   slicePosition,
   seriesUploadCall,
   type JsonDataset,
@@ -133,47 +130,20 @@ describe('unpackUpload against DICOMDIRs made by dcmtk dcmmkdir (DICOM PS3.10 se
 });
 
 describe('POST /api/cases/:id/series with a folder that holds a DICOMDIR', () => {
-  const fileStoreDir = mkdtempSync(join(tmpdir(), 'emberline-dicomdir-test-'));
-  let testApp: TestApp;
-  let ids: DemoIds;
-  let restoreEnvironment: () => void = () => undefined;
-
-  beforeAll(async () => {
-    restoreEnvironment = setEnvironment({
-      FILE_STORE_DIR: fileStoreDir,
-      DEIDENTIFICATION_SECRET: 'dicomdir-test-secret-7c1e94a0b3d2f6e8a5c4',
-      IMAGING_MAX_FILES: '40',
-      IMAGING_MAX_UPLOAD_BYTES: String(4 * mebibyte),
-      IMAGING_MAX_INSTANCE_BYTES: String(512 * kibibyte),
-      IMAGING_MAX_INFLATED_BYTES: String(2 * mebibyte),
-    });
-    testApp = await startTestApp();
+  const context = useImagingTestApp('dicomdir-test', 'dicomdir-test-secret-7c1e94a0b3d2f6e8a5c4', {
+    IMAGING_MAX_FILES: '40',
+    IMAGING_MAX_UPLOAD_BYTES: String(4 * mebibyte),
+    IMAGING_MAX_INSTANCE_BYTES: String(512 * kibibyte),
+    IMAGING_MAX_INFLATED_BYTES: String(2 * mebibyte),
   });
-
-  afterAll(async () => {
-    await testApp.close();
-    restoreEnvironment();
-    rmSync(fileStoreDir, { recursive: true, force: true });
-  });
-
-  beforeEach(async () => {
-    ids = await resetToDemo(testApp.orm);
-    rmSync(fileStoreDir, { recursive: true, force: true });
-    mkdirSync(fileStoreDir, { recursive: true });
-  });
-
-  async function presenter(): Promise<ApiClient> {
-    const client = new ApiClient(testApp.app);
-    expect((await client.signIn('presenter@emberline.test', demoPassword)).status).toBe(200);
-    return client;
-  }
+  const presenter = () => context.signIn();
 
   /**
    * The files, each with its relative path as its multipart filename, as a browser sends a
    * folder. form-data reduces `filename` to a base name; `filepath` keeps the path.
    */
   async function upload(client: ApiClient, files: readonly UploadedFile[]) {
-    let { call } = await seriesUploadCall(client, ids.northDraft);
+    let { call } = await seriesUploadCall(client, context.ids.northDraft);
     for (const file of files) {
       const options = { filepath: file.name, contentType: 'application/octet-stream' };
       call = call.attach('files', Buffer.from(file.bytes), options);

@@ -177,6 +177,14 @@ const syntaxes: {
     isLossy: false,
   },
   {
+    // The syntax claims lossless, the codestream is not: the codestream decides (lossy).
+    name: 'JPEG 2000 Lossless Only syntax around an irreversible codestream',
+    uid: '1.2.840.10008.1.2.4.90',
+    make: () => jpeg2000('j2k-mislabelled', '1.2.840.10008.1.2.4.90', ['-I', '-r', '10'], false),
+    maxError: jpeg2000MaxErrorHu,
+    isLossy: true,
+  },
+  {
     name: 'JPEG 2000, irreversible, ratio 10',
     uid: '1.2.840.10008.1.2.4.91',
     make: () => jpeg2000('j2k-lossy', '1.2.840.10008.1.2.4.91', ['-I', '-r', '10'], true),

@@ -39,7 +39,7 @@ function naturalOf(file: Uint8Array): Natural {
 /** One Enhanced CT file holding the slices as frames, in the order given. */
 function enhancedCt(
   files: Uint8Array[],
-  options: { dropPositionOfFrame?: number } = {},
+  options: { dropPositionOfFrame?: number; perFrameRescale?: boolean } = {},
 ): Uint8Array {
   const natural = files.map(naturalOf);
   const [first] = natural;
@@ -48,6 +48,11 @@ function enhancedCt(
   natural.forEach((slice, index) => {
     const data = new Uint8Array((slice.PixelData as ArrayBuffer[])[0]);
     pixels.set(data.subarray(0, frameBytes), index * frameBytes);
+    if (options.perFrameRescale) {
+      // Frame k stores value − k and says intercept −1024 + k: the same HU, another transformation.
+      const values = new Int16Array(pixels.buffer, index * frameBytes, frameBytes / 2);
+      for (let at = 0; at < values.length; at++) values[at] -= index;
+    }
   });
   const sopInstanceUid = originalUid();
   const dataset: Natural = {
@@ -88,6 +93,18 @@ function enhancedCt(
         ? {}
         : { PlanePositionSequence: [{ ImagePositionPatient: slice.ImagePositionPatient }] }),
       FrameContentSequence: [{ InStackPositionNumber: index + 1 }],
+      // The Per-frame item wins over the Shared one (PS3.3 C.7.6.16).
+      ...(options.perFrameRescale
+        ? {
+            PixelValueTransformationSequence: [
+              {
+                RescaleIntercept: Number(first.RescaleIntercept) + index,
+                RescaleSlope: first.RescaleSlope,
+                RescaleType: 'HU',
+              },
+            ],
+          }
+        : {}),
     })),
     PixelData: [pixels.buffer],
     _vrMap: { PixelData: 'OW' },
@@ -108,11 +125,12 @@ const presenter = () => context.signIn();
 
 describe('Enhanced CT Image Storage', () => {
   it.each([
-    ['frames in slice order', false],
-    ['frames reversed', true],
+    ['frames in slice order', false, false],
+    ['frames reversed', true, false],
+    ['each frame with its own Pixel Value Transformation', false, true],
   ])(
     'reads %s to the geometry and voxels of the single-frame series',
-    async (_name, reversed) => {
+    async (_name, reversed, perFrameRescale) => {
       const client = await presenter();
       const classic = await uploadFiles(client, context.ids.northDraft, slices);
       expect(classic.status, JSON.stringify(classic.body)).toBe(201);
@@ -120,7 +138,7 @@ describe('Enhanced CT Image Storage', () => {
       const enhanced = await uploadFiles(
         client,
         context.ids.northDraft,
-        [enhancedCt(frames)],
+        [enhancedCt(frames, { perFrameRescale })],
         () => 'ENHANCED',
       );
       expect(enhanced.status, JSON.stringify(enhanced.body)).toBe(201);

@@ -33,6 +33,7 @@ import {
 const limits: ReadLimits = {
   maxFiles: 40,
   maxInstanceBytes: 32 * 1_048_576,
+  maxDecodedBytes: 1024 * 1_048_576,
   maxInflatedBytes: 64 * 1_048_576,
   maxSequenceDepth: 12,
   maxAttributes: 20_000,

@@ -386,6 +386,18 @@ describe(`refused series, each with a 4xx naming what is wrong (${GEOMETRY})`, (
       detail: /holds 4 frames/,
     },
     {
+      name: 'an image larger than the largest matrix read (before any decoding)',
+      files: () =>
+        buildSeries(
+          seriesSpec({
+            adjust: (_s, dataset) => (dataset['00280010'] = { vr: 'US', Value: [8192] }),
+          }),
+        ),
+      status: 413,
+      detail:
+        /File 1 \(slice-0\.dcm\) is 32 × 8192 pixels; Emberline reads images of at most 4096 × 4096/,
+    },
+    {
       name: 'a colour image',
       files: () =>
         buildSeries(

@@ -282,7 +282,8 @@ describe('an upload holding a whole study', () => {
 
   it('refuses an unknown key, an empty choice, and the upload of another user', async () => {
     const client = await presenter();
-    const listing = (await uploadStudy(client, study().files, randomUUID())).body as UploadListing;
+    const token = randomUUID();
+    const listing = (await uploadStudy(client, study().files, token)).body as UploadListing;
     const unknown = await post(client, `/api/uploads/${listing.uploadId}/keep`, { keys: ['s9'] });
     expect(unknown.status).toBe(400);
     expect((unknown.body as { detail: string }).detail).toMatch(/no series "s9"; it offers s1, s2/);
@@ -292,8 +293,43 @@ describe('an upload holding a whole study', () => {
     expect((await other.signIn('member@emberline.test', demoPassword)).status).toBe(200);
     const foreign = await post(other, `/api/uploads/${listing.uploadId}/keep`, { keys: ['s1'] });
     expect(foreign.status).toBe(404);
-    expect((await other.agent.get(`/api/upload-progress/${randomUUID()}`)).status).toBe(404);
+    // The presenter's own progress token is not another user's to read.
+    expect((await other.agent.get(`/api/upload-progress/${token}`)).status).toBe(404);
+    expect((await client.agent.get(`/api/upload-progress/${token}`)).status).toBe(200);
     expect(volumesStored()).toEqual([]);
+  });
+
+  it('refuses a keep holding a series stored already (409) before writing anything', async () => {
+    const client = await presenter();
+    const { files, uids } = study();
+    // The portal-venous phase alone first (files 8–13): stored at once.
+    const alone = await uploadStudy(client, files.slice(7), randomUUID());
+    expect(alone.status, JSON.stringify(alone.body)).toBe(201);
+    const replacementsBefore = await context.app.orm.em
+      .fork()
+      .count(UidReplacement, { clinicalCase: context.ids.northDraft });
+    const listing = (await uploadStudy(client, files, randomUUID())).body as UploadListing;
+    const both = await post(client, `/api/uploads/${listing.uploadId}/keep`, {
+      keys: ['s1', 's2'],
+    });
+    expect(both.status).toBe(409);
+    expect((both.body as { detail: string }).detail).toMatch(/stored for the case already/);
+    expect(volumesStored()).toHaveLength(1);
+    const em = context.app.orm.em.fork();
+    expect(await em.count(UidReplacement, { clinicalCase: context.ids.northDraft })).toBe(
+      replacementsBefore,
+    );
+    const keys = new CaseDeidentificationKeys(secret, context.ids.northDraft);
+    const arterial = await em.findOne(UidReplacement, {
+      clinicalCase: context.ids.northDraft,
+      originalHash: keys.hashOfUid(uids.arterialUid),
+    });
+    expect(arterial).toBeNull();
+    // The arterial phase alone can still be kept from the same listing.
+    const arterialKept = await post(client, `/api/uploads/${listing.uploadId}/keep`, {
+      keys: ['s1'],
+    });
+    expect(arterialKept.status).toBe(201);
   });
 
   it('still stores a single series at once (201), its localizer and report set aside', async () => {

@@ -15,6 +15,7 @@ const limits: InstanceReadLimits = {
   maxSequenceDepth: 12,
   maxAttributes: 100_000,
   maxInstanceBytes: 64 * 1_048_576,
+  maxDecodedBytes: 1024 * 1_048_576,
 };
 
 beforeAll(async () => {

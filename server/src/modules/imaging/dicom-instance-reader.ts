@@ -34,7 +34,16 @@ export interface InstanceReadLimits {
   maxAttributes: number;
   /** Bytes of one file once a deflated data set is inflated. */
   maxInstanceBytes: number;
+  /**
+   * Bytes the decoded pixels of one file may take (frames × rows × columns × 2): checked from
+   * the header before anything is decoded, so that no codestream can make a decoder allocate
+   * for an image far larger than a CT or MR series needs.
+   */
+  maxDecodedBytes: number;
 }
+
+/** Rows and columns of an image at most: CT and MR matrices are 512–1024 (common practice). */
+export const maxMatrix = 4096;
 
 export class InstanceRefusal extends Error {
   constructor(readonly payload: RefusalPayload) {
@@ -743,8 +752,29 @@ function parseFile(bytes: Uint8Array, label: string, limits: InstanceReadLimits)
   return { dataSet, header, syntax };
 }
 
+/** Refuses (413) an image whose decoded pixels would exceed the bounds, before any decoding. */
+function checkDecodedSize(layout: PixelLayout, label: string, maxDecodedBytes: number): void {
+  if (layout.rows > maxMatrix || layout.columns > maxMatrix) {
+    refuse(
+      413,
+      'too-large',
+      `${label} is ${layout.columns} × ${layout.rows} pixels; Emberline reads images of at most ` +
+        `${maxMatrix} × ${maxMatrix}.`,
+    );
+  }
+  const bytes = layout.rows * layout.columns * 2 * layout.frameCount;
+  if (bytes > maxDecodedBytes) {
+    refuse(
+      413,
+      'too-large',
+      `${label} decodes to ${(bytes / 1_048_576).toFixed(0)} MB of pixels (${layout.frameCount} ` +
+        `frames); one file may decode to at most ${(maxDecodedBytes / 1_048_576).toFixed(0)} MB.`,
+    );
+  }
+}
+
 /** Classifies a parsed file: a usable image with its frames, or another object and why. */
-function classify(parsed: ParsedFile, label: string): ScannedInstance {
+function classify(parsed: ParsedFile, label: string, limits: InstanceReadLimits): ScannedInstance {
   const { dataSet, header, syntax } = parsed;
   const sopClassUid = firstString(header, '00080016') ?? '';
   const modality = firstString(header, '00080060');
@@ -803,6 +833,7 @@ function classify(parsed: ParsedFile, label: string): ScannedInstance {
   const isEnhanced = enhancedSopClasses.has(sopClassUid);
   try {
     const layout = pixelLayout(header, label, isEnhanced);
+    checkDecodedSize(layout, label, limits.maxDecodedBytes);
     const frames = isEnhanced
       ? enhancedFrames(header, layout, label)
       : [classicFrame(header, label)];
@@ -849,7 +880,7 @@ export function scanInstance(
   label: string,
   limits: InstanceReadLimits,
 ): ScannedInstance {
-  return classify(parseFile(bytes, label, limits), label);
+  return classify(parseFile(bytes, label, limits), label, limits);
 }
 
 /** Stored values of every frame of a native (uncompressed) Pixel Data element. */
@@ -922,7 +953,7 @@ export function decodeInstance(
   onFrame?: (done: number, total: number) => void,
 ): { scanned: ScannedImage; decoded: DecodedInstance } {
   const parsed = parseFile(bytes, label, limits);
-  const scanned = classify(parsed, label);
+  const scanned = classify(parsed, label, limits);
   if (scanned.kind !== 'image') throw new InstanceRefusal(scanned.refusal);
   const { layout } = scanned;
   const { dataSet, syntax } = parsed;

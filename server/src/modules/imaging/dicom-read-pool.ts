@@ -50,7 +50,12 @@ export interface ReadProgress {
   fileIndex: number;
   framesDone: number;
   label: string;
+  /** Scans: how many files the upload holds once unpacked. */
+  fileCount?: number;
 }
+
+/** A file may report progress many times (every 16 frames), but take at most this many bounds in all. */
+const boundsPerFile = 10;
 
 interface Job {
   kind: 'scan' | 'decode';
@@ -64,6 +69,9 @@ interface Job {
 
 interface RunningJob extends Job {
   jobId: number;
+  /** When the file being read was started, and its index. */
+  fileStartedAt: number;
+  fileIndex: number;
   timer: NodeJS.Timeout;
   hasTimedOut: boolean;
   currentLabel: string;
@@ -217,8 +225,10 @@ export class DicomReadPool {
     entry.job = {
       ...job,
       jobId,
-      timer: this.clock(entry, entry.isReady ? 0 : startupAllowanceMs),
+      timer: this.clock(entry, this.options.timeoutMs + (entry.isReady ? 0 : startupAllowanceMs)),
       hasTimedOut: false,
+      fileStartedAt: Date.now(),
+      fileIndex: -1,
       currentLabel: 'The upload',
       decoded: [],
     };
@@ -252,11 +262,14 @@ export class DicomReadPool {
   }
 
   /** The time bound of the file being read: restarted by every progress report. */
-  private clock(entry: PoolWorker, startupMs = 0): NodeJS.Timeout {
-    return setTimeout(() => {
-      if (entry.job) entry.job.hasTimedOut = true;
-      void entry.worker.terminate();
-    }, this.options.timeoutMs + startupMs);
+  private clock(entry: PoolWorker, ms: number): NodeJS.Timeout {
+    return setTimeout(
+      () => {
+        if (entry.job) entry.job.hasTimedOut = true;
+        void entry.worker.terminate();
+      },
+      Math.max(1, ms),
+    );
   }
 
   private receive(entry: PoolWorker, message: WorkerMessage): void {
@@ -267,16 +280,24 @@ export class DicomReadPool {
     const job = entry.job;
     if (!job || job.jobId !== message.jobId) return;
     switch (message.type) {
-      case 'progress':
+      case 'progress': {
         clearTimeout(job.timer);
-        job.timer = this.clock(entry);
+        if (message.fileIndex !== job.fileIndex) {
+          job.fileIndex = message.fileIndex;
+          job.fileStartedAt = Date.now();
+        }
+        // A bound between reports, and ten bounds for the whole file, however many it reports.
+        const fileLeft = job.fileStartedAt + boundsPerFile * this.options.timeoutMs - Date.now();
+        job.timer = this.clock(entry, Math.min(this.options.timeoutMs, fileLeft));
         job.currentLabel = message.label;
         job.onProgress?.({
           fileIndex: message.fileIndex,
           framesDone: message.framesDone,
           label: message.label,
+          fileCount: message.fileCount,
         });
         return;
+      }
       case 'decoded':
         job.decoded[message.index] = { scanned: message.scanned, decoded: message.decoded };
         return;
@@ -324,8 +345,9 @@ export class DicomReadPool {
       return new ImagingRefusal(
         400,
         'too-complex',
-        `${label} took longer than ${seconds} s to read; it is damaged or far more complex ` +
-          'than an image needs.',
+        `${label} took longer than ${seconds} s to read (a multi-frame file: ${seconds} s ` +
+          `for 16 frames, ${Number((boundsPerFile * seconds).toFixed(2))} s in all); it is ` +
+          'damaged or far more complex than an image needs.',
       );
     }
     const code = (crash as { code?: unknown } | undefined)?.code;

@@ -56,7 +56,15 @@ export type WorkerMessage =
    * File `fileIndex` is being read, `framesDone` of its frames decoded so far (a multi-frame
    * file reports every few frames): restarts the clock of that file.
    */
-  | { jobId: number; type: 'progress'; label: string; fileIndex: number; framesDone: number }
+  | {
+      jobId: number;
+      type: 'progress';
+      label: string;
+      fileIndex: number;
+      framesDone: number;
+      /** Scans: the files the upload holds once unpacked (a zip's entries, a DICOMDIR's images). */
+      fileCount?: number;
+    }
   | ({ jobId: number; type: 'scanned' } & ScanResult)
   | {
       jobId: number;

@@ -49,7 +49,14 @@ function scan(request: Extract<ReadRequest, { kind: 'scan' }>): void {
     const entries: ScannedEntry[] = [];
     unpacked.entries.forEach((entry, index) => {
       label = entry.label;
-      post({ jobId, type: 'progress', label, fileIndex: index, framesDone: 0 });
+      post({
+        jobId,
+        type: 'progress',
+        label,
+        fileIndex: index,
+        framesDone: 0,
+        fileCount: unpacked.entries.length,
+      });
       entries.push({
         label: entry.label,
         path: entry.path,
@@ -106,6 +113,8 @@ function decode(request: Extract<ReadRequest, { kind: 'decode' }>): void {
     });
     post({ jobId, type: 'done' });
   } catch (error) {
+    // A refused file may have grown a codec's memory as much as a good one.
+    releaseCodecMemory(limits.maxCodecMemoryBytes);
     post({ ...refusalOf(error, label), jobId });
   }
 }

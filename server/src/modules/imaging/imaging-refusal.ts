@@ -28,7 +28,8 @@ export type RefusalReason =
   | 'duplicate-instance'
   | 'duplicate-series'
   | `geometry:${string}`
-  | 'busy';
+  | 'busy'
+  | 'cancelled';
 
 /** What a refusal carries across the worker boundary. */
 export interface RefusalPayload {

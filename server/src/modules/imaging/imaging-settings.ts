@@ -36,6 +36,8 @@ const environmentSchema = z.object({
   IMAGING_MAX_INFLATED_BYTES: positive(768 * mebibyte),
   IMAGING_READ_TIMEOUT_MS: positive(30_000),
   IMAGING_CODEC_MEMORY_MB: positive(256),
+  // Decoded int16 pixels of one file, and of the series one keep stores together.
+  IMAGING_MAX_DECODED_MB: positive(1024),
   IMAGING_PENDING_MINUTES: positive(15),
   IMAGING_PENDING_MAX_BYTES: positive(1536 * mebibyte),
   IMAGING_WORKER_MEMORY_MB: positive(256),
@@ -82,6 +84,7 @@ export function imagingSettingsFromEnvironment(env = process.env): ImagingSettin
         // An Enhanced CT of 1000 frames carries some 30 attributes a frame.
         maxAttributes: 100_000,
         maxCodecMemoryBytes: values.IMAGING_CODEC_MEMORY_MB * mebibyte,
+        maxDecodedBytes: values.IMAGING_MAX_DECODED_MB * mebibyte,
       },
     },
     pending: {

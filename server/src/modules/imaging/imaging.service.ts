@@ -6,6 +6,7 @@ import { UniqueConstraintViolationException } from '@mikro-orm/core';
 import {
   deidentificationMethodCodes,
   encodeVolumeFilePreamble,
+  voxelCount,
   type DeidentificationRecord,
   type ImageSeriesView,
   type UploadListing,
@@ -31,6 +32,7 @@ import type { ImagingSettings } from './imaging-settings';
 import type { PendingUploads, UploadProgressBoard } from './pending-uploads';
 import { assembleSeries, type AssembledSeries, type SeriesPlan } from './series-assembly';
 import { listCandidate, sortStudy } from './study-sorting';
+import { UidReplacement } from './uid-replacement.entity';
 import { resolveUidReplacements } from './uid-replacements';
 import { receiveUpload } from './upload-receiver';
 
@@ -111,7 +113,10 @@ export class ImagingService {
     progressToken: string | undefined,
   ): Promise<ImageSeriesView[]> {
     const pending = this.dependencies.pending.find(uploadId, user.id);
-    if (!pending) throw new NotFoundError('The upload (uploads are kept for 15 minutes)');
+    if (!pending) {
+      const minutes = Math.round(this.dependencies.settings.pending.ttlMs / 60_000);
+      throw new NotFoundError(`The upload (uploads wait ${minutes} minutes for a choice)`);
+    }
     const found = await this.findCaseToUploadTo(user, pending.caseId);
     const chosen = [...new Set(keys)].map((key) => {
       const candidate = pending.candidates.find((entry) => entry.key === key);
@@ -279,9 +284,10 @@ export class ImagingService {
       files: { done: 0, total: files.length },
       series: [],
     });
-    const scan = await pool.scan(files, ({ fileIndex }) =>
+    const scan = await pool.scan(files, ({ fileIndex, fileCount }) =>
       progress.update(progressToken, user.id, (state) => {
         state.files.done = fileIndex;
+        if (fileCount !== undefined) state.files.total = fileCount;
       }),
     );
     progress.update(progressToken, user.id, (state) => {
@@ -304,15 +310,23 @@ export class ImagingService {
           progressToken,
           uploadId: null,
           skippedCount: scan.skippedCount + sorted.skipped.length,
+          assertStillWanted: () => assertStillWanted(request, response),
         },
       );
       return { status: 201, series };
     }
+    assertStillWanted(request, response);
+    // Only the candidates' files wait for the choice; reports and localizers are let go now.
+    const heldEntries = sorted.candidates.flatMap((candidate) => candidate.entryIndices);
+    const heldIndex = new Map(heldEntries.map((entryIndex, index) => [entryIndex, index]));
     const held = pending.add({
       caseId: found.id,
       userId: user.id,
-      files: scan.entries.map(fileOf),
-      candidates: sorted.candidates,
+      files: heldEntries.map((index) => fileOf(scan.entries[index])),
+      candidates: sorted.candidates.map((candidate) => ({
+        ...candidate,
+        entryIndices: candidate.entryIndices.map((index) => heldIndex.get(index) ?? -1),
+      })),
       skipped,
     });
     progress.update(progressToken, user.id, (state) => {
@@ -353,10 +367,26 @@ export class ImagingService {
       progressToken: string | undefined;
       uploadId: string | null;
       skippedCount: number;
+      /** Throws when the client has gone (the upload was cancelled): nothing is stored then. */
+      assertStillWanted?: () => void;
     },
   ): Promise<ImageSeriesView[]> {
-    const { pool, store, progress } = this.dependencies;
+    const { pool, store, progress, settings } = this.dependencies;
     const { progressToken } = options;
+    const decodedBytes = chosen.reduce(
+      (sum, entry) => sum + voxelCount(entry.plan.geometry.dimensions) * 2,
+      0,
+    );
+    const maxDecodedBytes = settings.pool.limits.maxDecodedBytes;
+    if (decodedBytes > maxDecodedBytes) {
+      throw new ImagingRefusal(
+        413,
+        'too-large',
+        `The chosen series decode to ${(decodedBytes / 1_048_576).toFixed(0)} MB of voxels; one ` +
+          `upload may store at most ${(maxDecodedBytes / 1_048_576).toFixed(0)} MB at a time. ` +
+          'Keep fewer series at once.',
+      );
+    }
     progress.set(progressToken, user.id, {
       stage: 'decoding',
       files: { done: 0, total: chosen.reduce((sum, entry) => sum + entry.files.length, 0) },
@@ -390,32 +420,40 @@ export class ImagingService {
       });
       assembled.push({ entry, series: assembleSeries(entry.plan, decoded) });
     }
+    options.assertStillWanted?.();
+    await this.refuseStoredAlready(
+      found.id,
+      assembled.map(({ series }) => series),
+    );
     progress.update(progressToken, user.id, (state) => {
       state.stage = 'storing';
     });
     const written: string[] = [];
-    const rows: ImageSeries[] = [];
+    let rows: ImageSeries[];
     try {
-      for (const { series: volume } of assembled) {
-        rows.push(await this.prepareSeries(user, found, volume, written));
-      }
-      for (const row of rows) {
-        recordAudit(this.em, actor, {
-          action: 'series.upload',
-          entityType: 'case',
-          entityId: found.id,
-          detail: {
-            seriesId: row.id,
-            sliceCount: row.sliceCount,
-            skippedCount: options.skippedCount,
-            ...(options.uploadId ? { uploadId: options.uploadId } : {}),
-          },
-        });
-      }
-      await this.em.flush();
+      // UID replacements, rows and audit in one transaction: a failure keeps none of them.
+      rows = await this.em.transactional(async (em) => {
+        const prepared: ImageSeries[] = [];
+        for (const { series: volume } of assembled) {
+          prepared.push(await this.prepareSeries(em, user, found, volume, written));
+        }
+        for (const row of prepared) {
+          recordAudit(em, actor, {
+            action: 'series.upload',
+            entityType: 'case',
+            entityId: found.id,
+            detail: {
+              seriesId: row.id,
+              sliceCount: row.sliceCount,
+              skippedCount: options.skippedCount,
+              ...(options.uploadId ? { uploadId: options.uploadId } : {}),
+            },
+          });
+        }
+        return prepared;
+      });
     } catch (error) {
       // Nothing of a failed upload stays behind: not the rows, not the volumes.
-      this.em.clear();
       await Promise.all(written.map((key) => store.remove(key)));
       throw error;
     }
@@ -427,13 +465,14 @@ export class ImagingService {
 
   /** De-identifies one assembled series and writes its volume; the row is persisted, not flushed. */
   private async prepareSeries(
+    em: EntityManager,
     user: SignedInUser,
     found: ClinicalCase,
     assembled: AssembledSeries,
     written: string[],
   ): Promise<ImageSeries> {
     const { store } = this.dependencies;
-    const header = await this.deidentifiedHeader(found.id, assembled);
+    const header = await this.deidentifiedHeader(em, found.id, assembled);
     const uid = (tag: string, name: string) => {
       const value = firstString(header.dataset, tag);
       if (!value) throw new ImagingRefusal(400, 'malformed', `The slices lack a ${name}.`);
@@ -442,7 +481,8 @@ export class ImagingService {
     const seriesUid = uid('0020000E', 'Series Instance UID (0020,000E)');
     const studyUid = uid('0020000D', 'Study Instance UID (0020,000D)');
     const frameOfReferenceUid = uid('00200052', 'Frame of Reference UID (0020,0052)');
-    const stored = await this.em.findOne(ImageSeries, { clinicalCase: found.id, seriesUid });
+    // Checked again inside the transaction: another upload may have stored it meanwhile.
+    const stored = await em.findOne(ImageSeries, { clinicalCase: found.id, seriesUid });
     if (stored) {
       throw new ImagingRefusal(
         409,
@@ -472,8 +512,8 @@ export class ImagingService {
       littleEndianBytes(assembled.voxels),
     ]);
     const series = new ImageSeries({
-      clinicalCase: this.em.getReference(ClinicalCase, found.id, { wrapped: true }),
-      uploadedBy: this.em.getReference(User, user.id, { wrapped: true }),
+      clinicalCase: em.getReference(ClinicalCase, found.id, { wrapped: true }),
+      uploadedBy: em.getReference(User, user.id, { wrapped: true }),
       modality: assembled.modality,
       dimensions: geometry.dimensions,
       spacingMm: geometry.spacingMm,
@@ -495,17 +535,50 @@ export class ImagingService {
     });
     series.seriesNumber = assembled.seriesNumber;
     series.compression = assembled.compression;
-    this.em.persist(series);
+    em.persist(series);
     return series;
   }
 
-  private async deidentifiedHeader(caseId: string, assembled: AssembledSeries) {
-    const keys = new CaseDeidentificationKeys(
-      this.dependencies.settings.deidentificationSecret,
-      caseId,
-    );
+  /**
+   * 409 before anything is written when a chosen series is stored for the case already: its
+   * original Series Instance UID has a replacement, and a series of the case carries it.
+   */
+  private async refuseStoredAlready(
+    caseId: string,
+    series: readonly AssembledSeries[],
+  ): Promise<void> {
+    const keys = this.deidentificationKeys(caseId);
+    for (const entry of series) {
+      const original = firstString(entry.firstSliceHeader, '0020000E');
+      if (!original) continue;
+      const replacement = await this.em.findOne(
+        UidReplacement,
+        { clinicalCase: caseId, originalHash: keys.hashOfUid(original) },
+        { disableIdentityMap: true },
+      );
+      if (!replacement) continue;
+      const stored = await this.em.findOne(ImageSeries, {
+        clinicalCase: caseId,
+        seriesUid: replacement.replacementUid,
+      });
+      if (stored) {
+        throw new ImagingRefusal(
+          409,
+          'duplicate-series',
+          `This series is stored for the case already (series ${stored.id}).`,
+        );
+      }
+    }
+  }
+
+  private deidentificationKeys(caseId: string): CaseDeidentificationKeys {
+    return new CaseDeidentificationKeys(this.dependencies.settings.deidentificationSecret, caseId);
+  }
+
+  private async deidentifiedHeader(em: EntityManager, caseId: string, assembled: AssembledSeries) {
+    const keys = this.deidentificationKeys(caseId);
     const originals = uidsToReplace(assembled.firstSliceHeader);
-    const replacements = await resolveUidReplacements(this.em, caseId, keys, originals);
+    const replacements = await resolveUidReplacements(em, caseId, keys, originals);
     return deidentifyHeader(assembled.firstSliceHeader, {
       replaceUid: (original) => {
         const replacement = replacements.get(original);
@@ -543,4 +616,14 @@ function toView(series: ImageSeries, uploaderName: string): ImageSeriesView {
 
 function fileOf(entry: ScannedEntry): { label: string; bytes: Uint8Array } {
   return { label: entry.label, bytes: entry.bytes };
+}
+
+/**
+ * Throws when the client closed the connection before the answer (it cancelled the upload):
+ * a cancelled upload is neither stored nor held for a choice.
+ */
+function assertStillWanted(request: Request, response: Response): void {
+  if (request.socket.destroyed || response.writableEnded || response.destroyed) {
+    throw new ImagingRefusal(400, 'cancelled', 'The upload was cancelled before it was read.');
+  }
 }

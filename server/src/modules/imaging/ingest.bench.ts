@@ -73,6 +73,7 @@ const pool = new DicomReadPool({
   limits: {
     maxFiles: 4000,
     maxInstanceBytes: 16 * 1_048_576,
+    maxDecodedBytes: 1024 * 1_048_576,
     maxInflatedBytes: 2048 * 1_048_576,
     maxSequenceDepth: 12,
     maxAttributes: 100_000,

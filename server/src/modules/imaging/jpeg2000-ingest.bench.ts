@@ -87,6 +87,7 @@ const pool = new DicomReadPool({
   limits: {
     maxFiles: 2000,
     maxInstanceBytes: 512 * mebibyte,
+    maxDecodedBytes: 1024 * 1_048_576,
     maxInflatedBytes: 768 * mebibyte,
     maxSequenceDepth: 12,
     maxAttributes: 100_000,

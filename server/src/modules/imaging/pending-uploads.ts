@@ -94,7 +94,10 @@ export class PendingUploads {
   }
 }
 
-/** Progress of uploads and keeps, by the token the client sent, readable by the same user. */
+/**
+ * Progress of uploads and keeps, by the token the client sent, readable by the same user only,
+ * and forgotten ten minutes after its last change: a token another user holds is not taken over.
+ */
 export class UploadProgressBoard {
   private readonly entries = new Map<
     string,
@@ -104,8 +107,10 @@ export class UploadProgressBoard {
 
   set(token: string | undefined, userId: string, progress: UploadProgress): void {
     if (!token) return;
+    this.forgetOld();
+    const held = this.entries.get(token);
+    if (held && held.userId !== userId) return;
     this.entries.set(token, { userId, progress, at: Date.now() });
-    if (this.entries.size > 1000) this.forgetOld();
   }
 
   update(
@@ -121,6 +126,7 @@ export class UploadProgressBoard {
   }
 
   get(token: string, userId: string): UploadProgress | undefined {
+    this.forgetOld();
     const entry = this.entries.get(token);
     return entry && entry.userId === userId ? entry.progress : undefined;
   }

@@ -243,7 +243,10 @@ function compressionOf(images: readonly PlannedImage[]): SeriesCompression {
   const ratios = numberValues(headers[0], tags.lossyImageCompressionRatio).filter(
     (value) => Number.isFinite(value) && value > 0,
   );
-  const methods = stringValues(headers[0], tags.lossyImageCompressionMethod);
+  // A defined term (CS): upper case, digits, space and underscore, at most 16 characters.
+  const methods = stringValues(headers[0], tags.lossyImageCompressionMethod)
+    .map((method) => method.replace(/[^A-Z0-9 _]/g, '').slice(0, 16))
+    .filter(Boolean);
   return {
     transferSyntaxUid: uid,
     transferSyntaxName: uids.length > 1 ? 'mixed' : (syntax?.name ?? uid),
@@ -362,9 +365,22 @@ function appliedRescale(plan: SeriesPlan): AppliedRescale {
   };
 }
 
-/** The compression once decoded: codestreams that all say lossless clear a "may be lossy". */
+/**
+ * The compression once decoded: a codestream that shows lossy coding (JPEG-LS NEAR > 0, the
+ * JPEG 2000 irreversible wavelet) makes the series lossy whatever its syntax claims; codestreams
+ * that all say lossless clear a "may be lossy" syntax that the files do not mark lossy.
+ */
 function settleCompression(plan: SeriesPlan, decoded: readonly DecodedFile[]): SeriesCompression {
   const { compression } = plan;
+  if (decoded.some((file) => file.decoded.isLossyByCodestream === true)) {
+    const syntax = transferSyntaxes.get(compression.transferSyntaxUid);
+    return {
+      ...compression,
+      isLossy: true,
+      lossyRatio: compression.lossyRatio ?? measuredRatio(plan.images),
+      lossyMethod: compression.lossyMethod ?? syntax?.lossyMethod ?? null,
+    };
+  }
   if (!compression.isLossy) return compression;
   const markedLossy = plan.images.some(
     (image) => firstString(image.scanned.header, tags.lossyImageCompression) === '01',

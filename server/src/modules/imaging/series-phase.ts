@@ -8,18 +8,20 @@
 import { firstString, type DicomJsonDataset } from './dicom-json';
 
 const phaseWords: { phase: string; pattern: RegExp }[] = [
-  // Checked in this order: "late arterial" is arterial, "portal venous" is not "venous delayed".
+  // Checked in this order: "late arterial" is arterial, "delayed venous" delayed, while
+  // "portal venous" names the portal phase whatever else the description says.
   {
     phase: 'non-contrast',
     pattern:
       /\b(non[\s-]?contrast|unenhanced|non[\s-]?enhanced|native|plain|pre[\s-]?contrast|nc|w\/o|without)\b/i,
   },
   { phase: 'arterial', pattern: /\b(arterial|art|hap|lap|angio|cta)\b/i },
-  { phase: 'portal venous', pattern: /\b(portal|porto[\s-]?venous|pv|pvp|venous|ven)\b/i },
+  { phase: 'portal venous', pattern: /\b(portal|porto[\s-]?venous|pv|pvp)\b/i },
   {
     phase: 'delayed',
     pattern: /\b(delay(ed)?|equilibrium|eq|late|transitional|hepatobiliary|hbp)\b/i,
   },
+  { phase: 'portal venous', pattern: /\b(venous|ven)\b/i },
 ];
 
 /** Words split at digits and separators, so that "PV_5mm" and "Art1" are seen as words. */

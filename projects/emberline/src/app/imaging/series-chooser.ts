@@ -67,7 +67,7 @@ export class SeriesChooser {
   readonly kept = output<ImageSeriesView[]>();
   /** The upload was discarded: nothing is stored. */
   readonly discarded = output();
-  /** The server no longer holds the upload (it forgets one after 15 minutes). */
+  /** The server no longer holds the upload (it forgets one when its expiry passes). */
   readonly forgotten = output();
 
   protected readonly lossyNote = lossyCompressionNote;

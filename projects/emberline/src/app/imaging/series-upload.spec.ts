@@ -517,7 +517,7 @@ describe('SeriesUpload', () => {
     TestBed.tick();
 
     expect(element(fixture, '[role="alert"]').textContent).toContain(
-      'The upload was forgotten after 15 minutes; send it again.',
+      'The server no longer holds the upload (it waited too long for a choice); send it again.',
     );
     expect(textOf(fixture)).not.toContain('This upload holds');
     expect(textOf(fixture)).toContain('1 file chosen');

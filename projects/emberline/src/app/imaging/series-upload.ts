@@ -202,7 +202,9 @@ export class SeriesUpload {
   protected forgotten(): void {
     this.listing.set(null);
     this.phase.set('idle');
-    this.errorText.set('The upload was forgotten after 15 minutes; send it again.');
+    this.errorText.set(
+      'The server no longer holds the upload (it waited too long for a choice); send it again.',
+    );
   }
 
   private take(files: UploadFile[]): void {

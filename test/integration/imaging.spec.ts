@@ -540,7 +540,9 @@ describe('limits and refused uploads', () => {
       new Uint8Array(512 * kibibyte + 1),
     ]);
     expect(response.status).toBe(413);
-    expect(problemOf(response).detail).toMatch(/File 1 \(slice-0\.dcm\) is 0\.5 MB; one DICOM file may be at most/);
+    expect(problemOf(response).detail).toMatch(
+      /File 1 \(slice-0\.dcm\) is 0\.5 MB; one DICOM file may be at most/,
+    );
   });
 
   it('takes a .zip of the series, leaving DICOMDIR and archiver entries aside', async () => {

@@ -72,3 +72,8 @@ say(
 say(
   `hospital SSO (fake identity provider) at http://127.0.0.1:${idpPort}; Ctrl-C stops everything.`,
 );
+if (!process.env.SMTP_URL && process.env.NODE_ENV !== 'production') {
+  say(
+    `mail goes to the local catcher on 127.0.0.1:${process.env.MAIL_CATCHER_PORT ?? 4325}; its mailbox is ${publicUrl}/api/dev/mail (administrator or coordinator).`,
+  );
+}

@@ -29,6 +29,9 @@ import { annotationRoutes } from './modules/annotations/annotations.routes';
 import { BoardRoom } from './modules/board-session/board-room';
 import { samlRoutes, samlStatusRoutes } from './modules/saml/saml.routes';
 import { structuresRoutes } from './modules/structures/structures.routes';
+import { summaryPdfRoutes } from './modules/summary-pdf/summary-pdf.routes';
+import { devMailRoutes } from './modules/mail/dev-mail.routes';
+import type { MailCatcher } from './modules/mail/mail-catcher';
 
 export interface Services {
   orm: MikroORM;
@@ -45,6 +48,8 @@ export interface Services {
   boardRoom?: BoardRoom;
   /** The assessment queue; without it a request for an assessment answers 503. */
   assessments?: Pick<AssessmentRuntime, 'queue' | 'displays'> | null;
+  /** The local SMTP catcher when it runs in this process (demo, tests): adds /api/dev/mail. */
+  mailCatcher?: MailCatcher | null;
 }
 
 export const samlCallbackPath = '/api/auth/saml/callback';
@@ -103,6 +108,7 @@ export function createApp(services: Services): Express {
   app.use('/api', decisionRoutes(orm, boardRoom));
   app.use('/api', voteRoutes(orm, boardRoom));
   app.use('/api', annotationRoutes(orm, boardRoom));
+  app.use('/api', summaryPdfRoutes(orm));
   app.use(
     '/api',
     assessmentRoutes(orm, {
@@ -116,6 +122,7 @@ export function createApp(services: Services): Express {
   );
   app.use('/api/admin', adminRoutes(orm, boardRoom));
   app.use('/api/admin', adminProfileRoutes(orm));
+  if (services.mailCatcher) app.use('/api/dev/mail', devMailRoutes(orm, services.mailCatcher));
   app.use('/api', notFoundHandler);
 
   if (config.clientDist && existsSync(join(config.clientDist, 'index.html'))) {

@@ -14,6 +14,8 @@ import { assessmentSocketFeature, relayProgress } from './modules/assessments/as
 import { createRealtimeServer } from './realtime/io';
 import { BoardRoom } from './modules/board-session/board-room';
 import { boardSessionAdapter, boardSessionFeatures } from './modules/board-session/board-session';
+import { MailCatcher, mailCatcherSettingsFromEnvironment } from './modules/mail/mail-catcher';
+import { MailService, mailSettingsFromEnvironment } from './modules/mail/mail.service';
 
 const config = configFromEnvironment();
 config.clientDist =
@@ -28,6 +30,16 @@ const assessments = await startAssessmentRuntime({
   log: logger.error,
   isWorking: process.env.ASSESSMENT_IN_SERVER !== '0',
 });
+// The demo's mail goes to a local catcher (read at /api/dev/mail); a real relay replaces it.
+const mailCatcher =
+  !process.env.SMTP_URL && process.env.NODE_ENV !== 'production'
+    ? await MailCatcher.start(mailCatcherSettingsFromEnvironment(), logger.error)
+    : null;
+if (mailCatcher)
+  logger.info(`Local mail catcher (SMTP) listening on 127.0.0.1:${mailCatcher.port}`);
+const mailSettings = mailSettingsFromEnvironment(databaseUrl(), mailCatcher?.url ?? null);
+const mail = mailSettings ? await MailService.start(orm, mailSettings, logger.error) : null;
+if (!mail) logger.info('No SMTP_URL: e-mail notifications are off.');
 const session = sessionMiddleware(config, sessionPool);
 const boardRoom = new BoardRoom();
 const app = createApp({
@@ -38,6 +50,7 @@ const app = createApp({
   session,
   assessments,
   boardRoom,
+  mailCatcher,
 });
 
 const port = Number(process.env.PORT ?? 4300);
@@ -62,6 +75,8 @@ async function shutDown(): Promise<void> {
   server.close();
   await progress.close();
   await assessments.close();
+  await mail?.stop();
+  await mailCatcher?.close();
   await sessionPool.end();
   await orm.close();
   process.exit(0);

@@ -21,6 +21,7 @@ import { ApplicatorProfileVersion } from './modules/plans/applicator-profile-ver
 import { SafetyProfileVersion } from './modules/plans/safety-profile-version.entity';
 import { Attendance } from './modules/meetings/attendance.entity';
 import { Minutes } from './modules/meetings/minutes.entity';
+import { MailDelivery } from './modules/mail/mail-delivery.entity';
 import { Vote } from './modules/votes/vote.entity';
 import { ItemComment } from './modules/votes/comment.entity';
 import { Annotation } from './modules/annotations/annotation.entity';
@@ -67,6 +68,7 @@ export const entities = [
   Annotation,
   Decision,
   DecisionAmendment,
+  MailDelivery,
 ];
 
 /** "NeedlePlan" → "The needle plan": how a miss names what was looked for. */

@@ -26,6 +26,7 @@ const expectedTables = [
   'lab_panel',
   'label_map',
   'lesion',
+  'mail_delivery',
   'meeting',
   'minutes',
   'needle_plan',

@@ -6,12 +6,15 @@ import type { MikroORM } from '@mikro-orm/postgresql';
 import { createApp, type Services } from '../../server/src/app';
 import { configFromEnvironment, type AppConfig } from '../../server/src/config';
 import { migrate, openDatabase } from '../../server/src/db';
+import { MailCatcher } from '../../server/src/modules/mail/mail-catcher';
 
 export interface TestApp {
   app: Express;
   orm: MikroORM;
   config: AppConfig;
   logs: string[];
+  /** The local SMTP catcher, when the suite asked for one. */
+  mailCatcher: MailCatcher | null;
   close(): Promise<void>;
 }
 
@@ -23,6 +26,8 @@ export async function startTestApp(
     assessments?: (orm: MikroORM) => Promise<NonNullable<Services['assessments']>>;
     /** The board session's rooms, for a suite that checks what reaches them. */
     boardRoom?: Services['boardRoom'];
+    /** Starts a local SMTP catcher on a free port and mounts /api/dev/mail. */
+    mailCatcher?: boolean;
   } = {},
 ): Promise<TestApp> {
   const url = inject('databaseUrl');
@@ -35,8 +40,12 @@ export async function startTestApp(
   };
   const logs: string[] = [];
   const assessments = options.assessments ? await options.assessments(orm) : null;
+  const mailCatcher = options.mailCatcher
+    ? await MailCatcher.start({ port: 0, keep: 200, maxMessageBytes: 5 * 1024 * 1024 })
+    : null;
   const app = createApp({
     assessments,
+    mailCatcher,
     boardRoom: options.boardRoom,
     orm,
     sessionPool,
@@ -49,7 +58,9 @@ export async function startTestApp(
     orm,
     config,
     logs,
+    mailCatcher,
     async close() {
+      await mailCatcher?.close();
       await sessionPool.end();
       await orm.close();
     },

@@ -61,6 +61,8 @@ export const auditActions = [
   'membership.create',
   'membership.delete',
   'role-policy.update',
+  'dev-mail.list',
+  'dev-mail.attachment-read',
 ] as const;
 export type AuditAction = (typeof auditActions)[number];
 
@@ -84,6 +86,8 @@ export const auditActionLabels: Record<AuditAction, string> = {
   'membership.create': 'Board membership granted',
   'membership.delete': 'Board membership removed',
   'role-policy.update': 'Role policy changed',
+  'dev-mail.list': 'Test mailbox listed',
+  'dev-mail.attachment-read': 'Test mail attachment opened',
   'series.upload': 'Image series uploaded',
   'series.upload-listed': 'Upload of several series listed for a choice',
   'series.upload-discarded': 'Upload of several series discarded',

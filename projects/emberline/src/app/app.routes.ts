@@ -44,6 +44,12 @@ export const routes: Routes = [
         loadChildren: () => import('./admin/admin.routes').then((m) => m.adminRoutes),
       },
       {
+        path: 'dev/mail',
+        title: 'Test mailbox',
+        canMatch: [roleGuard('administrator', 'nurse-coordinator')],
+        loadComponent: () => import('./dev-mail/dev-mail').then((m) => m.DevMail),
+      },
+      {
         path: 'account',
         title: 'Your account',
         loadComponent: () => import('./account/account').then((m) => m.Account),

@@ -1,9 +1,11 @@
 import { ChangeDetectionStrategy, Component, computed, inject, signal } from '@angular/core';
+import { httpResource } from '@angular/common/http';
 import { MatButton } from '@angular/material/button';
 import { Router, RouterLink, RouterLinkActive, RouterOutlet } from '@angular/router';
 import { roleLabels } from '@emberline/shared';
 import { AuthSession } from './auth-session';
 import { ClinicalCaution } from './clinical-caution';
+import { handledByCaller } from './http-context-tokens';
 
 /** The frame of every signed-in page: top bar with navigation, the page, the caution footer. */
 @Component({
@@ -27,6 +29,16 @@ export class Shell {
     const user = this.user();
     return !!user && !user.mustEnrolTotp && user.roles.length > 0;
   });
+  /**
+   * The test mailbox's link, only where the server runs a local mail catcher (the demo) and for
+   * the roles that may read it: asked once, a 404 or 403 simply leaves the link out.
+   */
+  private readonly devMail = httpResource<unknown>(() =>
+    this.mayWork() && this.session.hasRole('administrator', 'nurse-coordinator')
+      ? { url: '/api/dev/mail', context: handledByCaller() }
+      : undefined,
+  );
+  protected readonly hasDevMail = computed(() => this.devMail.hasValue());
   protected readonly roleText = computed(() => {
     const roles = this.user()?.roles ?? [];
     return roles.length ? roles.map((role) => roleLabels[role]).join(', ') : 'No role yet';

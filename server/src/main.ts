@@ -14,7 +14,7 @@ import { assessmentSocketFeature, relayProgress } from './modules/assessments/as
 import { createRealtimeServer } from './realtime/io';
 import { BoardRoom } from './modules/board-session/board-room';
 import { boardSessionAdapter, boardSessionFeatures } from './modules/board-session/board-session';
-import { MailCatcher, mailCatcherSettingsFromEnvironment } from './modules/mail/mail-catcher';
+import { startDemoMailCatcher } from './modules/mail/mail-catcher';
 import { MailService, mailSettingsFromEnvironment } from './modules/mail/mail.service';
 
 const config = configFromEnvironment();
@@ -31,13 +31,16 @@ const assessments = await startAssessmentRuntime({
   isWorking: process.env.ASSESSMENT_IN_SERVER !== '0',
 });
 // The demo's mail goes to a local catcher (read at /api/dev/mail); a real relay replaces it.
-const mailCatcher =
-  !process.env.SMTP_URL && process.env.NODE_ENV !== 'production'
-    ? await MailCatcher.start(mailCatcherSettingsFromEnvironment(), logger.error)
-    : null;
-if (mailCatcher)
+const { catcher: mailCatcher, url: catcherUrl } = await startDemoMailCatcher(
+  process.env,
+  logger.error,
+);
+if (mailCatcher) {
   logger.info(`Local mail catcher (SMTP) listening on 127.0.0.1:${mailCatcher.port}`);
-const mailSettings = mailSettingsFromEnvironment(databaseUrl(), mailCatcher?.url ?? null);
+} else if (catcherUrl) {
+  logger.info(`Mail catcher port taken (another server process?): mail goes to ${catcherUrl}`);
+}
+const mailSettings = mailSettingsFromEnvironment(databaseUrl(), catcherUrl);
 const mail = mailSettings ? await MailService.start(orm, mailSettings, logger.error) : null;
 if (!mail) logger.info('No SMTP_URL: e-mail notifications are off.');
 const session = sessionMiddleware(config, sessionPool);

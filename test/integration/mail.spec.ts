@@ -8,7 +8,11 @@ import nodemailer from 'nodemailer';
 import PgBoss from 'pg-boss';
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
 import { calendarInvitation } from '../../server/src/modules/mail/invitation';
-import { MailCatcher, type CaughtMessage } from '../../server/src/modules/mail/mail-catcher';
+import {
+  MailCatcher,
+  startDemoMailCatcher,
+  type CaughtMessage,
+} from '../../server/src/modules/mail/mail-catcher';
 import { MailDelivery } from '../../server/src/modules/mail/mail-delivery.entity';
 import {
   MailService,
@@ -264,6 +268,29 @@ describe('queueMail', () => {
     }
     expect(withSubject(relay, subject)).toHaveLength(1);
     expect((await delivery(id)).attempts).toBe(1);
+  });
+});
+
+describe('the demo catcher at start', () => {
+  it('runs none when SMTP_URL names a relay or in production', async () => {
+    const log = () => undefined;
+    expect(await startDemoMailCatcher({ SMTP_URL: 'smtp://relay.example:25' }, log)).toEqual({
+      catcher: null,
+      url: null,
+    });
+    expect(await startDemoMailCatcher({ NODE_ENV: 'production' }, log)).toEqual({
+      catcher: null,
+      url: null,
+    });
+  });
+
+  it('sends to the catcher already on the port when a second process starts', async () => {
+    const logs: string[] = [];
+    const started = await startDemoMailCatcher({ MAIL_CATCHER_PORT: String(relayPort) }, (m) =>
+      logs.push(m),
+    );
+    expect(started).toEqual({ catcher: null, url: `smtp://127.0.0.1:${relayPort}` });
+    expect(logs).toEqual([]);
   });
 });
 

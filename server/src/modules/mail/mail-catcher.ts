@@ -108,14 +108,15 @@ export class MailCatcher {
         });
       },
     });
-    server.on('error', (error) => log('The mail catcher failed', error));
+    // A port already taken rejects here; later errors are only logged.
     const port = await new Promise<number>((resolve, reject) => {
-      server.server.once('error', reject);
+      server.once('error', reject);
       server.listen(settings.port, '127.0.0.1', () => {
-        server.server.off('error', reject);
+        server.off('error', reject);
         resolve((server.server.address() as AddressInfo).port);
       });
     });
+    server.on('error', (error) => log('The mail catcher failed', error));
     catcher = new MailCatcher(server, port, settings);
     return catcher;
   }
@@ -153,4 +154,24 @@ function addressesOf(field: AddressObject | AddressObject[] | undefined): string
   return (Array.isArray(field) ? field : [field]).flatMap((entry) =>
     entry.value.flatMap((address) => (address.address ? [address.address] : [])),
   );
+}
+
+/**
+ * The demo's catcher, as `main.ts` starts it: none when `SMTP_URL` names a real relay or in
+ * production. When the port is taken (a second server process of the same demo, whose first
+ * process already catches), this process sends there too and shows no mailbox of its own.
+ */
+export async function startDemoMailCatcher(
+  env: NodeJS.ProcessEnv,
+  log: (message: string, error?: unknown) => void,
+): Promise<{ catcher: MailCatcher | null; url: string | null }> {
+  if (env.SMTP_URL || env.NODE_ENV === 'production') return { catcher: null, url: null };
+  const settings = mailCatcherSettingsFromEnvironment(env);
+  try {
+    const catcher = await MailCatcher.start(settings, log);
+    return { catcher, url: catcher.url };
+  } catch (error) {
+    if ((error as { code?: unknown }).code !== 'EADDRINUSE') throw error;
+    return { catcher: null, url: `smtp://127.0.0.1:${settings.port}` };
+  }
 }

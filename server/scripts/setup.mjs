@@ -64,6 +64,25 @@ export function ensureDicomTools() {
   );
 }
 
+/**
+ * Debian's poppler-utils (`pdftotext`, `pdfinfo`), with which the board summary PDF's test reads
+ * back the text and page count of the PDF the server makes; installing them needs root.
+ */
+export function ensurePdfTools() {
+  if (existsSync('/usr/bin/pdftotext') && existsSync('/usr/bin/pdfinfo')) return;
+  if (!isRoot) {
+    throw new Error(
+      'pdftotext or pdfinfo is missing: run `sudo apt-get update && sudo apt-get install -y poppler-utils`, then try again.',
+    );
+  }
+  say("installing Debian's poppler-utils package (one time)…");
+  execFileSync('apt-get', ['update', '-qq'], { stdio: 'inherit' });
+  execFileSync('apt-get', ['install', '-y', '-qq', '--no-install-recommends', 'poppler-utils'], {
+    stdio: 'inherit',
+    env: { ...process.env, DEBIAN_FRONTEND: 'noninteractive' },
+  });
+}
+
 /** Runs a command, streaming its output; resolves with its exit code. */
 export function run(command, args, options = {}) {
   return new Promise((resolvePromise) => {

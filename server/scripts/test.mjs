@@ -3,7 +3,15 @@
 // Format, lint and type checks count one each; the test runners report their own counts.
 import { existsSync, mkdirSync, readFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
-import { ensureChromium, ensureDependencies, ensureDicomTools, root, run, say } from './setup.mjs';
+import {
+  ensureChromium,
+  ensureDependencies,
+  ensureDicomTools,
+  ensurePdfTools,
+  root,
+  run,
+  say,
+} from './setup.mjs';
 
 const resultsDir = join(root, 'test-results');
 rmSync(resultsDir, { recursive: true, force: true });
@@ -12,6 +20,7 @@ mkdirSync(resultsDir, { recursive: true });
 ensureDependencies();
 // The codec tests build their compressed reference files with dcmtk and opj_compress.
 ensureDicomTools();
+ensurePdfTools();
 const { startPostgres, stopPostgres } = await import('./postgres.mjs');
 // Leave the cluster as it was found: stop it afterwards only if this run started it.
 const isPostgresStartedHere = startPostgres().isStartedHere;

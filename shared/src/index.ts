@@ -25,3 +25,4 @@ export * from './api/rehearsal-settings';
 export * from './api/realtime';
 export * from './api/assessment-display';
 export * from './rehearsal';
+export * from './api/verdict-reason-lines';

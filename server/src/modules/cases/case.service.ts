@@ -351,8 +351,11 @@ export class CaseService {
   }
 }
 
-/** Scores from the newest lab panel; a missing panel leaves every lab-based score null. */
-function scoresOf(
+/**
+ * Scores from the newest lab panel; a missing panel leaves every lab-based score null. Exported
+ * for the board summary PDF, so that it prints the same scores as the case file.
+ */
+export function scoresOf(
   found: ClinicalCase,
   lesions: Lesion[],
   latest: LabPanel | undefined,

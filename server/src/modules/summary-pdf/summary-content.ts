@@ -1,0 +1,141 @@
+import type { EntityManager } from '@mikro-orm/postgresql';
+import type {
+  AssessmentView,
+  CaseStatus,
+  DecisionView,
+  LesionKind,
+  LiverScores,
+  PrimaryDiagnosis,
+  Sex,
+  TallyRow,
+} from '@emberline/shared';
+import type { SignedInUser } from '../../common/request-context';
+import { Assessment } from '../assessments/assessment.entity';
+import { toAssessmentView } from '../assessments/assessment.service';
+import { ClinicalCase } from '../cases/case.entity';
+import { scoresOf } from '../cases/case.service';
+import { LabPanel } from '../cases/lab-panel.entity';
+import { Lesion } from '../cases/lesion.entity';
+import { loadDecisionViews } from '../decisions/decision-view';
+import { AgendaItem } from '../meetings/agenda-item.entity';
+import { NeedlePlan } from '../plans/needle-plan.entity';
+import { tallyOf } from '../votes/tally';
+
+/** An assessed plan as the comparison shows it: the plan and its newest assessment, done. */
+export interface SummaryPlan {
+  name: string;
+  assessment: AssessmentView & { result: NonNullable<AssessmentView['result']> };
+}
+
+/** The tally of one agenda item on which the case was discussed. */
+export interface SummaryTally {
+  meetingStartsAt: Date;
+  voterCount: number;
+  rows: TallyRow[];
+}
+
+/**
+ * Everything the board summary prints, read once. Only de-identified values: the case code,
+ * year of birth and sex, never a staff e-mail address (signers by their display name only).
+ */
+export interface SummaryContent {
+  caseCode: string;
+  boardName: string;
+  status: CaseStatus;
+  yearOfBirth: number;
+  sex: Sex;
+  primaryDiagnosis: PrimaryDiagnosis;
+  lesions: { segment: string; diameterMm: number; kind: LesionKind }[];
+  /** The scores of the panel in force (the newest), with the date its values were taken. */
+  scores: LiverScores;
+  panelTakenAt: Date | null;
+  plans: SummaryPlan[];
+  tallies: SummaryTally[];
+  decision: DecisionView | null;
+  /**
+   * Hooks for the sections to come: a section is printed only when its list has entries, and
+   * no record feeds them yet (key images and procedure bookings are not built).
+   */
+  keyImages: readonly never[];
+  bookings: readonly never[];
+}
+
+/**
+ * Reads the summary of a case the user may see; a case out of reach is the case file's 404
+ * (`findVisibleOrFail`, the same visibility rule).
+ */
+export async function loadSummaryContent(
+  em: EntityManager,
+  user: SignedInUser,
+  caseId: string,
+): Promise<SummaryContent> {
+  const found = await em.getRepository(ClinicalCase).findVisibleOrFail(user, caseId, ['board']);
+  const lesions = await em.find(
+    Lesion,
+    { clinicalCase: found.id },
+    { orderBy: { createdAt: 'asc', id: 'asc' } },
+  );
+  // The same order as the case file, so that "in force" means the same panel in both.
+  const [latestPanel] = await em.find(
+    LabPanel,
+    { clinicalCase: found.id },
+    { orderBy: { takenAt: 'desc', createdAt: 'desc' }, limit: 1 },
+  );
+  const [decision] = await loadDecisionViews(em, { clinicalCase: found.id });
+  return {
+    caseCode: found.caseCode,
+    boardName: found.board.getEntity().name,
+    status: found.status,
+    yearOfBirth: found.yearOfBirth,
+    sex: found.sex,
+    primaryDiagnosis: found.primaryDiagnosis,
+    lesions: lesions.map(({ segment, diameterMm, kind }) => ({ segment, diameterMm, kind })),
+    scores: scoresOf(found, lesions, latestPanel),
+    panelTakenAt: latestPanel?.takenAt ?? null,
+    plans: await assessedPlans(em, found.id),
+    tallies: await discussedTallies(em, found.id),
+    decision: decision ?? null,
+    keyImages: [],
+    bookings: [],
+  };
+}
+
+/** Every plan whose newest assessment is done, oldest plan first: the comparison's columns. */
+async function assessedPlans(em: EntityManager, caseId: string): Promise<SummaryPlan[]> {
+  const plans = await em.find(
+    NeedlePlan,
+    { clinicalCase: caseId },
+    { orderBy: { createdAt: 'asc', id: 'asc' } },
+  );
+  if (!plans.length) return [];
+  const assessments = await em.find(
+    Assessment,
+    { plan: { $in: plans.map((plan) => plan.id) } },
+    { orderBy: { createdAt: 'desc', id: 'desc' } },
+  );
+  return plans.flatMap((plan) => {
+    const newest = assessments.find((assessment) => assessment.plan.id === plan.id);
+    if (newest?.status !== 'done' || !newest.result) return [];
+    const view = toAssessmentView(newest);
+    return [{ name: plan.name, assessment: { ...view, result: newest.result } }];
+  });
+}
+
+/** The tally of every agenda item whose meeting was held (opened or closed), oldest first. */
+async function discussedTallies(em: EntityManager, caseId: string): Promise<SummaryTally[]> {
+  const items = await em.find(
+    AgendaItem,
+    { clinicalCase: caseId, meeting: { state: { $ne: 'scheduled' } } },
+    { populate: ['meeting'], orderBy: { meeting: { startsAt: 'asc' }, id: 'asc' } },
+  );
+  const tallies: SummaryTally[] = [];
+  for (const item of items) {
+    const tally = await tallyOf(em, item.id);
+    tallies.push({
+      meetingStartsAt: item.meeting.getEntity().startsAt,
+      voterCount: tally.voterCount,
+      rows: tally.rows,
+    });
+  }
+  return tallies;
+}

@@ -553,6 +553,17 @@ const routes: Route[] = [
     expected: row(401, 404, 200, 200, 200, 200, 404),
   },
   {
+    // The board summary PDF follows the case file's visibility (summary-pdf/README.md).
+    name: 'GET /api/cases/:north-decided/summary.pdf',
+    call: (c, x) => c.get(`/api/cases/${x.ids.northDecided}/summary.pdf`),
+    expected: row(401, 404, 200, 200, 200, 200, 404),
+  },
+  {
+    name: 'GET /api/cases/:agenda-case/summary.pdf',
+    call: (c, x) => c.get(`/api/cases/${x.agendaCaseId}/summary.pdf`),
+    expected: row(401, 404, 200, 200, 200, 404, 404),
+  },
+  {
     // No decision yet: 404 for those who see the case; the case itself is out of reach for the rest.
     name: 'GET /api/cases/:agenda-case/decision',
     call: (c, x) => c.get(`/api/cases/${x.agendaCaseId}/decision`),

@@ -26,3 +26,4 @@ export * from './api/realtime';
 export * from './api/assessment-display';
 export * from './rehearsal';
 export * from './api/verdict-reason-lines';
+export * from './api/comparison-summary';

@@ -19,6 +19,7 @@ import {
   clinicalCaution,
   lesionKindLabels,
   primaryDiagnosisLabels,
+  reasonCount,
   reasonLine,
   treatmentLabels,
   votePositionLabels,
@@ -27,7 +28,7 @@ import {
 } from '@emberline/shared';
 
 import type { SummaryContent, SummaryPlan, SummaryTally } from './summary-content';
-import { leadFigures, reasonCount, verdictWords } from './summary-figures';
+import { leadFigures, verdictWords } from './summary-figures';
 
 /**
  * Roboto comes in per-script subsets; each weight is registered as a list of faces, and every

@@ -1,5 +1,5 @@
-import type { AssessmentResult, TumourCoverage } from '@emberline/shared';
-import { comparisonGroups, tumourLabeller, withBound, type ComparedPlan } from './comparison-rows';
+import { tumourLabeller, type AssessmentResult, type TumourCoverage } from '@emberline/shared';
+import { comparisonGroups, withBound, type ComparedPlan } from './comparison-rows';
 import { applicator, done, plan, resultA } from './testing/comparison-fixtures';
 
 /**

@@ -1,6 +1,8 @@
 import {
   structureKindLabels,
   structureKinds,
+  tumourLabeller,
+  zoneModelLabels,
   zoneModels,
   type ApplicatorRehearsal,
   type ApplicatorSafety,
@@ -86,11 +88,6 @@ export interface ComparisonGroup {
   /** A caution shown under the group's heading, across every column (the rehearsal's). */
   caution?: string;
 }
-
-export const zoneModelLabels: Record<ZoneModel, string> = {
-  table: 'Applicator zone table',
-  bioheat: 'Bioheat simulation (Pennes, Arrhenius)',
-};
 
 /** Kinds a path enters by design: a clearance to them says nothing. */
 const kindsEnteredOnPurpose = new Set<StructureKind>(['skin', 'liver', 'tumour']);
@@ -427,27 +424,6 @@ function clearanceKinds(applicators: readonly (ApplicatorSafety | undefined)[]):
       !kindsEnteredOnPurpose.has(kind) &&
       applicators.some((applicator) => applicator?.clearances.some((entry) => entry.kind === kind)),
   );
-}
-
-/**
- * Tumours as the board names them: by the label the assessment gave (its confirmed lesion,
- * "segment VIII, 24 mm", or "label N, not linked to a lesion"); in results from before tumours
- * were named, by their structure name, else by their order of appearance.
- */
-export function tumourLabeller(
-  results: readonly AssessmentResult[],
-  names: ReadonlyMap<string, string>,
-): (structureId: string) => string {
-  const tumours = results.flatMap((result) => result.zones.flatMap((zone) => zone.tumours));
-  const order = unique(tumours.map((tumour) => tumour.structureId));
-  const labels = new Map<string, string>();
-  for (const tumour of tumours) {
-    if (tumour.label !== undefined && !labels.has(tumour.structureId)) {
-      labels.set(tumour.structureId, `Tumour (${tumour.label})`);
-    }
-  }
-  return (structureId) =>
-    labels.get(structureId) ?? names.get(structureId) ?? `Tumour ${order.indexOf(structureId) + 1}`;
 }
 
 function unique<T>(values: readonly T[]): T[] {

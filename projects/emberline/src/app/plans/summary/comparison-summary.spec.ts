@@ -1,4 +1,4 @@
-import type { AssessmentResult, ZoneAssessment } from '@emberline/shared';
+import { thresholdsFor, type AssessmentResult, type ZoneAssessment } from '@emberline/shared';
 import type { ComparedPlan } from '../comparison-rows';
 import {
   applicator,
@@ -9,7 +9,7 @@ import {
   safetyProfile,
   tumourId,
 } from '../testing/comparison-fixtures';
-import { summaryLines, thresholdsFor } from './comparison-summary';
+import { summaryLines } from './comparison-summary';
 
 const names = new Map([[tumourId, 'Tumour segment VIII']]);
 

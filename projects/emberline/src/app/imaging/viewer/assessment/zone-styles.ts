@@ -1,4 +1,4 @@
-import type { ZoneModel } from '@emberline/shared';
+import { zoneModelShortLabels, type ZoneModel } from '@emberline/shared';
 
 /**
  * How each zone model shows, Emberline's own: told apart by line and surface pattern as well
@@ -24,7 +24,7 @@ export interface ZoneStyle {
 
 export const zoneStyles: Record<ZoneModel, ZoneStyle> = {
   table: {
-    label: 'Table zone',
+    label: zoneModelShortLabels.table,
     colour: '#d6f25c',
     dash: null,
     opacity: 0.16,
@@ -32,7 +32,7 @@ export const zoneStyles: Record<ZoneModel, ZoneStyle> = {
     pattern: 'solid outline; tinted skin in 3D',
   },
   bioheat: {
-    label: 'Physics zone',
+    label: zoneModelShortLabels.bioheat,
     colour: '#ff78d2',
     dash: '7 4',
     opacity: 0.1,

@@ -24,13 +24,10 @@ import {
   lostJobReason,
   reapAssessments,
 } from '../../server/src/modules/assessments/assessment-reaper';
-import {
-  startAssessmentRuntime,
-  type AssessmentRuntime,
-} from '../../server/src/modules/assessments/assessment-runtime';
+import { type AssessmentRuntime } from '../../server/src/modules/assessments/assessment-runtime';
 import { ApplicatorProfileVersion } from '../../server/src/modules/plans/applicator-profile-version.entity';
 import { NeedlePlan } from '../../server/src/modules/plans/needle-plan.entity';
-import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
+import { ApiClient, startTestAppWithAssessments, type TestApp } from '../support/test-app';
 import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
 import { setEnvironment } from './imaging-fixtures';
 
@@ -90,30 +87,14 @@ async function freshPlan(): Promise<PlanView> {
 
 beforeAll(async () => {
   restoreEnvironment = setEnvironment(testEnvironment);
-  testApp = await startTestApp(
-    {},
-    {
-      assessments: async (orm) => {
-        // Queue only (workers are started where a test needs one); the reaper is called by the
-        // tests themselves, so its timer is set far out.
-        runtime = await startAssessmentRuntime({
-          orm,
-          connectionString: inject('databaseUrl'),
-          log: (message, error) => testApp?.logs.push(`${message} ${String(error ?? '')}`),
-          isWorking: false,
-          fileStoreDir,
-          queue: {
-            pollingIntervalSeconds: 0.5,
-            maintenanceIntervalSeconds: 1,
-            expireInSeconds: jobExpirySeconds,
-            retryLimit: 0,
-          },
-          reaper: { intervalSeconds: 3600 },
-        });
-        return runtime;
-      },
-    },
-  );
+  // Queue only (workers are started where a test needs one); the reaper is called by the tests
+  // themselves, so its timer is set far out.
+  ({ testApp, runtime } = await startTestAppWithAssessments({
+    isWorking: false,
+    fileStoreDir,
+    queue: { expireInSeconds: jobExpirySeconds, retryLimit: 0 },
+    reaper: { intervalSeconds: 3600 },
+  }));
   ids = await resetToDemo(testApp.orm);
   expect(await seedDemoImaging(testApp.orm.em.fork())).toBe(true);
   expect(await seedDemoPlans(testApp.orm.em.fork())).toBe(true);

@@ -23,10 +23,7 @@ import type {
 import { seedDemoImaging } from '../../server/seeders/demo-imaging';
 import { seedDemoPlans } from '../../server/seeders/demo-plans';
 import { AssessmentProgressListener } from '../../server/src/modules/assessments/assessment-progress';
-import {
-  startAssessmentRuntime,
-  type AssessmentRuntime,
-} from '../../server/src/modules/assessments/assessment-runtime';
+import { type AssessmentRuntime } from '../../server/src/modules/assessments/assessment-runtime';
 import {
   assessmentSocketFeature,
   relayProgress,
@@ -36,7 +33,12 @@ import { NeedlePlan } from '../../server/src/modules/plans/needle-plan.entity';
 import { BoardRoom } from '../../server/src/modules/board-session/board-room';
 import { sessionMiddleware } from '../../server/src/modules/auth/session';
 import { createRealtimeServer, type EmberlineServer } from '../../server/src/realtime/io';
-import { ApiClient, sessionCookieOf, startTestApp, type TestApp } from '../support/test-app';
+import {
+  ApiClient,
+  sessionCookieOf,
+  startTestAppWithAssessments,
+  type TestApp,
+} from '../support/test-app';
 import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
 import { setEnvironment } from './imaging-fixtures';
 
@@ -91,27 +93,12 @@ async function waitFor<T>(
 
 beforeAll(async () => {
   restoreEnvironment = setEnvironment(testEnvironment);
-  testApp = await startTestApp(
-    {},
-    {
-      assessments: async (orm) => {
-        // This process only queues: the workers are the child processes below, or none.
-        runtime = await startAssessmentRuntime({
-          orm,
-          connectionString: inject('databaseUrl'),
-          log: (message, error) => testApp?.logs.push(`${message} ${String(error ?? '')}`),
-          isWorking: false,
-          fileStoreDir,
-          queue: {
-            pollingIntervalSeconds: 0.5,
-            maintenanceIntervalSeconds: 1,
-            expireInSeconds: jobExpirySeconds,
-          },
-        });
-        return runtime;
-      },
-    },
-  );
+  // This process only queues: the workers are the child processes below, or none.
+  ({ testApp, runtime } = await startTestAppWithAssessments({
+    isWorking: false,
+    fileStoreDir,
+    queue: { expireInSeconds: jobExpirySeconds },
+  }));
   ids = await resetToDemo(testApp.orm);
   expect(await seedDemoImaging(testApp.orm.em.fork())).toBe(true);
   expect(await seedDemoPlans(testApp.orm.em.fork())).toBe(true);

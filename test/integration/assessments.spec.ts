@@ -9,7 +9,7 @@
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import {
   CALIBRATION_MODEL_VERSION,
   decodeAssessmentDisplay,
@@ -24,12 +24,9 @@ import {
 import { generateAbdomenCt } from '../../sample-data/generate-abdomen-ct';
 import { seedDemoImaging } from '../../server/seeders/demo-imaging';
 import { seedDemoPlans } from '../../server/seeders/demo-plans';
-import {
-  startAssessmentRuntime,
-  type AssessmentRuntime,
-} from '../../server/src/modules/assessments/assessment-runtime';
+import { type AssessmentRuntime } from '../../server/src/modules/assessments/assessment-runtime';
 import { ApplicatorProfileVersion } from '../../server/src/modules/plans/applicator-profile-version.entity';
-import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
+import { ApiClient, startTestAppWithAssessments, type TestApp } from '../support/test-app';
 import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
 import { setEnvironment } from './imaging-fixtures';
 import { closestDistanceBetweenSegments, voxelCentresInSphere } from './assessment-geometry';
@@ -121,23 +118,11 @@ function treatedTumour(plan: PlanView) {
 
 beforeAll(async () => {
   restoreEnvironment = setEnvironment(testEnvironment);
-  testApp = await startTestApp(
-    {},
-    {
-      assessments: async (orm) => {
-        runtime = await startAssessmentRuntime({
-          orm,
-          connectionString: inject('databaseUrl'),
-          log: (message, error) => testApp?.logs.push(`${message} ${String(error ?? '')}`),
-          isWorking: true,
-          fileStoreDir,
-          queue: { pollingIntervalSeconds: 0.5, maintenanceIntervalSeconds: 1 },
-          pool: { threads: 1 },
-        });
-        return runtime;
-      },
-    },
-  );
+  ({ testApp, runtime } = await startTestAppWithAssessments({
+    isWorking: true,
+    fileStoreDir,
+    pool: { threads: 1 },
+  }));
   ids = await resetToDemo(testApp.orm);
   expect(await seedDemoImaging(testApp.orm.em.fork())).toBe(true);
   expect(await seedDemoPlans(testApp.orm.em.fork())).toBe(true);

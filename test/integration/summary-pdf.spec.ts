@@ -13,7 +13,7 @@ import { execFileSync } from 'node:child_process';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import {
   clinicalCaution,
   treatmentLabels,
@@ -27,14 +27,11 @@ import { INVENTED_PATIENT } from '../../sample-data/abdomen/write-dicom';
 import { seedDemoImaging } from '../../server/seeders/demo-imaging';
 import { seedDemoMeetings } from '../../server/seeders/demo-meetings';
 import { seedDemoPlans } from '../../server/seeders/demo-plans';
-import {
-  startAssessmentRuntime,
-  type AssessmentRuntime,
-} from '../../server/src/modules/assessments/assessment-runtime';
+import { type AssessmentRuntime } from '../../server/src/modules/assessments/assessment-runtime';
 import { AuditEvent } from '../../server/src/modules/audit/audit-event.entity';
 import { User } from '../../server/src/modules/users/user.entity';
 import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
-import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
+import { ApiClient, startTestAppWithAssessments, type TestApp } from '../support/test-app';
 import { setEnvironment } from './imaging-fixtures';
 
 const fileStoreDir = mkdtempSync(join(tmpdir(), 'emberline-summary-pdf-test-'));
@@ -119,23 +116,11 @@ const occurrences = (text: string, what: string) => text.split(what).length - 1;
 
 beforeAll(async () => {
   restoreEnvironment = setEnvironment(testEnvironment);
-  testApp = await startTestApp(
-    {},
-    {
-      assessments: async (orm) => {
-        runtime = await startAssessmentRuntime({
-          orm,
-          connectionString: inject('databaseUrl'),
-          log: (message, error) => testApp?.logs.push(`${message} ${String(error ?? '')}`),
-          isWorking: true,
-          fileStoreDir,
-          queue: { pollingIntervalSeconds: 0.5, maintenanceIntervalSeconds: 1 },
-          pool: { threads: 1 },
-        });
-        return runtime;
-      },
-    },
-  );
+  ({ testApp, runtime } = await startTestAppWithAssessments({
+    isWorking: true,
+    fileStoreDir,
+    pool: { threads: 1 },
+  }));
   ids = await resetToDemo(testApp.orm);
   expect(await seedDemoImaging(testApp.orm.em.fork())).toBe(true);
   expect(await seedDemoPlans(testApp.orm.em.fork())).toBe(true);

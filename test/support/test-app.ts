@@ -6,6 +6,11 @@ import type { MikroORM } from '@mikro-orm/postgresql';
 import { createApp, type Services } from '../../server/src/app';
 import { configFromEnvironment, type AppConfig } from '../../server/src/config';
 import { migrate, openDatabase } from '../../server/src/db';
+import {
+  startAssessmentRuntime,
+  type AssessmentRuntime,
+  type AssessmentRuntimeOptions,
+} from '../../server/src/modules/assessments/assessment-runtime';
 import { MailCatcher } from '../../server/src/modules/mail/mail-catcher';
 
 export interface TestApp {
@@ -65,6 +70,38 @@ export async function startTestApp(
       await orm.close();
     },
   };
+}
+
+/**
+ * The test app with the assessment queue in this process, polled fast for tests; the options
+ * (working or only queueing, file store, queue, pool and reaper settings) are the suite's own.
+ * Its log lines go to the app's captured logs.
+ */
+export async function startTestAppWithAssessments(
+  options: Omit<AssessmentRuntimeOptions, 'orm' | 'log' | 'connectionString'>,
+): Promise<{ testApp: TestApp; runtime: AssessmentRuntime }> {
+  let runtime: AssessmentRuntime | undefined;
+  // The runtime logs before the app exists: into this list first, then into the app's.
+  let logs: string[] = [];
+  const testApp = await startTestApp(
+    {},
+    {
+      assessments: async (orm) => {
+        runtime = await startAssessmentRuntime({
+          ...options,
+          orm,
+          connectionString: inject('databaseUrl'),
+          log: (message, error) => logs.push(`${message} ${String(error ?? '')}`),
+          queue: { pollingIntervalSeconds: 0.5, maintenanceIntervalSeconds: 1, ...options.queue },
+        });
+        return runtime;
+      },
+    },
+  );
+  testApp.logs.push(...logs);
+  logs = testApp.logs;
+  if (!runtime) throw new Error('the assessment runtime did not start');
+  return { testApp, runtime };
 }
 
 /** Empties every table but the migrations' own, between suites. */

@@ -27,3 +27,4 @@ export * from './api/assessment-display';
 export * from './rehearsal';
 export * from './api/verdict-reason-lines';
 export * from './api/comparison-summary';
+export * from './api/bookings';

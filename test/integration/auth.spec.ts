@@ -231,9 +231,34 @@ describe('second factor (TOTP, RFC 6238)', () => {
       currentTotpCode(secret, Date.now() - 10 * 60_000),
     );
     expect(wrongCode.status).toBe(401);
-    expect(
-      (await client.signIn('member@emberline.test', demoPassword, currentTotpCode(secret))).status,
-    ).toBe(200);
+    // The code that confirmed the enrolment is spent (RFC 6238 §5.2: a verifier must not accept
+    // an OTP a second time); the next step's code (within the one step of drift) works, once.
+    const spent = await client.signIn(
+      'member@emberline.test',
+      demoPassword,
+      currentTotpCode(secret),
+    );
+    expect(spent.status).toBe(401);
+    const next = currentTotpCode(secret, Date.now() + 30_000);
+    expect((await client.signIn('member@emberline.test', demoPassword, next)).status).toBe(200);
+    await client.post('/api/auth/logout');
+    const replayed = await client.signIn('member@emberline.test', demoPassword, next);
+    expect(replayed.status).toBe(401);
+    expect((replayed.body as ProblemDetails).detail).toMatch(/used already/);
+  });
+
+  it('lets two requests with one code sign in once between them', async () => {
+    const client = new ApiClient(testApp.app);
+    await client.signIn('proceduralist@emberline.test', demoPassword);
+    const secret = await enrol(client);
+    await client.post('/api/auth/logout');
+    const code = currentTotpCode(secret, Date.now() + 30_000);
+    const [first, second] = [new ApiClient(testApp.app), new ApiClient(testApp.app)];
+    const statuses = await Promise.all([
+      first.signIn('proceduralist@emberline.test', demoPassword, code),
+      second.signIn('proceduralist@emberline.test', demoPassword, code),
+    ]).then((answers) => answers.map((answer) => answer.status).sort());
+    expect(statuses).toEqual([200, 401]);
   });
 
   it('holds a role that requires a second factor to enrolment until it is set up', async () => {

@@ -9,7 +9,7 @@ import { issueCsrfToken } from '../../common/csrf';
 import { parse } from '../../common/validate';
 import { recordAudit, writeAudit } from '../audit/audit.service';
 import { verifyPassword } from '../users/password';
-import { isTotpCodeValid, newTotpSecret, totpUri } from '../users/totp';
+import { newTotpSecret, totpCodeStep, totpUri, useTotpCode } from '../users/totp';
 import { User } from '../users/user.entity';
 import { loadSignedInUser, toCurrentUser } from '../users/user.service';
 import type { BoardRoom } from '../board-session/board-room';
@@ -64,14 +64,15 @@ export function authRoutes(orm: MikroORM, config: AppConfig, room: BoardRoom): R
           'urn:emberline:problem:totp-required',
         );
       }
-      if (!isTotpCodeValid(user.totpSecret, body.code)) {
+      // A code works once: a code seen on the wire or reused is refused like a wrong one.
+      if (!(await useTotpCode(em, user.id, user.totpSecret, body.code))) {
         await writeAudit(em, actor, {
           action: 'auth.sign-in-failed',
           outcome: 'refused',
           detail: { reason: 'totp' },
         });
         throw new UnauthenticatedError(
-          'The code is not correct.',
+          'The code is not correct, or it was used already: enter the next code your app shows.',
           'urn:emberline:problem:totp-required',
         );
       }
@@ -128,7 +129,8 @@ export function authRoutes(orm: MikroORM, config: AppConfig, room: BoardRoom): R
     const { code } = parse(totpConfirmSchema, request.body);
     const secret = request.session.pendingTotpSecret;
     if (!secret) throw new ConflictError('Start the set-up first.');
-    if (!isTotpCodeValid(secret, code)) {
+    const step = totpCodeStep(secret, code);
+    if (step === null) {
       throw new ValidationError('code: the code does not match; check the clock of the device', [
         { path: 'code', message: 'does not match' },
       ]);
@@ -136,6 +138,8 @@ export function authRoutes(orm: MikroORM, config: AppConfig, room: BoardRoom): R
     const user = await orm.em.findOneOrFail(User, current.id);
     user.totpSecret = secret;
     user.totpEnabledAt = new Date();
+    // The code that confirmed the enrolment is used: it cannot also sign in.
+    user.totpLastStep = step;
     delete request.session.pendingTotpSecret;
     recordAudit(orm.em, actorOf(request), {
       action: 'auth.totp-enabled',

@@ -28,6 +28,10 @@ export class User extends BaseEntity {
   @Property({ type: 'Date', columnType: 'timestamptz', nullable: true })
   totpEnabledAt: Date | null = null;
 
+  /** The time step of the last TOTP code accepted: a code is good once (RFC 6238 §5.2). */
+  @Property({ type: 'integer', nullable: true, hidden: true, lazy: true })
+  totpLastStep: number | null = null;
+
   /** SAML NameID and issuer of the identity provider that vouched for this user. */
   @Property({ type: 'text', nullable: true })
   @Index()

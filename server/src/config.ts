@@ -1,3 +1,4 @@
+import type { SignInLimitSettings } from './modules/auth/sign-in-limits';
 import { randomBytes } from 'node:crypto';
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { dirname } from 'node:path';
@@ -29,7 +30,8 @@ export interface AppConfig {
   sessionAbsoluteLifetimeMs: number;
   /** Set the Secure flag on cookies (true behind HTTPS). */
   isCookieSecure: boolean;
-  loginRateLimit: { windowMs: number; limit: number };
+  /** Failed sign-ins allowed per window: see modules/auth/sign-in-limits.ts. */
+  loginRateLimit: SignInLimitSettings;
   trustProxy: boolean | number;
   saml: SamlSettings | null;
   /** Folder of the built Angular app to serve, or null for API only. */
@@ -59,7 +61,12 @@ export function configFromEnvironment(env = process.env): AppConfig {
     sessionIdleTimeoutMs: Number(env.SESSION_IDLE_MINUTES ?? 30) * minutes,
     sessionAbsoluteLifetimeMs: Number(env.SESSION_ABSOLUTE_HOURS ?? 12) * 60 * minutes,
     isCookieSecure: publicUrl.startsWith('https://'),
-    loginRateLimit: { windowMs: 15 * minutes, limit: Number(env.LOGIN_RATE_LIMIT ?? 10) },
+    loginRateLimit: {
+      windowMs: 15 * minutes,
+      limit: Number(env.LOGIN_RATE_LIMIT ?? 10),
+      accountLimit: Number(env.LOGIN_ACCOUNT_RATE_LIMIT ?? 30),
+      addressLimit: Number(env.LOGIN_ADDRESS_RATE_LIMIT ?? 100),
+    },
     trustProxy: env.TRUST_PROXY ? Number(env.TRUST_PROXY) : false,
     saml: null,
     clientDist: null,

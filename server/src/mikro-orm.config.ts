@@ -30,6 +30,7 @@ import { DecisionAmendment } from './modules/decisions/decision-amendment.entity
 import { AgendaItem } from './modules/meetings/agenda-item.entity';
 import { Meeting } from './modules/meetings/meeting.entity';
 import { HttpSession } from './modules/sessions/http-session.entity';
+import { SignInFailure } from './modules/auth/sign-in-failure.entity';
 import { RolePolicy } from './modules/users/role-policy.entity';
 import { User } from './modules/users/user.entity';
 import { databaseUrl } from './database-url';
@@ -47,6 +48,7 @@ export const entities = [
   LabPanel,
   AuditEvent,
   HttpSession,
+  SignInFailure,
   SamlRequest,
   SamlAssertionSeen,
   ImageSeries,

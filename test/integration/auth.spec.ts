@@ -183,18 +183,111 @@ describe('CSRF protection (Angular XSRF-TOKEN / X-XSRF-TOKEN convention)', () =>
   });
 });
 
-describe('sign-in rate limit', () => {
-  it('answers 429 after too many attempts for one address and account', async () => {
-    const limited = await startTestApp({ loginRateLimit: { windowMs: 60_000, limit: 3 } });
+describe('sign-in limits (failed attempts only, counted in PostgreSQL)', () => {
+  // Addresses from TEST-NET-3 (RFC 5737), unique to this run, so that other suites' sign-ins on
+  // the shared test database never count here.
+  const runTag = Math.floor(Math.random() * 200) + 1;
+  const address = (host: number) => `203.0.113.${(runTag + host) % 250}`;
+  const limitsOf = (limits: { limit?: number; accountLimit?: number; addressLimit?: number }) => ({
+    trustProxy: 1,
+    loginRateLimit: {
+      windowMs: 60_000,
+      limit: 1000,
+      accountLimit: 1000,
+      addressLimit: 1000,
+      ...limits,
+    },
+  });
+
+  it('answers 429 after too many failures for one address and account, with Retry-After', async () => {
+    const limited = await startTestApp(limitsOf({ limit: 3 }));
+    try {
+      const client = new ApiClient(limited.app);
+      const from = address(1);
+      const statuses: number[] = [];
+      for (let n = 0; n < 4; n += 1)
+        statuses.push((await client.signInFrom(from, 'member@emberline.test', 'wrong!')).status);
+      expect(statuses).toEqual([401, 401, 401, 429]);
+      const refused = await client.signInFrom(from, 'member@emberline.test', demoPassword);
+      expect(refused.status).toBe(429);
+      expect(Number(refused.headers['retry-after'])).toBeGreaterThan(0);
+      expect((refused.body as ProblemDetails).type).toBe('urn:emberline:problem:rate-limited');
+      // Another account from the same address, and the same account from elsewhere, go on.
+      expect((await client.signInFrom(from, 'presenter@emberline.test', demoPassword)).status).toBe(
+        200,
+      );
+      expect(
+        (await client.signInFrom(address(2), 'member@emberline.test', demoPassword)).status,
+      ).toBe(200);
+    } finally {
+      await limited.close();
+    }
+  });
+
+  it('never counts a successful sign-in', async () => {
+    const limited = await startTestApp(limitsOf({ limit: 2, accountLimit: 2, addressLimit: 2 }));
+    try {
+      const statuses: number[] = [];
+      for (let n = 0; n < 12; n += 1) {
+        const client = new ApiClient(limited.app);
+        statuses.push(
+          (await client.signInFrom(address(3), 'coordinator@emberline.test', demoPassword)).status,
+        );
+      }
+      expect(statuses).toEqual(Array(12).fill(200));
+    } finally {
+      await limited.close();
+    }
+  });
+
+  it('limits one account tried from many addresses', async () => {
+    const limited = await startTestApp(limitsOf({ accountLimit: 4 }));
     try {
       const client = new ApiClient(limited.app);
       const statuses: number[] = [];
-      for (let n = 0; n < 4; n += 1)
-        statuses.push((await client.signIn('member@emberline.test', 'wrong-password!')).status);
-      expect(statuses).toEqual([401, 401, 401, 429]);
-      expect((await client.signIn('presenter@emberline.test', demoPassword)).status).toBe(200);
+      for (let n = 0; n < 5; n += 1)
+        statuses.push(
+          (await client.signInFrom(address(10 + n), `guess-${runTag}@emberline.test`, 'guess'))
+            .status,
+        );
+      expect(statuses).toEqual([401, 401, 401, 401, 429]);
     } finally {
       await limited.close();
+    }
+  });
+
+  it('limits one address trying one password across many accounts', async () => {
+    const limited = await startTestApp(limitsOf({ addressLimit: 4 }));
+    try {
+      const client = new ApiClient(limited.app);
+      const statuses: number[] = [];
+      for (let n = 0; n < 5; n += 1)
+        statuses.push(
+          (await client.signInFrom(address(20), `nobody-${n}@emberline.test`, 'Spring2026!'))
+            .status,
+        );
+      expect(statuses).toEqual([401, 401, 401, 401, 429]);
+    } finally {
+      await limited.close();
+    }
+  });
+
+  it('counts the failures on one process against the other (one database)', async () => {
+    const settings = limitsOf({ limit: 3 });
+    const [first, second] = [await startTestApp(settings), await startTestApp(settings)];
+    try {
+      const from = address(30);
+      for (const app of [first, second, first])
+        expect(
+          (await new ApiClient(app.app).signInFrom(from, 'admin@emberline.test', 'x')).status,
+        ).toBe(401);
+      expect(
+        (await new ApiClient(second.app).signInFrom(from, 'admin@emberline.test', demoPassword))
+          .status,
+      ).toBe(429);
+    } finally {
+      await first.close();
+      await second.close();
     }
   });
 });

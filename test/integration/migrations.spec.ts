@@ -35,6 +35,7 @@ const expectedTables = [
   'safety_profile_version',
   'saml_assertion_seen',
   'saml_request',
+  'sign_in_failure',
   'structure',
   'uid_replacement',
   'vote',

@@ -24,6 +24,7 @@ let idp: FakeIdp;
 /** Same entity ID, its own key: a key we do not trust. */
 let impostor: FakeIdp;
 let testApp: TestApp;
+let samlSettings: TestApp['config']['saml'];
 
 beforeAll(async () => {
   directory = await mkdtemp(join(tmpdir(), 'emberline-saml-'));
@@ -41,6 +42,7 @@ beforeAll(async () => {
     },
     join(directory, 'no-fake-here'),
   );
+  samlSettings = settings;
   testApp = await startTestApp({ saml: settings });
 });
 
@@ -421,5 +423,35 @@ describe('SAML 2.0 single sign-on when not configured', () => {
     const client = new ApiClient(plainApp.app);
     expect((await client.get('/api/auth/saml/status')).body).toEqual({ enabled: false });
     expect((await client.get('/api/auth/saml/login')).status).toBe(404);
+  });
+});
+
+describe('the SAML callback under the sign-in limits', () => {
+  it('counts refused responses per address and answers 429 past the limit', async () => {
+    const limited = await startTestApp({
+      saml: samlSettings,
+      trustProxy: 1,
+      loginRateLimit: { windowMs: 60_000, limit: 3, accountLimit: 1000, addressLimit: 1000 },
+    });
+    try {
+      const client = new ApiClient(limited.app);
+      const postFrom = (address: string) =>
+        client.agent
+          .post('/api/auth/saml/callback')
+          .set('Host', '127.0.0.1')
+          .set('X-Forwarded-For', address)
+          .set('Accept', 'application/json')
+          .type('form')
+          .send({ SAMLResponse: Buffer.from('<not-saml/>').toString('base64') });
+      // Addresses from TEST-NET-2 (RFC 5737), unique to this run.
+      const tag = Math.floor(Math.random() * 250) + 1;
+      const statuses: number[] = [];
+      for (let n = 0; n < 4; n += 1) statuses.push((await postFrom(`198.51.100.${tag}`)).status);
+      expect(statuses).toEqual([401, 401, 401, 429]);
+      // Refusals from one address hold back no one else.
+      expect((await postFrom(`198.51.100.${(tag % 250) + 1}`)).status).toBe(401);
+    } finally {
+      await limited.close();
+    }
   });
 });

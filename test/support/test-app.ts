@@ -40,7 +40,12 @@ export async function startTestApp(
   await migrate(orm);
   const sessionPool = new pg.Pool({ connectionString: url, max: 4 });
   const config: AppConfig = {
-    ...configFromEnvironment({ PORT: '4399', LOGIN_RATE_LIMIT: '1000' }),
+    ...configFromEnvironment({
+      PORT: '4399',
+      LOGIN_RATE_LIMIT: '1000',
+      LOGIN_ACCOUNT_RATE_LIMIT: '1000',
+      LOGIN_ADDRESS_RATE_LIMIT: '10000',
+    }),
     ...overrides,
   };
   const logs: string[] = [];
@@ -152,9 +157,17 @@ export class ApiClient {
     return this.agent.get(path).set('Host', '127.0.0.1');
   }
 
-  async send(method: 'post' | 'patch' | 'put' | 'delete', path: string, body?: object) {
+  async send(
+    method: 'post' | 'patch' | 'put' | 'delete',
+    path: string,
+    body?: object,
+    headers: Record<string, string> = {},
+  ) {
     const token = await this.ensureCsrf();
-    const call = this.agent[method](path).set('Host', '127.0.0.1').set('X-XSRF-TOKEN', token);
+    const call = this.agent[method](path)
+      .set('Host', '127.0.0.1')
+      .set('X-XSRF-TOKEN', token)
+      .set(headers);
     return body === undefined ? call : call.send(body);
   }
 
@@ -176,6 +189,16 @@ export class ApiClient {
 
   async signIn(email: string, password: string, code?: string) {
     return this.post('/api/auth/login', { email, password, ...(code ? { code } : {}) });
+  }
+
+  /** A sign-in as if from `address` (the app must trust one proxy hop: `trustProxy: 1`). */
+  async signInFrom(address: string, email: string, password: string) {
+    return this.send(
+      'post',
+      '/api/auth/login',
+      { email, password },
+      { 'X-Forwarded-For': address },
+    );
   }
 }
 

@@ -1,7 +1,6 @@
 import { Router } from 'express';
-import { rateLimit, ipKeyGenerator } from 'express-rate-limit';
 import type { MikroORM } from '@mikro-orm/postgresql';
-import { loginRequestSchema, totpConfirmSchema, type ProblemDetails } from '@emberline/shared';
+import { loginRequestSchema, totpConfirmSchema } from '@emberline/shared';
 import type { AppConfig } from '../../config';
 import { actorOf, signedInUser } from '../../common/auth-middleware';
 import { ConflictError, UnauthenticatedError, ValidationError } from '../../common/errors';
@@ -14,34 +13,20 @@ import { User } from '../users/user.entity';
 import { loadSignedInUser, toCurrentUser } from '../users/user.service';
 import type { BoardRoom } from '../board-session/board-room';
 import { destroySession, establishSession, sessionCookieName } from './session';
+import { SignInLimits, sendLimited } from './sign-in-limits';
 
 const refusal = 'The e-mail address or password is not correct.';
 
 export function authRoutes(orm: MikroORM, config: AppConfig, room: BoardRoom): Router {
   const router = Router();
 
-  const loginLimiter = rateLimit({
-    windowMs: config.loginRateLimit.windowMs,
-    limit: config.loginRateLimit.limit,
-    standardHeaders: 'draft-8',
-    legacyHeaders: false,
-    // Per address and account, so one noisy client does not lock out a whole ward.
-    keyGenerator: (request) =>
-      `${ipKeyGenerator(request.ip ?? '')}|${String((request.body as { email?: unknown } | undefined)?.email ?? '').toLowerCase()}`,
-    handler: (_request, response) => {
-      const problem: ProblemDetails = {
-        type: 'urn:emberline:problem:rate-limited',
-        title: 'Too many attempts',
-        status: 429,
-        detail: 'Too many sign-in attempts. Wait a few minutes, then try again.',
-      };
-      response.status(429).type('application/problem+json').json(problem);
-    },
-  });
+  const limits = new SignInLimits(config.loginRateLimit);
 
-  router.post('/login', loginLimiter, async (request, response) => {
+  router.post('/login', async (request, response) => {
     const body = parse(loginRequestSchema, request.body);
     const em = orm.em;
+    const attempt = { address: request.ip ?? '', account: body.email };
+    if (await sendLimited(response, () => limits.check(em, attempt))) return;
     const user = await em.findOne(
       User,
       { email: body.email.toLowerCase() },
@@ -55,6 +40,7 @@ export function authRoutes(orm: MikroORM, config: AppConfig, room: BoardRoom): R
         outcome: 'refused',
         detail: { reason: 'credentials' },
       });
+      await limits.fail(em, attempt);
       throw new UnauthenticatedError(refusal);
     }
     if (user.totpEnabledAt && user.totpSecret) {
@@ -71,6 +57,7 @@ export function authRoutes(orm: MikroORM, config: AppConfig, room: BoardRoom): R
           outcome: 'refused',
           detail: { reason: 'totp' },
         });
+        await limits.fail(em, attempt);
         throw new UnauthenticatedError(
           'The code is not correct, or it was used already: enter the next code your app shows.',
           'urn:emberline:problem:totp-required',

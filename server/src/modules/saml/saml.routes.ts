@@ -1,5 +1,6 @@
 import { Router, type Request, type Response } from 'express';
 import { rateLimit } from 'express-rate-limit';
+import { SignInLimits, sendLimited } from '../auth/sign-in-limits';
 import type { MikroORM } from '@mikro-orm/postgresql';
 import type { ProblemDetails } from '@emberline/shared';
 import type { AppConfig, SamlSettings } from '../../config';
@@ -29,6 +30,7 @@ const refusedProblem: ProblemDetails = {
 export function samlRoutes(orm: MikroORM, config: AppConfig, settings: SamlSettings): Router {
   const router = Router();
   const signIn = new SamlSignIn(orm, settings);
+  const limits = new SignInLimits(config.loginRateLimit);
 
   // Each start stores a request ID: bound it per address against automated filling
   // (OWASP ASVS 5.0 V2.4 anti-automation). Generous, since a ward may share one address.
@@ -79,12 +81,17 @@ export function samlRoutes(orm: MikroORM, config: AppConfig, settings: SamlSetti
 
   // The ACS (HTTP-POST binding). Exempt from CSRF tokens by design: the IdP's page posts here
   // cross-site, and the signed, single-use response is the proof instead.
+  // Refused responses count like failed passwords, per address only: the account is a name of
+  // the address, so that refusals from one place never hold back single sign-on elsewhere.
   router.post('/callback', async (request, response) => {
     const em = orm.em;
+    const attempt = { address: request.ip ?? '', account: `saml:${request.ip ?? ''}` };
+    if (await sendLimited(response, () => limits.check(em, attempt))) return;
     let account: Awaited<ReturnType<SamlSignIn['accountFor']>>;
     try {
       account = await signIn.accountFor(em, await signIn.verify(request.body));
     } catch (error) {
+      await limits.fail(em, attempt);
       await refuse(request, response, refusalFor(error));
       return;
     }

@@ -305,6 +305,40 @@ describe('SAML 2.0 Web Browser SSO (SAML 2.0 Profiles §4.1) through the fake Id
     await expectRefused(client, await postToAcs(client, samlResponse), 'unknown-request');
   });
 
+  it("refuses an answer to another browser's request: no login CSRF (OWASP SAML cheat sheet)", async () => {
+    // The attacker starts a sign-in in their own browser and has the IdP answer it...
+    const attacker = new ApiClient(testApp.app);
+    const inResponseTo = await startSignIn(attacker);
+    const { samlResponse } = await idp.buildResponse({ inResponseTo, staff: alex });
+    // ...then makes the victim's browser post that answer.
+    const victim = new ApiClient(testApp.app);
+    await expectRefused(victim, await postToAcs(victim, samlResponse), 'other-browser');
+    expect(await testApp.orm.em.fork().count(User, { email: alex.email })).toBe(0);
+  });
+
+  it('refuses a browser cookie naming the request with a forged signature', async () => {
+    const attacker = new ApiClient(testApp.app);
+    const inResponseTo = await startSignIn(attacker);
+    const { samlResponse } = await idp.buildResponse({ inResponseTo, staff: alex });
+    const victim = new ApiClient(testApp.app);
+    const response = await victim.agent
+      .post('/api/auth/saml/callback')
+      .set('Host', '127.0.0.1')
+      .set('Cookie', `em_saml_requests=${inResponseTo}~${'A'.repeat(43)}`)
+      .type('form')
+      .send({ SAMLResponse: samlResponse });
+    await expectRefused(victim, response, 'other-browser');
+  });
+
+  it('keeps a few sign-ins of one browser under way at once (several tabs)', async () => {
+    const client = new ApiClient(testApp.app);
+    const first = await startSignIn(client);
+    await startSignIn(client);
+    const { samlResponse } = await idp.buildResponse({ inResponseTo: first, staff: alex });
+    expect((await postToAcs(client, samlResponse)).status).toBe(303);
+    expect((await client.get('/api/auth/me')).status).toBe(200);
+  });
+
   it('refuses what is not XML with a refusal, not a server error', async () => {
     const client = new ApiClient(testApp.app);
     await startSignIn(client);

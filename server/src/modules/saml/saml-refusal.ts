@@ -14,6 +14,8 @@ export type SamlRefusalReason =
   | 'unsolicited'
   /** InResponseTo names no request of ours that is still waiting (unknown, spent or too old). */
   | 'unknown-request'
+  /** Answers a request another browser started (the request ID is not in this browser's cookie). */
+  | 'other-browser'
   /** Outside NotBefore/NotOnOrAfter, or older than the maximum assertion age. */
   | 'validity-period'
   /** The audience restriction names another service provider. */

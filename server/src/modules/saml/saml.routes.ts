@@ -1,13 +1,19 @@
 import { Router, type Request, type Response } from 'express';
 import { rateLimit } from 'express-rate-limit';
 import { SignInLimits, sendLimited } from '../auth/sign-in-limits';
+import {
+  authnRequestIdOf,
+  bindToBrowser,
+  isBoundToBrowser,
+  releaseFromBrowser,
+} from './saml-browser-binding';
 import type { MikroORM } from '@mikro-orm/postgresql';
 import type { ProblemDetails } from '@emberline/shared';
 import type { AppConfig, SamlSettings } from '../../config';
 import { logger } from '../../common/logger';
 import { recordAudit, writeAudit } from '../audit/audit.service';
 import { establishSession } from '../auth/session';
-import { refusalFor, type SamlRefusal } from './saml-refusal';
+import { refusalFor, SamlRefusal } from './saml-refusal';
 import { SamlSignIn } from './saml.service';
 
 /** Whether the client should offer single sign-on; always mounted, SSO or not. */
@@ -50,8 +56,16 @@ export function samlRoutes(orm: MikroORM, config: AppConfig, settings: SamlSetti
     },
   });
 
-  router.get('/login', startLimiter, async (_request, response) => {
-    response.redirect(302, await signIn.authorizeUrl());
+  const binding = { secret: config.sessionSecret, isSecure: config.isCookieSecure };
+
+  router.get('/login', startLimiter, async (request, response) => {
+    const url = await signIn.authorizeUrl();
+    bindToBrowser(request, response, {
+      ...binding,
+      maxAgeMs: settings.requestIdExpirationPeriodMs,
+      requestId: authnRequestIdOf(url),
+    });
+    response.redirect(302, url);
   });
 
   router.get('/metadata', (_request, response) => {
@@ -89,7 +103,12 @@ export function samlRoutes(orm: MikroORM, config: AppConfig, settings: SamlSetti
     if (await sendLimited(response, () => limits.check(em, attempt))) return;
     let account: Awaited<ReturnType<SamlSignIn['accountFor']>>;
     try {
-      account = await signIn.accountFor(em, await signIn.verify(request.body));
+      const identity = await signIn.verify(request.body);
+      // Verified, and so spent: this browser's cookie forgets it whatever happens next.
+      releaseFromBrowser(request, response, { ...binding, requestId: identity.inResponseTo });
+      if (!isBoundToBrowser(request, binding.secret, identity.inResponseTo))
+        throw new SamlRefusal('other-browser');
+      account = await signIn.accountFor(em, identity);
     } catch (error) {
       await limits.fail(em, attempt);
       await refuse(request, response, refusalFor(error));

@@ -13,6 +13,8 @@ export interface SamlIdentity {
   nameId: string;
   email: string;
   displayName: string;
+  /** The AuthnRequest this response answers (checked against our pending requests). */
+  inResponseTo: string;
 }
 
 /** Attribute names of the X.500/LDAP attribute profile (SAML 2.0 Profiles §8.2). */
@@ -93,6 +95,8 @@ export class SamlSignIn {
     if (profile.issuer !== this.settings.idpIssuer) throw new SamlRefusal('issuer');
     const nameId = text(profile.nameID);
     if (!nameId) throw new SamlRefusal('malformed');
+    const inResponseTo = text(profile.inResponseTo);
+    if (!inResponseTo) throw new SamlRefusal('unsolicited');
     await recordAssertionOnce(
       this.orm,
       assertionLedgerEntry(profile.getAssertion?.(), this.settings.acceptedClockSkewMs),
@@ -104,7 +108,7 @@ export class SamlSignIn {
       0,
       120,
     );
-    return { issuer: profile.issuer, nameId, email: address, displayName };
+    return { issuer: profile.issuer, nameId, email: address, displayName, inResponseTo };
   }
 
   /**

@@ -501,7 +501,14 @@ describe('the server under mutated uploads', () => {
       const response = await uploadFiles(presenter, ids.northDraft, files);
       statuses.push(response.status);
       expect([201, 400, 409, 413, 415], JSON.stringify(response.body)).toContain(response.status);
-      expect((response.body as { detail?: string }).detail ?? 'accepted').toBeTruthy();
+      if (response.status === 201) {
+        // A stored series: its id and at least the slices one upload can stack.
+        expect(response.body).toMatchObject({ id: expect.any(String) });
+        expect((response.body as { sliceCount: number }).sliceCount).toBeGreaterThan(1);
+      } else {
+        // A refusal says why, as problem details (RFC 9457).
+        expect((response.body as { detail?: unknown }).detail).toEqual(expect.stringMatching(/\w/));
+      }
     }
     expect(statuses.some((status) => status !== 201)).toBe(true);
     expect((await presenter.get('/api/health')).status).toBe(200);

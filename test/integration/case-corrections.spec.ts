@@ -109,6 +109,7 @@ describe('editing a lesion', () => {
       segment: 'VIII',
       diameterMm: 31.5,
       kind: 'indeterminate',
+      linkedStructures: [],
     });
     expect(await auditActions(context.ids.northDraft)).toContain('lesion.update');
   });
@@ -382,6 +383,12 @@ describe('removing a series', () => {
     const fixture = await seriesWithStructures(context.ids.northDraft);
     expect(existsSync(fixture.volumePath)).toBe(true);
     expect(existsSync(fixture.labelMapPath)).toBe(true);
+
+    // The case file names the structure linked to the lesion (for the lesion's removal).
+    const before = (await presenter.get(`/api/cases/${context.ids.northDraft}`)).body as CaseDetail;
+    expect(before.lesions.flatMap((lesion) => lesion.linkedStructures ?? [])).toEqual([
+      { name: 'Tumour A', seriesLabel: 'CT, 10 slices', isConfirmed: false },
+    ]);
 
     const preview = await presenter.get(`/api/series/${fixture.seriesId}/removal`);
     expect(preview.status).toBe(200);

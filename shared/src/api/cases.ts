@@ -227,6 +227,8 @@ export interface LesionView {
   segment: CouinaudSegment;
   diameterMm: number;
   kind: LesionKind;
+  /** Structures linked to this lesion (suggested or confirmed): they lose the link with it. */
+  linkedStructures?: { name: string; seriesLabel: string; isConfirmed: boolean }[];
 }
 
 export interface LabPanelView {

@@ -8,6 +8,7 @@ import {
   type CaseDetail,
   type CaseListQuery,
   type CaseSummary,
+  seriesLabel,
   type LabPanelView,
   type LiverScores,
   type Page,
@@ -37,6 +38,7 @@ import { AgendaItem } from '../meetings/agenda-item.entity';
 import type { FileStore } from '../imaging/file-store';
 import { ImageSeries } from '../imaging/image-series.entity';
 import { LabelMap } from '../structures/label-map.entity';
+import { Structure } from '../structures/structure.entity';
 import {
   loadSuggestionTargets,
   refreshLesionSuggestions,
@@ -428,6 +430,13 @@ export class CaseService {
       },
     );
     const inForce = panelInForceAmong(panels);
+    const links = lesions.length
+      ? await this.em.find(
+          Structure,
+          { lesion: { $in: lesions.map((lesion) => lesion.id) } },
+          { populate: ['series'], orderBy: { name: 'asc' } },
+        )
+      : [];
     const board = found.board.getEntity();
     const presenter = await found.presenter.load();
     const isEditable = canEdit(user, found) && isCaseOpenForChanges(found.status);
@@ -460,6 +469,13 @@ export class CaseService {
         segment: lesion.segment,
         diameterMm: lesion.diameterMm,
         kind: lesion.kind,
+        linkedStructures: links
+          .filter((structure) => structure.lesion?.id === lesion.id)
+          .map((structure) => ({
+            name: structure.name,
+            seriesLabel: seriesLabel(structure.series.getEntity()),
+            isConfirmed: structure.isLesionConfirmed,
+          })),
       })),
       labPanels: panels.map((panel) => ({
         id: panel.id,

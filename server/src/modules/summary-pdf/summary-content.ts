@@ -46,7 +46,7 @@ export interface SummaryContent {
   sex: Sex;
   primaryDiagnosis: PrimaryDiagnosis;
   lesions: { segment: string; diameterMm: number; kind: LesionKind }[];
-  /** The scores of the panel in force (the newest), with the date its values were taken. */
+  /** The scores of the panel in force (`panelInForce`), with the date its values were taken. */
   scores: LiverScores;
   panelTakenAt: Date | null;
   plans: SummaryPlan[];
@@ -76,7 +76,7 @@ export async function loadSummaryContent(
     { orderBy: { createdAt: 'asc', id: 'asc' } },
   );
   // The same panel as the case file: the one in force (not superseded, not withdrawn).
-  const latestPanel = await loadPanelInForce(em, found.id);
+  const panelInForce = await loadPanelInForce(em, found.id);
   const [decision] = await loadDecisionViews(em, { clinicalCase: found.id });
   return {
     caseCode: found.caseCode,
@@ -86,8 +86,8 @@ export async function loadSummaryContent(
     sex: found.sex,
     primaryDiagnosis: found.primaryDiagnosis,
     lesions: lesions.map(({ segment, diameterMm, kind }) => ({ segment, diameterMm, kind })),
-    scores: scoresOf(found, lesions, latestPanel),
-    panelTakenAt: latestPanel?.takenAt ?? null,
+    scores: scoresOf(found, lesions, panelInForce),
+    panelTakenAt: panelInForce?.takenAt ?? null,
     plans: await assessedPlans(em, found.id),
     tallies: await discussedTallies(em, found.id),
     decision: decision ?? null,

@@ -2,6 +2,7 @@ import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { CreateLabPanelRequest } from '@emberline/shared';
 import { configFromEnvironment } from '../../server/src/config';
 import { samlSettingsFromEnvironment } from '../../server/src/modules/saml/saml-settings';
 import { startFakeIdp, type FakeIdp } from '../support/fake-idp';
@@ -9,6 +10,7 @@ import { User } from '../../server/src/modules/users/user.entity';
 import { Board } from '../../server/src/modules/boards/board.entity';
 import { Meeting } from '../../server/src/modules/meetings/meeting.entity';
 import { Lesion } from '../../server/src/modules/cases/lesion.entity';
+import { LabPanel } from '../../server/src/modules/cases/lab-panel.entity';
 import { ApiClient, startTestApp, type TestApp } from '../support/test-app';
 import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
 import { demoMicrowaveProfileName } from '../../server/seeders/demo-plans';
@@ -57,6 +59,11 @@ interface Context {
   submittedPlanId: string;
   applicatorProfileId: string;
   safetyProfileId: string;
+  /** A series row of northReady with nothing on it, for its removal. */
+  removableSeriesId: string;
+  /** Two lab panels of northDraft: one to correct, one to withdraw. */
+  panelToCorrectId: string;
+  panelToWithdrawId: string;
   /** A scheduled meeting of the north board, chaired by the proceduralist. */
   meetingId: string;
   proceduralistUserId: string;
@@ -80,7 +87,7 @@ interface Route {
   expected: Record<Who, number>;
 }
 
-const labs = {
+const labs: CreateLabPanelRequest = {
   takenAt: '2026-11-25',
   bilirubin: { value: 1.2, unit: 'mg/dL' },
   albumin: { value: 3.6, unit: 'g/dL' },
@@ -189,6 +196,34 @@ const routes: Route[] = [
     name: 'POST /api/cases/:north-draft/lab-panels',
     call: (c, x) => c.post(`/api/cases/${x.ids.northDraft}/lab-panels`, labs),
     expected: row(401, 404, 201, 403, 403, 404, 404),
+  },
+  {
+    name: 'PATCH /api/cases/:north-draft/lesions/:lesion',
+    call: (c, x) =>
+      c.patch(`/api/cases/${x.ids.northDraft}/lesions/${x.lesionId}`, { diameterMm: 14 }),
+    expected: row(401, 404, 200, 403, 403, 404, 404),
+  },
+  {
+    name: 'POST /api/cases/:north-draft/lab-panels/:panel/correction',
+    call: (c, x) =>
+      c.post(`/api/cases/${x.ids.northDraft}/lab-panels/${x.panelToCorrectId}/correction`, {
+        ...labs,
+        reason: 'Matrix correction',
+      }),
+    expected: row(401, 404, 201, 403, 403, 404, 404),
+  },
+  {
+    name: 'POST /api/cases/:north-draft/lab-panels/:panel/withdrawal',
+    call: (c, x) =>
+      c.post(`/api/cases/${x.ids.northDraft}/lab-panels/${x.panelToWithdrawId}/withdrawal`, {
+        reason: 'Matrix withdrawal',
+      }),
+    expected: row(401, 404, 200, 403, 403, 404, 404),
+  },
+  {
+    name: 'GET /api/series/:north-ready-series/removal',
+    call: (c, x) => c.get(`/api/series/${x.seriesId}/removal`),
+    expected: row(401, 404, 200, 403, 403, 404, 404),
   },
   {
     name: 'POST /api/auth/totp/setup',
@@ -615,6 +650,16 @@ const routes: Route[] = [
     expected: row(401, 404, 409, 403, 403, 404, 404),
   },
   {
+    name: 'DELETE /api/series/:decided-series (case decided)',
+    call: (c, x) => c.delete(`/api/series/${x.decidedSeriesId}`),
+    expected: row(401, 404, 409, 403, 403, 403, 404),
+  },
+  {
+    name: 'DELETE /api/series/:north-ready-removable-series',
+    call: (c, x) => c.delete(`/api/series/${x.removableSeriesId}`),
+    expected: row(401, 404, 204, 403, 403, 404, 404),
+  },
+  {
     name: 'DELETE /api/cases/:north-draft',
     call: (c, x) => c.delete(`/api/cases/${x.ids.northDraft}`),
     expected: row(401, 404, 204, 403, 403, 404, 404),
@@ -728,6 +773,21 @@ describe.each(who)('role × route matrix: %s', (role) => {
     );
     const northReady = await em.findOneOrFail(ClinicalCase, ids.northReady);
     const seriesId = await insertSeriesRow(testApp.orm, northReady.id, northReady.presenter.id);
+    const removableSeriesId = await insertSeriesRow(
+      testApp.orm,
+      northReady.id,
+      northReady.presenter.id,
+    );
+    const northDraft = await em.findOneOrFail(ClinicalCase, ids.northDraft);
+    const [panelToCorrect, panelToWithdraw] = [1, 2].map(
+      (daysAgo) =>
+        new LabPanel(
+          em.getReference(ClinicalCase, northDraft.id, { wrapped: true }),
+          northDraft.presenter,
+          { ...labs, takenAt: new Date(Date.now() - daysAgo * 86_400_000) },
+        ),
+    );
+    await em.persist([panelToCorrect, panelToWithdraw]).flush();
     const applicatorProfileId = (
       await em.findOneOrFail(ApplicatorProfile, { name: demoMicrowaveProfileName })
     ).id;
@@ -822,6 +882,9 @@ describe.each(who)('role × route matrix: %s', (role) => {
       southUserId: (await em.findOneOrFail(User, { email: 'south@emberline.test' })).id,
       runTag: role.toUpperCase(),
       seriesId,
+      removableSeriesId,
+      panelToCorrectId: panelToCorrect.id,
+      panelToWithdrawId: panelToWithdraw.id,
       draftPlanId: plans[0].id,
       submittedPlanId: plans[1].id,
       applicatorProfileId,

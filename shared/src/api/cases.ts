@@ -127,6 +127,16 @@ export const createLesionSchema = z.object({
 });
 export type CreateLesionRequest = z.input<typeof createLesionSchema>;
 
+/** PATCH /api/cases/:id/lesions/:lesionId — any of segment, diameter and kind, corrected. */
+export const updateLesionSchema = createLesionSchema
+  .partial()
+  .strict()
+  .refine(
+    (value) => Object.values(value).some((field) => field !== undefined),
+    'Send at least one of segment, diameterMm and kind.',
+  );
+export type UpdateLesionRequest = z.input<typeof updateLesionSchema>;
+
 export const ascitesGrades = ['none', 'mild', 'moderate-severe'] as const;
 export const encephalopathyGrades = ['none', 'grade-1-2', 'grade-3-4'] as const;
 
@@ -154,6 +164,24 @@ export const createLabPanelSchema = z.object({
   dialysisTwiceInPastWeek: z.boolean(),
 });
 export type CreateLabPanelRequest = z.input<typeof createLabPanelSchema>;
+
+/** Why a panel was corrected or withdrawn: kept with it, shown in the lab history. */
+export const labPanelReasonSchema = z
+  .string()
+  .trim()
+  .min(1, 'Give the reason')
+  .max(500, 'At most 500 characters');
+
+/**
+ * POST /api/cases/:id/lab-panels/:panelId/correction — the whole corrected panel and why. The
+ * corrected values become a new panel; the old one is kept, marked superseded by it.
+ */
+export const correctLabPanelSchema = createLabPanelSchema.extend({ reason: labPanelReasonSchema });
+export type CorrectLabPanelRequest = z.input<typeof correctLabPanelSchema>;
+
+/** POST /api/cases/:id/lab-panels/:panelId/withdrawal — the panel is kept, marked withdrawn. */
+export const withdrawLabPanelSchema = z.strictObject({ reason: labPanelReasonSchema });
+export type WithdrawLabPanelRequest = z.input<typeof withdrawLabPanelSchema>;
 
 export const caseSortFields = [
   'caseCode',
@@ -199,6 +227,8 @@ export interface LesionView {
   segment: CouinaudSegment;
   diameterMm: number;
   kind: LesionKind;
+  /** Structures linked to this lesion (suggested or confirmed): they lose the link with it. */
+  linkedStructures?: { name: string; seriesLabel: string; isConfirmed: boolean }[];
 }
 
 export interface LabPanelView {
@@ -215,6 +245,46 @@ export interface LabPanelView {
   dialysisTwiceInPastWeek: boolean;
   enteredBy: string;
   createdAt: string;
+  /** Set once a correction replaced this panel: the new panel, why, who and when. */
+  superseded?: LabPanelChangeView & { byPanelId: string };
+  /** Set once the panel was withdrawn: why, who and when. */
+  withdrawn?: LabPanelChangeView;
+  /** The panel this one corrects, if it is a correction. */
+  correctsPanelId?: string;
+}
+
+export interface LabPanelChangeView {
+  reason: string;
+  by: string;
+  at: string;
+}
+
+/**
+ * The panel in force among a case's panels: the newest by `takenAt` (then by entry time) of those
+ * neither superseded by a correction nor withdrawn; undefined when none is. The liver scores, the
+ * case file, the board summary PDF and the pre-procedure checklist all read this one panel.
+ */
+export function panelInForce<
+  P extends {
+    takenAt: string | Date;
+    createdAt: string | Date;
+    superseded?: unknown;
+    withdrawn?: unknown;
+  },
+>(panels: readonly P[]): P | undefined {
+  const time = (value: string | Date) => new Date(value).getTime();
+  let found: P | undefined;
+  for (const panel of panels) {
+    if (panel.superseded || panel.withdrawn) continue;
+    if (
+      !found ||
+      time(panel.takenAt) > time(found.takenAt) ||
+      (time(panel.takenAt) === time(found.takenAt) && time(panel.createdAt) > time(found.createdAt))
+    ) {
+      found = panel;
+    }
+  }
+  return found;
 }
 
 export interface CaseDetail {
@@ -236,9 +306,11 @@ export interface CaseDetail {
   /** Whether the case has its own rehearsal settings. */
   hasOwnRehearsalSettings: boolean;
   lesions: LesionView[];
-  /** Newest first. */
+  /** Newest first, superseded and withdrawn panels included (marked). */
   labPanels: LabPanelView[];
-  /** From the newest lab panel; decision support only. */
+  /** The panel the scores come from (`panelInForce`), or null when none is in force. */
+  labPanelInForceId?: string | null;
+  /** From the lab panel in force; decision support only. */
   scores: LiverScores;
   /** What the signed-in user may do with this case. */
   permissions: { canEdit: boolean; canDelete: boolean };

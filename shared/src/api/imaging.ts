@@ -275,3 +275,39 @@ export function decodeVolumeFile(body: ArrayBuffer | Uint8Array): {
 
 /** Prefix of the problem-details `type` of every refused upload; the rest names the reason. */
 export const imagingProblemTypePrefix = 'urn:emberline:problem:imaging:';
+
+/**
+ * GET /api/series/:id/removal — what goes with a series if it is removed, and whether it may be.
+ * A series an assessment ran on stays (`blockedBy` names the plans and their assessments):
+ * the assessment's result rests on it.
+ */
+export interface SeriesRemovalView {
+  seriesId: string;
+  /** Modality, series number and slice count, as the imaging section names the series. */
+  seriesLabel: string;
+  /** Its structures (they go with it), with the lesion each tumour is linked to, if any. */
+  structures: {
+    id: string;
+    name: string;
+    lesionLabel: string | null;
+    isLesionConfirmed: boolean;
+  }[];
+  /** Whether it has a label map (goes with it). */
+  hasLabelMap: boolean;
+  /** Plans drafted on it (they go with it while no assessment ran on them). */
+  plans: { id: string; name: string }[];
+  /** Annotations drawn on it (they go with it). */
+  annotationCount: number;
+  /** Plans on it with assessments: while any is listed, the series cannot be removed. */
+  blockedBy: { planId: string; planName: string; assessmentCount: number }[];
+}
+
+/** The imaging section's name of a series: modality, series number, slice count. */
+export function seriesLabel(series: {
+  modality: string;
+  seriesNumber: number | null;
+  sliceCount: number;
+}): string {
+  const number = series.seriesNumber === null ? '' : ` series ${series.seriesNumber}`;
+  return `${series.modality}${number}, ${series.sliceCount} slices`;
+}

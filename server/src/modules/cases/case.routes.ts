@@ -5,7 +5,10 @@ import {
   createCaseSchema,
   createLabPanelSchema,
   createLesionSchema,
+  correctLabPanelSchema,
   updateCaseSchema,
+  updateLesionSchema,
+  withdrawLabPanelSchema,
 } from '@emberline/shared';
 import { actorOf, requireSignIn, signedInUser } from '../../common/auth-middleware';
 import { parse, pathId } from '../../common/validate';
@@ -71,6 +74,41 @@ export function caseRoutes(orm: MikroORM): Router {
           body,
         ),
       );
+  });
+
+  router.patch('/:id/lesions/:lesionId', async (request, response) => {
+    const id = caseId(request.params.id);
+    const lesionId = pathId(request.params.lesionId, 'The lesion');
+    const body = parse(updateLesionSchema, request.body);
+    response.json(
+      await service().updateLesion(signedInUser(request), actorOf(request), id, lesionId, body),
+    );
+  });
+
+  router.post('/:id/lab-panels/:panelId/correction', async (request, response) => {
+    const id = caseId(request.params.id);
+    const panelId = pathId(request.params.panelId, 'The lab panel');
+    const body = parse(correctLabPanelSchema, request.body);
+    response
+      .status(201)
+      .json(
+        await service().correctLabPanel(signedInUser(request), actorOf(request), id, panelId, body),
+      );
+  });
+
+  router.post('/:id/lab-panels/:panelId/withdrawal', async (request, response) => {
+    const id = caseId(request.params.id);
+    const panelId = pathId(request.params.panelId, 'The lab panel');
+    const { reason } = parse(withdrawLabPanelSchema, request.body);
+    response.json(
+      await service().withdrawLabPanel(
+        signedInUser(request),
+        actorOf(request),
+        id,
+        panelId,
+        reason,
+      ),
+    );
   });
 
   router.delete('/:id/lesions/:lesionId', async (request, response) => {

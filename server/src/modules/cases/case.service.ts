@@ -8,12 +8,16 @@ import {
   type CaseDetail,
   type CaseListQuery,
   type CaseSummary,
+  seriesLabel,
+  type LabPanelView,
   type LiverScores,
   type Page,
   createCaseSchema,
   createLabPanelSchema,
   createLesionSchema,
+  correctLabPanelSchema,
   updateCaseSchema,
+  updateLesionSchema,
 } from '@emberline/shared';
 import type { z } from 'zod';
 import { hasRole } from '../../common/auth-middleware';
@@ -24,6 +28,7 @@ import { Board } from '../boards/board.entity';
 import { User } from '../users/user.entity';
 import { ClinicalCase } from './case.entity';
 import { LabPanel } from './lab-panel.entity';
+import { panelInForceAmong } from './lab-panel-in-force';
 import { Lesion } from './lesion.entity';
 import { CaseRepository } from './case.repository';
 import { visibilityFilter } from './case-visibility';
@@ -33,6 +38,7 @@ import { AgendaItem } from '../meetings/agenda-item.entity';
 import type { FileStore } from '../imaging/file-store';
 import { ImageSeries } from '../imaging/image-series.entity';
 import { LabelMap } from '../structures/label-map.entity';
+import { Structure } from '../structures/structure.entity';
 import {
   loadSuggestionTargets,
   refreshLesionSuggestions,
@@ -49,6 +55,8 @@ type CreateCase = z.output<typeof createCaseSchema>;
 type UpdateCase = z.output<typeof updateCaseSchema>;
 type CreateLesion = z.output<typeof createLesionSchema>;
 type CreateLabPanel = z.output<typeof createLabPanelSchema>;
+type UpdateLesion = z.output<typeof updateLesionSchema>;
+type CorrectLabPanel = z.output<typeof correctLabPanelSchema>;
 
 /**
  * Case rules (DEVELOPERS.md, "The product's shape"): a case is seen only by members of its
@@ -229,6 +237,50 @@ export class CaseService {
   }
 
   /**
+   * Corrects a lesion in place (segment, diameter, kind). Links of structures confirmed for it
+   * stay; unconfirmed suggestions are worked out again with the corrected lesion.
+   */
+  async updateLesion(
+    user: SignedInUser,
+    actor: Actor,
+    caseId: string,
+    lesionId: string,
+    body: UpdateLesion,
+  ): Promise<CaseDetail> {
+    const found = await this.findEditable(user, caseId);
+    const lesions = await this.em.find(Lesion, { clinicalCase: found.id });
+    const lesion = lesions.find((candidate) => candidate.id === lesionId);
+    if (!lesion) throw new NotFoundError('The lesion');
+    // Loaded before the change, so that the query does not flush it early.
+    const targets = this.stores ? await loadSuggestionTargets(this.em, { caseId: found.id }) : [];
+    const changed: string[] = [];
+    if (body.segment !== undefined && body.segment !== lesion.segment) {
+      changed.push('segment');
+      lesion.segment = body.segment;
+    }
+    if (body.diameterMm !== undefined && body.diameterMm !== lesion.diameterMm) {
+      changed.push('diameterMm');
+      lesion.diameterMm = body.diameterMm;
+    }
+    if (body.kind !== undefined && body.kind !== lesion.kind) {
+      changed.push('kind');
+      lesion.kind = body.kind;
+    }
+    const suggestionsChanged =
+      this.stores && changed.length
+        ? (await refreshLesionSuggestions(this.stores.labelMaps, targets, lesions)).length
+        : 0;
+    recordAudit(this.em, actor, {
+      action: 'lesion.update',
+      entityType: 'case',
+      entityId: found.id,
+      detail: { lesionId, changed, suggestionsChanged },
+    });
+    await this.em.flush();
+    return this.toDetail(user, found);
+  }
+
+  /**
    * Stores the tumours' suggested lesions for the case's lesions as they will be after this
    * change (structures/lesion-link-suggestions.ts); answers how many suggestions changed. Run
    * before the change is persisted, so that its queries do not flush it early.
@@ -262,6 +314,85 @@ export class CaseService {
     return this.toDetail(user, found);
   }
 
+  /**
+   * A correction: the corrected values become a new panel (entered by the corrector, now); the
+   * old panel is kept, marked superseded by it with the reason, who and when. Only a panel in
+   * the running (neither superseded nor withdrawn) is corrected: 409 otherwise.
+   */
+  async correctLabPanel(
+    user: SignedInUser,
+    actor: Actor,
+    caseId: string,
+    panelId: string,
+    body: CorrectLabPanel,
+  ): Promise<CaseDetail> {
+    const found = await this.findEditable(user, caseId);
+    const old = await this.findLabPanelInRunning(found.id, panelId);
+    const { reason, ...values } = body;
+    const correction = new LabPanel(
+      this.em.getReference(ClinicalCase, found.id, { wrapped: true }),
+      this.em.getReference(User, user.id, { wrapped: true }),
+      { ...values, takenAt: new Date(values.takenAt) },
+    );
+    this.em.persist(correction);
+    this.retire(old, user, 'superseded', reason);
+    old.supersededBy = this.em.getReference(LabPanel, correction.id, { wrapped: true });
+    recordAudit(this.em, actor, {
+      action: 'lab-panel.correct',
+      entityType: 'case',
+      entityId: found.id,
+      detail: { labPanelId: old.id, correctionId: correction.id },
+    });
+    // The new row first, then the old one's link to it (a foreign key to a row written in the
+    // same flush).
+    await this.em.flush();
+    return this.toDetail(user, found);
+  }
+
+  /** A withdrawal: the panel is kept, marked withdrawn with the reason, who and when. */
+  async withdrawLabPanel(
+    user: SignedInUser,
+    actor: Actor,
+    caseId: string,
+    panelId: string,
+    reason: string,
+  ): Promise<CaseDetail> {
+    const found = await this.findEditable(user, caseId);
+    const panel = await this.findLabPanelInRunning(found.id, panelId);
+    this.retire(panel, user, 'withdrawn', reason);
+    recordAudit(this.em, actor, {
+      action: 'lab-panel.withdraw',
+      entityType: 'case',
+      entityId: found.id,
+      detail: { labPanelId: panel.id },
+    });
+    await this.em.flush();
+    return this.toDetail(user, found);
+  }
+
+  private async findLabPanelInRunning(caseId: string, panelId: string): Promise<LabPanel> {
+    const panel = await this.em.findOne(LabPanel, { id: panelId, clinicalCase: caseId });
+    if (!panel) throw new NotFoundError('The lab panel');
+    if (panel.retirement) {
+      throw new ConflictError(
+        `The lab panel is already ${panel.retirement}; correct or withdraw the panel that replaced it.`,
+      );
+    }
+    return panel;
+  }
+
+  private retire(
+    panel: LabPanel,
+    user: SignedInUser,
+    retirement: 'superseded' | 'withdrawn',
+    reason: string,
+  ): void {
+    panel.retirement = retirement;
+    panel.retiredReason = reason;
+    panel.retiredBy = this.em.getReference(User, user.id, { wrapped: true });
+    panel.retiredAt = new Date();
+  }
+
   private findVisible(user: SignedInUser, id: string): Promise<ClinicalCase> {
     return this.cases.findVisibleOrFail(user, id, ['board', 'presenter']);
   }
@@ -293,8 +424,19 @@ export class CaseService {
     const panels = await this.em.find(
       LabPanel,
       { clinicalCase: found.id },
-      { orderBy: { takenAt: 'desc', createdAt: 'desc' }, populate: ['enteredBy'] },
+      {
+        orderBy: { takenAt: 'desc', createdAt: 'desc' },
+        populate: ['enteredBy', 'retiredBy'],
+      },
     );
+    const inForce = panelInForceAmong(panels);
+    const links = lesions.length
+      ? await this.em.find(
+          Structure,
+          { lesion: { $in: lesions.map((lesion) => lesion.id) } },
+          { populate: ['series'], orderBy: { name: 'asc' } },
+        )
+      : [];
     const board = found.board.getEntity();
     const presenter = await found.presenter.load();
     const isEditable = canEdit(user, found) && isCaseOpenForChanges(found.status);
@@ -327,6 +469,13 @@ export class CaseService {
         segment: lesion.segment,
         diameterMm: lesion.diameterMm,
         kind: lesion.kind,
+        linkedStructures: links
+          .filter((structure) => structure.lesion?.id === lesion.id)
+          .map((structure) => ({
+            name: structure.name,
+            seriesLabel: seriesLabel(structure.series.getEntity()),
+            isConfirmed: structure.isLesionConfirmed,
+          })),
       })),
       labPanels: panels.map((panel) => ({
         id: panel.id,
@@ -342,8 +491,10 @@ export class CaseService {
         dialysisTwiceInPastWeek: panel.dialysisTwiceInPastWeek,
         enteredBy: panel.enteredBy.getEntity().displayName,
         createdAt: panel.createdAt.toISOString(),
+        ...retirementView(panel, panels),
       })),
-      scores: scoresOf(found, lesions, panels[0]),
+      labPanelInForceId: inForce?.id ?? null,
+      scores: scoresOf(found, lesions, inForce),
       permissions: { canEdit: isEditable, canDelete: isEditable && found.status === 'draft' },
       createdAt: found.createdAt.toISOString(),
       updatedAt: found.updatedAt.toISOString(),
@@ -351,9 +502,29 @@ export class CaseService {
   }
 }
 
+/** How a panel left force, for the lab history; nothing while it is in the running. */
+function retirementView(
+  panel: LabPanel,
+  panels: readonly LabPanel[],
+): Pick<LabPanelView, 'superseded' | 'withdrawn' | 'correctsPanelId'> {
+  const corrects = panels.find((other) => other.supersededBy?.id === panel.id);
+  const view: Pick<LabPanelView, 'superseded' | 'withdrawn' | 'correctsPanelId'> = {};
+  if (corrects) view.correctsPanelId = corrects.id;
+  if (!panel.retirement || !panel.retiredAt) return view;
+  const change = {
+    reason: panel.retiredReason ?? '',
+    by: panel.retiredBy?.getEntity().displayName ?? '',
+    at: panel.retiredAt.toISOString(),
+  };
+  if (panel.retirement === 'withdrawn') view.withdrawn = change;
+  else view.superseded = { ...change, byPanelId: panel.supersededBy?.id ?? '' };
+  return view;
+}
+
 /**
- * Scores from the newest lab panel; a missing panel leaves every lab-based score null. Exported
- * for the board summary PDF, so that it prints the same scores as the case file.
+ * Scores from the lab panel in force (`loadPanelInForce`); no panel in force leaves every
+ * lab-based score null. Exported for the board summary PDF, so that it prints the same scores
+ * as the case file.
  */
 export function scoresOf(
   found: ClinicalCase,

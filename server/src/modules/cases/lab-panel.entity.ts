@@ -3,10 +3,18 @@ import { BaseEntity } from '../../common/base.entity';
 import { User } from '../users/user.entity';
 import { ClinicalCase } from './case.entity';
 
+/** How a panel left force: replaced by a correction, or withdrawn. */
+export type LabPanelRetirement = 'superseded' | 'withdrawn';
+
 type AscitesGrade = 'none' | 'mild' | 'moderate-severe';
 type EncephalopathyGrade = 'none' | 'grade-1-2' | 'grade-3-4';
 
-/** A set of labs as entered: values keep the unit they were entered in, so nothing is lost. */
+/**
+ * A set of labs as entered: values keep the unit they were entered in, so nothing is lost. A
+ * panel is never edited nor deleted while its case lives: a correction is a new panel that
+ * supersedes it, a withdrawal marks it withdrawn; either keeps the reason, who and when
+ * (`retired*`). The panel in force is `panelInForce` of shared/ (see lab-panel-in-force.ts).
+ */
 @Entity({ tableName: 'lab_panel' })
 export class LabPanel extends BaseEntity {
   @ManyToOne(() => ClinicalCase, { ref: true, deleteRule: 'cascade' })
@@ -53,6 +61,23 @@ export class LabPanel extends BaseEntity {
 
   @ManyToOne(() => User, { ref: true })
   enteredBy: Ref<User>;
+
+  /** Null while the panel is in the running for "in force". */
+  @Property({ type: 'string', length: 16, nullable: true })
+  retirement: LabPanelRetirement | null = null;
+
+  /** The correction that replaced this panel (retirement 'superseded'). */
+  @ManyToOne(() => LabPanel, { ref: true, nullable: true, deleteRule: 'set null' })
+  supersededBy: Ref<LabPanel> | null = null;
+
+  @Property({ type: 'text', nullable: true })
+  retiredReason: string | null = null;
+
+  @ManyToOne(() => User, { ref: true, nullable: true })
+  retiredBy: Ref<User> | null = null;
+
+  @Property({ type: 'Date', columnType: 'timestamptz', nullable: true })
+  retiredAt: Date | null = null;
 
   constructor(
     clinicalCase: Ref<ClinicalCase>,

@@ -9,6 +9,9 @@ import { FileStore } from './file-store';
 import { imagingSettingsFromEnvironment, type ImagingSettings } from './imaging-settings';
 import { ImagingService, type ImagingDependencies } from './imaging.service';
 import { PendingUploads, UploadProgressBoard } from './pending-uploads';
+import { SeriesRemoval } from './series-removal';
+import { structuresSettingsFromEnvironment } from '../structures/structures-settings';
+import { labelMapStore } from '../structures/structures.routes';
 
 const keepSchema = z.object({ keys: z.array(z.string().min(1).max(16)).min(1).max(100) }).strict();
 const progressTokenSchema = z.string().uuid();
@@ -31,6 +34,9 @@ function progressToken(request: Request): string | undefined {
  *   GET  /cases/:id/series      the case's series
  *   GET  /series/:id            one series
  *   GET  /series/:id/volume     the volume body (`decodeVolumeFile` of shared/ reads it)
+ *   GET  /series/:id/removal    what goes with the series, and what blocks its removal
+ *   DELETE /series/:id          removes it with its structures, label map, annotations and
+ *                               plans → 204; 409 naming the plans when an assessment ran on it
  */
 /** What the imaging service needs beyond the database: readers, store, waiting uploads. */
 export function imagingDependencies(settings: ImagingSettings): ImagingDependencies {
@@ -50,6 +56,11 @@ export function imagingRoutes(
   const router = Router();
   const dependencies = imagingDependencies(settings);
   const service = () => new ImagingService(orm.em, dependencies);
+  const removalStores = {
+    volumes: dependencies.store,
+    labelMaps: labelMapStore(structuresSettingsFromEnvironment()),
+  };
+  const removal = () => new SeriesRemoval(orm.em, removalStores);
 
   router.post('/cases/:id/series', requireSignIn, async (request, response) => {
     const outcome = await service().upload(
@@ -124,6 +135,25 @@ export function imagingRoutes(
       pathId(request.params.id, 'The series'),
     );
     await sendStoredFile(response, file);
+  });
+
+  router.get('/series/:id/removal', requireSignIn, async (request, response) => {
+    response.json(
+      await removal().preview(
+        signedInUser(request),
+        actorOf(request),
+        pathId(request.params.id, 'The series'),
+      ),
+    );
+  });
+
+  router.delete('/series/:id', requireSignIn, async (request, response) => {
+    await removal().remove(
+      signedInUser(request),
+      actorOf(request),
+      pathId(request.params.id, 'The series'),
+    );
+    response.status(204).end();
   });
 
   return router;

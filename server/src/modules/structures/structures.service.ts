@@ -10,7 +10,7 @@ import {
   type UpdateStructure,
 } from '@emberline/shared';
 import { hasRole } from '../../common/auth-middleware';
-import { ForbiddenError, NotFoundError } from '../../common/errors';
+import { ConflictError, ForbiddenError, NotFoundError } from '../../common/errors';
 import type { Actor, SignedInUser } from '../../common/request-context';
 import { recordAudit, writeAudit } from '../audit/audit.service';
 import { assertCaseOpenForChanges } from '../cases/case-open-for-changes';
@@ -141,6 +141,17 @@ export class StructuresService {
       );
     }
     assertCaseOpenForChanges(found);
+    if (body.name !== undefined && body.name !== structure.name) {
+      // Names tell the series' structures apart: one name per series, whatever its case.
+      const sameName = await this.em.count(Structure, {
+        series: series.id,
+        id: { $ne: structure.id },
+        name: { $ilike: body.name.replace(/[\\%_]/g, (c) => `\\${c}`) },
+      });
+      if (sameName > 0) {
+        throw new ConflictError(`Another structure of this series is named "${body.name}".`);
+      }
+    }
     const wasTumour = structure.kind === 'tumour';
     const isTumourAfter = body.kind === undefined ? wasTumour : body.kind === 'tumour';
     const touchesLinks = body.isLesionConfirmed !== undefined || wasTumour !== isTumourAfter;

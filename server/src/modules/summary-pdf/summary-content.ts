@@ -14,7 +14,7 @@ import { Assessment } from '../assessments/assessment.entity';
 import { toAssessmentView } from '../assessments/assessment.service';
 import { ClinicalCase } from '../cases/case.entity';
 import { scoresOf } from '../cases/case.service';
-import { LabPanel } from '../cases/lab-panel.entity';
+import { loadPanelInForce } from '../cases/lab-panel-in-force';
 import { Lesion } from '../cases/lesion.entity';
 import { loadDecisionViews } from '../decisions/decision-view';
 import { AgendaItem } from '../meetings/agenda-item.entity';
@@ -46,7 +46,7 @@ export interface SummaryContent {
   sex: Sex;
   primaryDiagnosis: PrimaryDiagnosis;
   lesions: { segment: string; diameterMm: number; kind: LesionKind }[];
-  /** The scores of the panel in force (the newest), with the date its values were taken. */
+  /** The scores of the panel in force (`panelInForce`), with the date its values were taken. */
   scores: LiverScores;
   panelTakenAt: Date | null;
   plans: SummaryPlan[];
@@ -75,12 +75,8 @@ export async function loadSummaryContent(
     { clinicalCase: found.id },
     { orderBy: { createdAt: 'asc', id: 'asc' } },
   );
-  // The same order as the case file, so that "in force" means the same panel in both.
-  const [latestPanel] = await em.find(
-    LabPanel,
-    { clinicalCase: found.id },
-    { orderBy: { takenAt: 'desc', createdAt: 'desc' }, limit: 1 },
-  );
+  // The same panel as the case file: the one in force (not superseded, not withdrawn).
+  const panelInForce = await loadPanelInForce(em, found.id);
   const [decision] = await loadDecisionViews(em, { clinicalCase: found.id });
   return {
     caseCode: found.caseCode,
@@ -90,8 +86,8 @@ export async function loadSummaryContent(
     sex: found.sex,
     primaryDiagnosis: found.primaryDiagnosis,
     lesions: lesions.map(({ segment, diameterMm, kind }) => ({ segment, diameterMm, kind })),
-    scores: scoresOf(found, lesions, latestPanel),
-    panelTakenAt: latestPanel?.takenAt ?? null,
+    scores: scoresOf(found, lesions, panelInForce),
+    panelTakenAt: panelInForce?.takenAt ?? null,
     plans: await assessedPlans(em, found.id),
     tallies: await discussedTallies(em, found.id),
     decision: decision ?? null,

@@ -6,9 +6,11 @@ import type {
   CaseSummary,
   CreateCaseRequest,
   CreateLabPanelRequest,
+  CorrectLabPanelRequest,
   CreateLesionRequest,
   Page,
   UpdateCaseRequest,
+  UpdateLesionRequest,
 } from '@emberline/shared';
 import type { Observable } from 'rxjs';
 
@@ -55,8 +57,39 @@ export class CaseApi {
     );
   }
 
+  updateLesion(
+    caseId: string,
+    lesionId: string,
+    body: UpdateLesionRequest,
+  ): Observable<CaseDetail> {
+    return this.http.patch<CaseDetail>(
+      `/api/cases/${encodeURIComponent(caseId)}/lesions/${encodeURIComponent(lesionId)}`,
+      body,
+    );
+  }
+
   addLabPanel(caseId: string, body: CreateLabPanelRequest): Observable<CaseDetail> {
     return this.http.post<CaseDetail>(`/api/cases/${encodeURIComponent(caseId)}/lab-panels`, body);
+  }
+
+  /** The corrected panel supersedes `panelId`; both stay in the history. */
+  correctLabPanel(
+    caseId: string,
+    panelId: string,
+    body: CorrectLabPanelRequest,
+  ): Observable<CaseDetail> {
+    return this.http.post<CaseDetail>(
+      `/api/cases/${encodeURIComponent(caseId)}/lab-panels/${encodeURIComponent(panelId)}/correction`,
+      body,
+    );
+  }
+
+  /** Marks `panelId` withdrawn (kept in the history). */
+  withdrawLabPanel(caseId: string, panelId: string, reason: string): Observable<CaseDetail> {
+    return this.http.post<CaseDetail>(
+      `/api/cases/${encodeURIComponent(caseId)}/lab-panels/${encodeURIComponent(panelId)}/withdrawal`,
+      { reason },
+    );
   }
 }
 

@@ -2,7 +2,7 @@ import { provideHttpClient } from '@angular/common/http';
 import { HttpTestingController, provideHttpClientTesting } from '@angular/common/http/testing';
 import { provideZonelessChangeDetection } from '@angular/core';
 import { TestBed, type ComponentFixture } from '@angular/core/testing';
-import type { CaseDetail, ProblemDetails } from '@emberline/shared';
+import type { CaseDetail, LabPanelView, ProblemDetails } from '@emberline/shared';
 import { element, submit, typeInto } from '../../testing/dom';
 import { LabPanelForm } from './lab-panel-form';
 
@@ -187,5 +187,71 @@ describe('LabPanelForm', () => {
     typeInto(fixture, '#lab-albumin', '4');
     await fixture.whenStable();
     expect(hint('albumin')).toBe('= 40 g/L');
+  });
+
+  describe('correcting a panel', () => {
+    const original: LabPanelView = {
+      id: 'b0000000-0000-4000-8000-000000000009',
+      takenAt: '2026-11-18T07:30:00.000Z',
+      bilirubin: { value: 25.65, unit: 'umol/L' },
+      albumin: { value: 3.0, unit: 'g/dL' },
+      inr: 1.1,
+      creatinine: { value: 2.7, unit: 'mg/dL' },
+      sodiumMmolL: 135,
+      plateletsE9L: 120,
+      ascites: 'mild',
+      encephalopathy: 'none',
+      dialysisTwiceInPastWeek: false,
+      enteredBy: 'Dr Priya Raman',
+      createdAt: '2026-11-18T09:00:00.000Z',
+    };
+
+    beforeEach(async () => {
+      fixture.componentRef.setInput('correcting', original);
+      await fixture.whenStable();
+    });
+
+    it('is prefilled with the panel as entered, units included', () => {
+      expect(element(fixture, '#lab-form-title').textContent).toContain('Correct the panel');
+      expect(element<HTMLInputElement>(fixture, '#lab-bilirubin').value).toBe('25.65');
+      expect(element<HTMLInputElement>(fixture, '#lab-creatinine').value).toBe('2.7');
+      // 25.65 µmol/L ÷ 17.1 = 1.5 mg/dL: the unit came with the value.
+      expect(hint('bilirubin')).toBe('= 1.5 mg/dL');
+    });
+
+    it('asks for the reason before sending anything', async () => {
+      submit(fixture);
+      await fixture.whenStable();
+      http.expectNone(`/api/cases/${caseId}/lab-panels/${original.id}/correction`);
+      expect(errorIn('#lab-correction-reason')).not.toBe('');
+    });
+
+    it('sends the whole corrected panel with the reason, keeping the time of an unchanged day', async () => {
+      const saved: CaseDetail[] = [];
+      fixture.componentInstance.saved.subscribe((detail) => saved.push(detail));
+      typeInto(fixture, '#lab-creatinine', '1.4');
+      typeInto(fixture, '#lab-correction-reason', 'Creatinine of another day');
+      await fixture.whenStable();
+      submit(fixture);
+
+      const request = http.expectOne(`/api/cases/${caseId}/lab-panels/${original.id}/correction`);
+      expect(request.request.method).toBe('POST');
+      expect(request.request.body).toEqual({
+        takenAt: original.takenAt,
+        bilirubin: { value: 25.65, unit: 'umol/L' },
+        albumin: { value: 3.0, unit: 'g/dL' },
+        inr: 1.1,
+        creatinine: { value: 1.4, unit: 'mg/dL' },
+        sodiumMmolL: 135,
+        plateletsE9L: 120,
+        ascites: 'mild',
+        encephalopathy: 'none',
+        dialysisTwiceInPastWeek: false,
+        reason: 'Creatinine of another day',
+      });
+      request.flush({ id: caseId } as CaseDetail, { status: 201, statusText: 'Created' });
+      await fixture.whenStable();
+      expect(saved).toEqual([{ id: caseId }]);
+    });
   });
 });

@@ -3,6 +3,7 @@ import {
   Component,
   DestroyRef,
   computed,
+  effect,
   inject,
   input,
   output,
@@ -14,7 +15,7 @@ import {
   ReactiveFormsModule,
   Validators,
   type AbstractControl,
-  type FormControl,
+  FormControl,
   type FormGroupDirective,
   type FormGroup,
 } from '@angular/forms';
@@ -30,6 +31,7 @@ import {
   bilirubinToMgDl,
   bilirubinToUmolL,
   createLabPanelSchema,
+  labPanelReasonSchema,
   creatinineToMgDl,
   creatinineToUmolL,
   encephalopathyGrades,
@@ -40,6 +42,7 @@ import {
   type CreateLabPanelRequest,
   type CreatinineUnit,
   type Encephalopathy,
+  type LabPanelView,
 } from '@emberline/shared';
 import { map } from 'rxjs';
 import { FieldError } from '../core/field-error';
@@ -52,7 +55,9 @@ import { ascitesLabels, encephalopathyLabels, unitLabels } from './clinical-labe
 const shape = createLabPanelSchema.shape;
 
 /**
- * A new laboratory panel. Bilirubin, albumin and creatinine are entered in SI or conventional
+ * A new laboratory panel, or the correction of one (`correcting`: the form is prefilled with its
+ * values and asks for the reason; the corrected values become a new panel that supersedes it).
+ * Bilirubin, albumin and creatinine are entered in SI or conventional
  * units; the value in the other unit is shown as it is typed, with the shared conversions the
  * server scores with.
  */
@@ -83,6 +88,22 @@ export class LabPanelForm {
 
   readonly caseId = input.required<string>();
   readonly saved = output<CaseDetail>();
+  /** The panel being corrected, or null to add a new one. */
+  readonly correcting = input<LabPanelView | null>(null);
+  /** The correction was abandoned. */
+  readonly cancelled = output();
+
+  protected readonly title = computed(() => {
+    const panel = this.correcting();
+    return panel
+      ? `Correct the panel taken ${localDate(new Date(panel.takenAt))}`
+      : 'Add a laboratory panel';
+  });
+  /** Why the panel is corrected: asked for only while correcting. */
+  protected readonly reason = new FormControl<string>('', {
+    nonNullable: true,
+    validators: [Validators.required, zodValidator(labPanelReasonSchema)],
+  });
 
   protected readonly unitLabels = unitLabels;
   protected readonly ascitesOptions = ascitesGrades.map((value) => ({
@@ -144,16 +165,52 @@ export class LabPanelForm {
     // The plausible range of a value depends on its unit: check the value again when the unit changes.
     const { bilirubin, albumin, creatinine } = this.form.controls;
     for (const group of [bilirubin, albumin, creatinine]) this.revalidateOnUnitChange(group);
+    effect(() => {
+      const panel = this.correcting();
+      if (panel) this.prefill(panel);
+    });
+  }
+
+  protected cancel(formDirective: FormGroupDirective): void {
+    this.clearValues(formDirective);
+    this.reason.reset('');
+    this.errorText.set('');
+    this.cancelled.emit();
+  }
+
+  /** The values of the panel being corrected, as entered (units included). */
+  private prefill(panel: LabPanelView): void {
+    this.form.reset({
+      takenAt: localDate(new Date(panel.takenAt)),
+      bilirubin: { ...panel.bilirubin },
+      albumin: { ...panel.albumin },
+      inr: panel.inr,
+      creatinine: { ...panel.creatinine },
+      sodiumMmolL: panel.sodiumMmolL,
+      plateletsE9L: panel.plateletsE9L,
+      ascites: panel.ascites,
+      encephalopathy: panel.encephalopathy,
+      dialysisTwiceInPastWeek: panel.dialysisTwiceInPastWeek,
+    });
+    this.reason.reset('');
+    this.savedText.set('');
+    this.errorText.set('');
   }
 
   protected save(formDirective: FormGroupDirective): void {
-    if (this.form.invalid) {
+    const correcting = this.correcting();
+    if (this.form.invalid || (correcting && this.reason.invalid)) {
       this.form.markAllAsTouched();
+      this.reason.markAsTouched();
       this.errorText.set('Some values are missing or not plausible; see the marked fields.');
       return;
     }
     const body = this.request();
     if (!body) return;
+    if (correcting) {
+      this.saveCorrection(correcting, body, formDirective);
+      return;
+    }
     this.isSaving.set(true);
     this.errorText.set('');
     this.savedText.set('');
@@ -172,6 +229,36 @@ export class LabPanelForm {
         );
       },
     });
+  }
+
+  private saveCorrection(
+    panel: LabPanelView,
+    body: CreateLabPanelRequest,
+    formDirective: FormGroupDirective,
+  ): void {
+    // The same day as the panel's: keep its exact time, so the order of the panels stays.
+    const takenAt =
+      body.takenAt === localDate(new Date(panel.takenAt)) ? panel.takenAt : body.takenAt;
+    this.isSaving.set(true);
+    this.errorText.set('');
+    this.api
+      .correctLabPanel(this.caseId(), panel.id, { ...body, takenAt, reason: this.reason.value })
+      .subscribe({
+        next: (detail) => {
+          this.isSaving.set(false);
+          this.clearValues(formDirective);
+          this.reason.reset('');
+          this.savedText.set('Panel corrected; the scores are recomputed.');
+          this.saved.emit(detail);
+        },
+        error: (error: unknown) => {
+          this.isSaving.set(false);
+          const unmatched = applyFieldErrors(this.form, error);
+          this.errorText.set(
+            ['The correction was not saved.', problemMessage(error), ...unmatched].join(' '),
+          );
+        },
+      });
   }
 
   private request(): CreateLabPanelRequest | null {

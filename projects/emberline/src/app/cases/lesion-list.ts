@@ -10,6 +10,7 @@ import { MatError, MatFormField, MatLabel, MatSuffix } from '@angular/material/f
 import { MatIcon } from '@angular/material/icon';
 import { MatInput } from '@angular/material/input';
 import { MatOption, MatSelect } from '@angular/material/select';
+import { MatDialog } from '@angular/material/dialog';
 import { MatTableModule } from '@angular/material/table';
 import {
   couinaudSegments,
@@ -28,8 +29,16 @@ import { zodValidator } from '../core/zod-validator';
 import { CaseApi } from './case-api';
 import { segmentLabels } from './clinical-labels';
 import { TypedCellDef } from '../core/typed-cell-def';
+import {
+  ConfirmDialog,
+  type ConfirmDialogData,
+  type ConfirmDialogResult,
+} from '../core/confirm-dialog';
 
-/** The lesions of a case by Couinaud segment, longest diameter and type; add and remove. */
+/**
+ * The lesions of a case by Couinaud segment, longest diameter and type; add, correct (the form
+ * takes the lesion) and remove (after a confirmation naming the structures that lose their link).
+ */
 @Component({
   selector: 'em-lesion-list',
   imports: [
@@ -54,6 +63,7 @@ import { TypedCellDef } from '../core/typed-cell-def';
 })
 export class LesionList {
   private readonly api = inject(CaseApi);
+  private readonly dialog = inject(MatDialog);
 
   readonly caseId = input.required<string>();
   readonly lesions = input.required<readonly LesionView[]>();
@@ -66,6 +76,8 @@ export class LesionList {
   protected readonly kindLabels = lesionKindLabels;
   protected readonly isBusy = signal(false);
   protected readonly errorText = signal('');
+  /** The lesion the form corrects, or null while it adds one. */
+  protected readonly editing = signal<LesionView | null>(null);
 
   protected readonly form = inject(FormBuilder).group({
     segment: [null as CouinaudSegment | null, Validators.required],
@@ -89,11 +101,16 @@ export class LesionList {
     }
     const { segment, diameterMm, kind } = this.form.getRawValue();
     if (segment === null || diameterMm === null || kind === null) return;
+    const editing = this.editing();
     this.isBusy.set(true);
     this.errorText.set('');
-    this.api.addLesion(this.caseId(), { segment, diameterMm, kind }).subscribe({
+    const request = editing
+      ? this.api.updateLesion(this.caseId(), editing.id, { segment, diameterMm, kind })
+      : this.api.addLesion(this.caseId(), { segment, diameterMm, kind });
+    request.subscribe({
       next: (detail) => {
         this.isBusy.set(false);
+        this.editing.set(null);
         formDirective.resetForm();
         this.changed.emit(detail);
       },
@@ -101,13 +118,53 @@ export class LesionList {
         this.isBusy.set(false);
         const unmatched = applyFieldErrors(this.form, error);
         this.errorText.set(
-          ['The lesion was not added.', problemMessage(error), ...unmatched].join(' '),
+          [
+            editing ? 'The lesion was not corrected.' : 'The lesion was not added.',
+            problemMessage(error),
+            ...unmatched,
+          ].join(' '),
         );
       },
     });
   }
 
-  protected remove(lesion: LesionView): void {
+  /** Puts the lesion into the form to correct it. */
+  protected edit(lesion: LesionView): void {
+    this.editing.set(lesion);
+    this.errorText.set('');
+    this.form.reset({ segment: lesion.segment, diameterMm: lesion.diameterMm, kind: lesion.kind });
+  }
+
+  protected cancelEdit(formDirective: FormGroupDirective): void {
+    this.editing.set(null);
+    this.errorText.set('');
+    formDirective.resetForm();
+  }
+
+  /** Asks first, naming the lesion and the structures that lose their link to it. */
+  protected confirmRemove(lesion: LesionView): void {
+    const name = `segment ${lesion.segment}, ${lesion.diameterMm} mm (${this.kindLabels[lesion.kind]})`;
+    const links = lesion.linkedStructures ?? [];
+    const data: ConfirmDialogData = {
+      title: `Remove the lesion in ${name}?`,
+      message: links.length
+        ? 'The lesion is removed from the Summary. These structures lose their link to it and get a new suggestion:'
+        : 'The lesion is removed from the Summary. No structure is linked to it.',
+      items: links.map(
+        (link) =>
+          `${link.name} (${link.seriesLabel}; ${link.isConfirmed ? 'confirmed link' : 'suggested link'})`,
+      ),
+      confirmLabel: 'Remove lesion',
+    };
+    this.dialog
+      .open<ConfirmDialog, ConfirmDialogData, ConfirmDialogResult>(ConfirmDialog, { data })
+      .afterClosed()
+      .subscribe((result) => {
+        if (result === true) this.remove(lesion);
+      });
+  }
+
+  private remove(lesion: LesionView): void {
     this.isBusy.set(true);
     this.errorText.set('');
     this.api.removeLesion(this.caseId(), lesion.id).subscribe({

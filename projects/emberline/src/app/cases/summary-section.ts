@@ -1,5 +1,5 @@
-import { ChangeDetectionStrategy, Component, computed, inject } from '@angular/core';
-import type { CaseDetail } from '@emberline/shared';
+import { ChangeDetectionStrategy, Component, computed, inject, signal } from '@angular/core';
+import { panelInForce, type CaseDetail, type LabPanelView } from '@emberline/shared';
 import { CaseDetailsForm } from './case-details-form';
 import { CaseFileState } from './case-file-state';
 import { LabPanelForm } from './lab-panel-form';
@@ -19,11 +19,19 @@ export class SummarySection {
   private readonly state = inject(CaseFileState);
 
   protected readonly detail = this.state.detail;
-  protected readonly latestPanelTakenAt = computed(
-    () => this.detail()?.labPanels[0]?.takenAt ?? null,
+  /** The date of the panel the scores come from: the one in force (shared `panelInForce`). */
+  protected readonly inForceTakenAt = computed(
+    () => panelInForce(this.detail()?.labPanels ?? [])?.takenAt ?? null,
   );
+  /** The panel the lab form corrects, or null while it adds a new one. */
+  protected readonly correcting = signal<LabPanelView | null>(null);
 
   protected replace(detail: CaseDetail): void {
     this.state.replace(detail);
+  }
+
+  protected corrected(detail: CaseDetail): void {
+    this.correcting.set(null);
+    this.replace(detail);
   }
 }

@@ -8,6 +8,7 @@ import {
 } from '@angular/common/http';
 import { Injectable, inject } from '@angular/core';
 import type {
+  SeriesRemovalView,
   ImageSeriesView,
   KeepUploadRequest,
   UploadListing,
@@ -48,6 +49,16 @@ export function uploadAnswer(
 @Injectable({ providedIn: 'root' })
 export class SeriesApi {
   private readonly http = inject(HttpClient);
+
+  /** What goes with a series if it is removed, and what blocks its removal. */
+  removal(seriesId: string): Observable<SeriesRemovalView> {
+    return this.http.get<SeriesRemovalView>(`/api/series/${encodeURIComponent(seriesId)}/removal`);
+  }
+
+  /** Removes a series with its structures, label map, annotations and plans (204). */
+  remove(seriesId: string): Observable<null> {
+    return this.http.delete<null>(`/api/series/${encodeURIComponent(seriesId)}`);
+  }
 
   /** The series of a case, oldest first; idle while the id is undefined. */
   list(caseId: () => string | undefined): HttpResourceRef<ImageSeriesView[] | undefined> {

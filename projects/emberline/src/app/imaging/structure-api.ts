@@ -49,6 +49,15 @@ export class StructureApi {
     );
   }
 
+  /** Renames a structure (trimmed, 1–80 characters, one name per series: 409 otherwise). */
+  rename(structureId: string, name: string): Observable<StructureView> {
+    return this.http.patch<StructureView>(
+      `/api/structures/${encodeURIComponent(structureId)}`,
+      { name },
+      { context: shownBeside() },
+    );
+  }
+
   /** Confirms a tumour's lesion: a lesion of the case, or null for none of them. */
   confirmLesion(structureId: string, lesionId: string | null): Observable<StructureView> {
     return this.http.patch<StructureView>(

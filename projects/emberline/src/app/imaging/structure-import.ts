@@ -9,6 +9,7 @@ import {
 } from '@angular/core';
 import { FormBuilder, ReactiveFormsModule, Validators } from '@angular/forms';
 import { MatButton, MatIconButton } from '@angular/material/button';
+import { MatDialog } from '@angular/material/dialog';
 import { MatError, MatFormField, MatLabel } from '@angular/material/form-field';
 import { MatIcon } from '@angular/material/icon';
 import { MatInput } from '@angular/material/input';
@@ -23,6 +24,11 @@ import {
   type StructureView,
 } from '@emberline/shared';
 import { problemMessage } from '../core/problem';
+import {
+  ConfirmDialog,
+  type ConfirmDialogData,
+  type ConfirmDialogResult,
+} from '../core/confirm-dialog';
 import { byteSize } from './byte-size';
 import { StructureApi } from './structure-api';
 
@@ -55,11 +61,14 @@ import { StructureApi } from './structure-api';
 export class StructureImport {
   private readonly api = inject(StructureApi);
   private readonly formBuilder = inject(FormBuilder);
+  private readonly dialog = inject(MatDialog);
 
   readonly seriesId = input.required<string>();
   /** Distinguishes the ids of this form from those of other series' forms on the page. */
   readonly idPrefix = input.required<string>();
   readonly imported = output<StructureView[]>();
+  /** The series' structures now: a new import replaces them, after a confirmation naming them. */
+  readonly existing = input<readonly StructureView[]>([]);
 
   protected readonly kindOptions = structureKinds.map((kind) => ({
     kind,
@@ -113,6 +122,33 @@ export class StructureImport {
       this.errorText.set(labels);
       return;
     }
+    const existing = this.existing();
+    if (!existing.length) {
+      this.send(file, labels, picker);
+      return;
+    }
+    const data: ConfirmDialogData = {
+      title: 'Replace the label map of this series?',
+      message:
+        'The new label map replaces the current one. Label values it keeps keep their kind and ' +
+        'name (unless the rows above name them anew); these structures go if it lacks their ' +
+        'label value, with their lesion links:',
+      items: existing.map(
+        (structure) =>
+          `${structure.name} (label ${structure.labelValue}` +
+          (structure.lesionLabel ? `, linked to the lesion in ${structure.lesionLabel})` : ')'),
+      ),
+      confirmLabel: 'Replace label map',
+    };
+    this.dialog
+      .open<ConfirmDialog, ConfirmDialogData, ConfirmDialogResult>(ConfirmDialog, { data })
+      .afterClosed()
+      .subscribe((result) => {
+        if (result === true) this.send(file, labels, picker);
+      });
+  }
+
+  private send(file: File, labels: StructureLabels, picker: HTMLInputElement): void {
     this.isImporting.set(true);
     this.errorText.set('');
     this.doneText.set('');

@@ -91,6 +91,43 @@ describe('StructurePanel', () => {
     return element<HTMLButtonElement>(fixture, `button[aria-label="${label}"]`);
   }
 
+  it('renames a structure, sending the name trimmed, and shows the server’s refusal of a taken one', async () => {
+    await open([structure({ kind: 'liver', name: 'Liver' }), suggestedTumour]);
+    buttonLabelled('Rename label 2, Tumour 1').click();
+    await fixture.whenStable();
+    typeInto(fixture, '#structure-name-structure-2', '  Liver  ');
+    await fixture.whenStable();
+    element<HTMLInputElement>(fixture, '#structure-name-structure-2').dispatchEvent(
+      new KeyboardEvent('keydown', { key: 'Enter' }),
+    );
+    const taken = http.expectOne('/api/structures/structure-2');
+    expect(taken.request.method).toBe('PATCH');
+    expect(taken.request.body).toEqual({ name: 'Liver' });
+    const refusal: ProblemDetails = {
+      type: 'about:blank',
+      title: 'Conflict',
+      status: 409,
+      detail: 'Another structure of this series is named "Liver".',
+    };
+    taken.flush(refusal, { status: 409, statusText: 'Conflict' });
+    await fixture.whenStable();
+    expect(textOf(fixture)).toContain(
+      'Label 2 was not renamed. Another structure of this series is named "Liver".',
+    );
+
+    typeInto(fixture, '#structure-name-structure-2', 'Tumour of segment VIII');
+    await fixture.whenStable();
+    element<HTMLInputElement>(fixture, '#structure-name-structure-2').dispatchEvent(
+      new KeyboardEvent('keydown', { key: 'Enter' }),
+    );
+    http
+      .expectOne('/api/structures/structure-2')
+      .flush({ ...suggestedTumour, name: 'Tumour of segment VIII' });
+    await fixture.whenStable();
+    expect(textOf(fixture)).toContain('Tumour of segment VIII');
+    expect((fixture.nativeElement as HTMLElement).querySelector('.rename-input')).toBeNull();
+  });
+
   it('lists the structures with their volume to one decimal and their voxel count', async () => {
     await open([structure({ kind: 'liver', name: 'Liver' })]);
 

@@ -103,6 +103,10 @@ export class StructurePanel {
   protected readonly chosenLesions = signal<Readonly<Record<string, string>>>({});
   protected readonly linkSavingIds = signal<ReadonlySet<string>>(new Set());
   protected readonly linkError = signal('');
+  /** The structure being renamed and the name typed, or null. */
+  protected readonly renaming = signal<{ id: string; name: string } | null>(null);
+  protected readonly renameError = signal('');
+  protected readonly isRenaming = signal(false);
 
   protected shownKind(structure: StructureView): StructureKind | null {
     return this.unsavedKinds()[structure.id] ?? structure.kind;
@@ -192,6 +196,45 @@ export class StructurePanel {
         this.remapError.set(
           `Label ${structure.labelValue} was not set to ${structureKindLabels[kind]}. ` +
             problemMessage(error),
+        );
+      },
+    });
+  }
+
+  protected startRename(structure: StructureView): void {
+    this.renameError.set('');
+    this.renaming.set({ id: structure.id, name: structure.name });
+  }
+
+  protected typeName(name: string): void {
+    this.renaming.update((current) => (current ? { ...current, name } : current));
+  }
+
+  /** Saves the new name; the server trims it and refuses a taken one (409, shown here). */
+  protected saveRename(structure: StructureView): void {
+    const name = this.renaming()?.name.trim() ?? '';
+    if (!name || name.length > 80) {
+      this.renameError.set('A name has 1 to 80 characters.');
+      return;
+    }
+    if (name === structure.name) {
+      this.renaming.set(null);
+      return;
+    }
+    this.isRenaming.set(true);
+    this.renameError.set('');
+    this.api.rename(structure.id, name).subscribe({
+      next: (saved) => {
+        this.isRenaming.set(false);
+        this.renaming.set(null);
+        this.resource.update((list) =>
+          list?.map((candidate) => (candidate.id === saved.id ? saved : candidate)),
+        );
+      },
+      error: (error: unknown) => {
+        this.isRenaming.set(false);
+        this.renameError.set(
+          `Label ${structure.labelValue} was not renamed. ${problemMessage(error)}`,
         );
       },
     });

@@ -26,6 +26,7 @@ import { minutesRoutes } from './modules/meetings/minutes.routes';
 import { decisionRoutes } from './modules/decisions/decisions.routes';
 import { voteRoutes } from './modules/votes/votes.routes';
 import { annotationRoutes } from './modules/annotations/annotations.routes';
+import { keyImageRoutes } from './modules/key-images/key-images.routes';
 import { BoardRoom } from './modules/board-session/board-room';
 import { samlRoutes, samlStatusRoutes } from './modules/saml/saml.routes';
 import { structuresRoutes } from './modules/structures/structures.routes';
@@ -108,6 +109,7 @@ export function createApp(services: Services): Express {
   app.use('/api', decisionRoutes(orm, boardRoom));
   app.use('/api', voteRoutes(orm, boardRoom));
   app.use('/api', annotationRoutes(orm, boardRoom));
+  app.use('/api', keyImageRoutes(orm));
   app.use('/api', summaryPdfRoutes(orm));
   app.use(
     '/api',

@@ -25,6 +25,7 @@ import { MailDelivery } from './modules/mail/mail-delivery.entity';
 import { Vote } from './modules/votes/vote.entity';
 import { ItemComment } from './modules/votes/comment.entity';
 import { Annotation } from './modules/annotations/annotation.entity';
+import { KeyImage } from './modules/key-images/key-image.entity';
 import { Decision } from './modules/decisions/decision.entity';
 import { DecisionAmendment } from './modules/decisions/decision-amendment.entity';
 import { AgendaItem } from './modules/meetings/agenda-item.entity';
@@ -68,6 +69,7 @@ export const entities = [
   Vote,
   ItemComment,
   Annotation,
+  KeyImage,
   Decision,
   DecisionAmendment,
   MailDelivery,

@@ -28,3 +28,4 @@ export * from './rehearsal';
 export * from './api/verdict-reason-lines';
 export * from './api/comparison-summary';
 export * from './api/bookings';
+export * from './api/key-images';

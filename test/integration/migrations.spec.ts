@@ -23,6 +23,7 @@ const expectedTables = [
   'http_session',
   'image_series',
   'item_comment',
+  'key_image',
   'lab_panel',
   'label_map',
   'lesion',

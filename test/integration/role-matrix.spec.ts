@@ -20,6 +20,8 @@ import { ApplicatorProfile } from '../../server/src/modules/plans/applicator-pro
 import { NeedlePlan } from '../../server/src/modules/plans/needle-plan.entity';
 import { SafetyProfile } from '../../server/src/modules/plans/safety-profile.entity';
 import { insertSeriesRow, planBody, safetyBody } from './plan-fixtures';
+import { setEnvironment } from './imaging-fixtures';
+import { rgbaPng } from './key-image-png';
 import { AgendaItem } from '../../server/src/modules/meetings/agenda-item.entity';
 import { ItemComment } from '../../server/src/modules/votes/comment.entity';
 import { Annotation } from '../../server/src/modules/annotations/annotation.entity';
@@ -77,6 +79,8 @@ interface Context {
   /** A series of the decided case (which has a signed decision here) and the member's annotation on it. */
   decidedSeriesId: string;
   decidedAnnotationId: string;
+  /** The board member's key image of the agenda case's series. */
+  keyImageId: string;
   /** A meeting of the north board closed by its chair, with its minutes. */
   closedMeetingId: string;
 }
@@ -99,6 +103,39 @@ const labs: CreateLabPanelRequest = {
   encephalopathy: 'none',
   dialysisTwiceInPastWeek: false,
 };
+
+/** POST /api/cases/:id/key-images: multipart, a small PNG and its description, as the viewer sends it. */
+async function keepKeyImage(client: ApiClient, caseId: string, seriesId: string) {
+  const access = { domain: '127.0.0.1', path: '/', secure: false, script: true };
+  if (!client.agent.jar.getCookie('XSRF-TOKEN', access)) await client.get('/api/health');
+  const token = client.agent.jar.getCookie('XSRF-TOKEN', access)?.value ?? '';
+  return client.agent
+    .post(`/api/cases/${caseId}/key-images`)
+    .set('Host', '127.0.0.1')
+    .set('X-XSRF-TOKEN', token)
+    .attach('image', Buffer.from(rgbaPng(8, 8, (x, y) => [x * 30, y * 30, 100, 255])), {
+      filename: 'view.png',
+      contentType: 'image/png',
+    })
+    .field(
+      'meta',
+      JSON.stringify({
+        seriesId,
+        pane: 'axial',
+        caption: 'Matrix key image',
+        viewState: {
+          cursorLps: [1, 2, 3],
+          sliceIndex: 4,
+          window: { width: 400, level: 50 },
+          camera: null,
+          hiddenLabels: [],
+          labelOpacity: 0.45,
+          planId: null,
+          zones: [],
+        },
+      }),
+    );
+}
 
 //                     anonymous admin presenter member procedur. coordin. south
 const row = (
@@ -583,6 +620,33 @@ const routes: Route[] = [
     expected: row(401, 404, 403, 409, 403, 403, 404),
   },
   {
+    // Key images follow the annotations' rules (key-images/README.md).
+    name: 'GET /api/cases/:agenda-case/key-images',
+    call: (c, x) => c.get(`/api/cases/${x.agendaCaseId}/key-images`),
+    expected: row(401, 404, 200, 200, 200, 404, 404),
+  },
+  {
+    name: 'GET /api/cases/:north-decided/key-images',
+    call: (c, x) => c.get(`/api/cases/${x.ids.northDecided}/key-images`),
+    expected: row(401, 404, 200, 200, 200, 200, 404),
+  },
+  {
+    name: 'POST /api/cases/:agenda-case/key-images',
+    call: (c, x) => keepKeyImage(c, x.agendaCaseId, x.agendaSeriesId),
+    expected: row(401, 404, 201, 201, 201, 404, 404),
+  },
+  {
+    // The coordinator sees a decided case but keeps no key image (403); for the others 409.
+    name: 'POST /api/cases/:north-decided/key-images',
+    call: (c, x) => keepKeyImage(c, x.ids.northDecided, x.decidedSeriesId),
+    expected: row(401, 404, 409, 409, 409, 403, 404),
+  },
+  {
+    name: 'GET /api/key-images/:member-key-image/image.png',
+    call: (c, x) => c.get(`/api/key-images/${x.keyImageId}/image.png`),
+    expected: row(401, 404, 200, 200, 200, 404, 404),
+  },
+  {
     name: 'GET /api/cases/:north-decided/decision',
     call: (c, x) => c.get(`/api/cases/${x.ids.northDecided}/decision`),
     expected: row(401, 404, 200, 200, 200, 200, 404),
@@ -665,6 +729,12 @@ const routes: Route[] = [
     expected: row(401, 404, 204, 403, 403, 404, 404),
   },
   {
+    // The author only.
+    name: 'DELETE /api/key-images/:member-key-image',
+    call: (c, x) => c.delete(`/api/key-images/${x.keyImageId}`),
+    expected: row(401, 404, 403, 204, 403, 404, 404),
+  },
+  {
     name: 'DELETE /api/annotations/:member-annotation',
     call: (c, x) => c.delete(`/api/annotations/${x.annotationId}`),
     expected: row(401, 404, 403, 204, 204, 404, 404),
@@ -733,8 +803,11 @@ const emails: Record<Exclude<Who, 'anonymous'>, string> = {
 let testApp: TestApp;
 let idp: FakeIdp;
 let directory: string;
+let restoreEnvironment: () => void = () => undefined;
 beforeAll(async () => {
   directory = await mkdtemp(join(tmpdir(), 'emberline-matrix-'));
+  // Key images are written to the file store: the run's own folder.
+  restoreEnvironment = setEnvironment({ FILE_STORE_DIR: join(directory, 'files') });
   const publicUrl = 'http://127.0.0.1:4399';
   idp = await startFakeIdp({
     port: 0,
@@ -755,6 +828,7 @@ beforeAll(async () => {
 });
 afterAll(async () => {
   await testApp.close();
+  restoreEnvironment();
   await idp.close();
   await rm(directory, { recursive: true, force: true });
 });
@@ -874,6 +948,11 @@ describe.each(who)('role × route matrix: %s', (role) => {
     expect((await chair.signIn('proceduralist@emberline.test', demoPassword)).status).toBe(200);
     expect((await chair.post(`/api/meetings/${closedMeeting.id}/close`)).status).toBe(200);
     await chair.post('/api/auth/logout');
+    const keeper = new ApiClient(testApp.app);
+    expect((await keeper.signIn('member@emberline.test', demoPassword)).status).toBe(200);
+    const keptImage = await keepKeyImage(keeper, agendaCase.id, agendaSeriesId);
+    expect(keptImage.status, JSON.stringify(keptImage.body)).toBe(201);
+    await keeper.post('/api/auth/logout');
 
     context = {
       ids,
@@ -898,6 +977,7 @@ describe.each(who)('role × route matrix: %s', (role) => {
       annotationId: annotation.id,
       decidedSeriesId,
       decidedAnnotationId: decidedAnnotation.id,
+      keyImageId: (keptImage.body as { id: string }).id,
       closedMeetingId: closedMeeting.id,
     };
     client = new ApiClient(testApp.app);

@@ -8,6 +8,10 @@
  * The demo plans of NLB-2026-014 are assessed for real by the engine here (as in
  * assessments.spec.ts); NLB-2026-022 carries the signed decision and tally of the demo's closed
  * meeting (demo-meetings.spec.ts).
+ *
+ * Key images: three PNGs written by the PNG specification (key-image-png.ts) are kept on
+ * NLB-2026-014 through the API; `pdfimages -list` (poppler-utils) reads back the images the PDF
+ * embeds, with their pixel sizes, and `pdftotext` their captions.
  */
 import { execFileSync } from 'node:child_process';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
@@ -21,6 +25,8 @@ import {
   type AssessmentView,
   type CaseDetail,
   type DecisionView,
+  type ImageSeriesView,
+  type KeyImageView,
   type PlanView,
 } from '@emberline/shared';
 import { INVENTED_PATIENT } from '../../sample-data/abdomen/write-dicom';
@@ -33,6 +39,7 @@ import { User } from '../../server/src/modules/users/user.entity';
 import { demoPassword, resetToDemo, type DemoIds } from '../support/demo';
 import { ApiClient, startTestAppWithAssessments, type TestApp } from '../support/test-app';
 import { setEnvironment } from './imaging-fixtures';
+import { rgbaPng } from './key-image-png';
 
 const fileStoreDir = mkdtempSync(join(tmpdir(), 'emberline-summary-pdf-test-'));
 const pdfDir = mkdtempSync(join(tmpdir(), 'emberline-summary-pdf-read-'));
@@ -197,7 +204,7 @@ describe('the board summary of the demo case with assessed plans (NLB-2026-014)'
   it('has one page for the case and one per assessed plan, the caution on every page', () => {
     // Counted from the layout (README): page 1 the case, one page per plan whose newest
     // assessment is done; no vote or decision yet (its meeting is still scheduled), no key
-    // images or bookings (not built).
+    // images kept yet (the next block keeps some), no bookings (not built).
     expect(pdf.pageCount).toBe(1 + plans.length);
     expect(pdf.pages).toHaveLength(pdf.pageCount);
     for (const page of pdf.pages) expect(occurrences(flat(page), clinicalCaution)).toBe(1);
@@ -239,6 +246,93 @@ describe('the board summary of the demo case with assessed plans (NLB-2026-014)'
     expect(events).toHaveLength(1);
   });
 });
+
+describe('the board summary with key images (NLB-2026-014)', () => {
+  let pdf: ReadPdf;
+  let kept: KeyImageView[];
+  const sizes: [number, number][] = [
+    [64, 48],
+    [40, 80],
+    [96, 32],
+  ];
+
+  beforeAll(async () => {
+    const [series] = (await member.get(`/api/cases/${ids.northReady}/series`))
+      .body as ImageSeriesView[];
+    kept = [];
+    for (const [index, [width, height]] of sizes.entries()) {
+      const png = rgbaPng(width, height, (x, y) => [(x * 4) % 256, (y * 3) % 256, 60 * index, 255]);
+      const response = await member.agent
+        .post(`/api/cases/${ids.northReady}/key-images`)
+        .set('Host', '127.0.0.1')
+        .set('X-XSRF-TOKEN', await csrfTokenOf(member))
+        .attach('image', Buffer.from(png), { filename: 'view.png', contentType: 'image/png' })
+        .field(
+          'meta',
+          JSON.stringify({
+            seriesId: series.id,
+            pane: index === 2 ? '3d' : 'axial',
+            caption: `Key view number ${index + 1} of the tumour`,
+            viewState: {
+              cursorLps: [0, 0, 0],
+              sliceIndex: index === 2 ? null : 10,
+              window: { width: 400, level: 50 },
+              camera: null,
+              hiddenLabels: [],
+              labelOpacity: 0.45,
+              planId: null,
+              zones: [],
+            },
+          }),
+        );
+      expect(response.status, JSON.stringify(response.body)).toBe(201);
+      kept.push(response.body as KeyImageView);
+    }
+    pdf = await summaryOf(presenter, ids.northReady);
+  });
+
+  it('adds two key images a page after the plans, each with its caption, author and time', () => {
+    // README layout: the case page, one page per assessed plan, then key images two a page.
+    const keyPages = Math.ceil(kept.length / 2);
+    expect(pdf.pageCount).toBe(1 + plans.length + keyPages);
+    const first = flat(pdf.pages[1 + plans.length]);
+    const second = flat(pdf.pages[2 + plans.length]);
+    expect(first).toContain('Key images 1–2 of 3');
+    expect(first).toContain('Key view number 1 of the tumour');
+    expect(first).toContain('Key view number 2 of the tumour');
+    expect(second).toContain('Key view number 3 of the tumour');
+    expect(second).toContain('3D view');
+    expect(first).toContain(
+      `Kept by ${kept[0].author.displayName}, ${kept[0].createdAt.slice(0, 16).replace('T', ' ')} UTC`,
+    );
+    for (const page of pdf.pages) expect(occurrences(flat(page), clinicalCaution)).toBe(1);
+  });
+
+  it('embeds each picture at its own pixel size (pdfimages)', () => {
+    const file = join(pdfDir, `${ids.northReady}.pdf`);
+    const listing = execFileSync('pdfimages', ['-list', file], { encoding: 'utf8' });
+    // Columns: page num type width height …; an RGBA PNG becomes an image and its soft mask.
+    const rows = listing
+      .split('\n')
+      .slice(2)
+      .map((row) => row.trim().split(/\s+/))
+      .filter((cells) => cells.length > 4 && cells[2] === 'image');
+    const embedded = rows.map((cells) => [Number(cells[0]), Number(cells[3]), Number(cells[4])]);
+    expect(embedded).toEqual([
+      [2 + plans.length, 64, 48],
+      [2 + plans.length, 40, 80],
+      [3 + plans.length, 96, 32],
+    ]);
+  });
+});
+
+async function csrfTokenOf(client: ApiClient): Promise<string> {
+  const access = { domain: '127.0.0.1', path: '/', secure: false, script: true };
+  if (!client.agent.jar.getCookie('XSRF-TOKEN', access)) await client.get('/api/health');
+  const cookie = client.agent.jar.getCookie('XSRF-TOKEN', access);
+  if (!cookie) throw new Error('the server set no XSRF-TOKEN cookie');
+  return cookie.value;
+}
 
 describe('the board summary of the decided demo case (NLB-2026-022)', () => {
   let pdf: ReadPdf;

@@ -36,6 +36,7 @@ import { assertCaseOpenForChanges, isCaseOpenForChanges } from './case-open-for-
 import { MeetingService } from '../meetings/meeting.service';
 import { AgendaItem } from '../meetings/agenda-item.entity';
 import type { FileStore } from '../imaging/file-store';
+import { KeyImage } from '../key-images/key-image.entity';
 import { ImageSeries } from '../imaging/image-series.entity';
 import { LabelMap } from '../structures/label-map.entity';
 import { Structure } from '../structures/structure.entity';
@@ -170,6 +171,7 @@ export class CaseService {
     const labelMaps = series.length
       ? await this.em.find(LabelMap, { series: { $in: series.map((s) => s.id) } })
       : [];
+    const keyImages = await this.em.find(KeyImage, { clinicalCase: found.id });
     this.em.remove(found);
     recordAudit(this.em, actor, { action: 'case.delete', entityType: 'case', entityId: found.id });
     await this.em.flush();
@@ -180,6 +182,8 @@ export class CaseService {
     const removals = await Promise.allSettled([
       ...series.map((s) => stores.volumes.remove(s.storageKey)),
       ...labelMaps.map((m) => stores.labelMaps.remove(m.storageKey)),
+      // Key images live under the imaging store's root, in their own folder.
+      ...keyImages.map((k) => stores.volumes.remove(k.storageKey)),
     ]);
     if (removals.some((r) => r.status === 'rejected')) {
       logger.warn(`deleting case ${found.id} left image files behind`);

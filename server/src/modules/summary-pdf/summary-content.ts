@@ -3,6 +3,7 @@ import type {
   AssessmentView,
   CaseStatus,
   DecisionView,
+  KeyImagePane,
   LesionKind,
   LiverScores,
   PrimaryDiagnosis,
@@ -19,6 +20,9 @@ import { Lesion } from '../cases/lesion.entity';
 import { loadDecisionViews } from '../decisions/decision-view';
 import { AgendaItem } from '../meetings/agenda-item.entity';
 import { NeedlePlan } from '../plans/needle-plan.entity';
+import type { FileStore } from '../imaging/file-store';
+import { ImageSeries } from '../imaging/image-series.entity';
+import { KeyImage } from '../key-images/key-image.entity';
 import { tallyOf } from '../votes/tally';
 
 /** An assessed plan as the comparison shows it: the plan and its newest assessment, done. */
@@ -32,6 +36,18 @@ export interface SummaryTally {
   meetingStartsAt: Date;
   voterCount: number;
   rows: TallyRow[];
+}
+
+/** A key image as printed: its picture (null when the store lost it) and its byline. */
+export interface SummaryKeyImage {
+  caption: string | null;
+  authorName: string;
+  createdAt: Date;
+  pane: KeyImagePane;
+  seriesLabel: string;
+  widthPx: number;
+  heightPx: number;
+  png: Buffer | null;
 }
 
 /**
@@ -52,11 +68,12 @@ export interface SummaryContent {
   plans: SummaryPlan[];
   tallies: SummaryTally[];
   decision: DecisionView | null;
+  /** The case's key images, oldest first, with their pictures read from the file store. */
+  keyImages: SummaryKeyImage[];
   /**
-   * Hooks for the sections to come: a section is printed only when its list has entries, and
-   * no record feeds them yet (key images and procedure bookings are not built).
+   * Hook for the section to come: printed only when its list has entries, and no record feeds
+   * it yet (procedure bookings are not built).
    */
-  keyImages: readonly never[];
   bookings: readonly never[];
 }
 
@@ -68,6 +85,7 @@ export async function loadSummaryContent(
   em: EntityManager,
   user: SignedInUser,
   caseId: string,
+  keyImageStore?: FileStore,
 ): Promise<SummaryContent> {
   const found = await em.getRepository(ClinicalCase).findVisibleOrFail(user, caseId, ['board']);
   const lesions = await em.find(
@@ -91,7 +109,7 @@ export async function loadSummaryContent(
     plans: await assessedPlans(em, found.id),
     tallies: await discussedTallies(em, found.id),
     decision: decision ?? null,
-    keyImages: [],
+    keyImages: keyImageStore ? await keyImagesOf(em, keyImageStore, found.id) : [],
     bookings: [],
   };
 }
@@ -134,4 +152,47 @@ async function discussedTallies(em: EntityManager, caseId: string): Promise<Summ
     });
   }
   return tallies;
+}
+
+/** The key images of the case, oldest first (the Discussion section's order), with their PNGs. */
+async function keyImagesOf(
+  em: EntityManager,
+  store: FileStore,
+  caseId: string,
+): Promise<SummaryKeyImage[]> {
+  const images = await em.find(
+    KeyImage,
+    { clinicalCase: caseId },
+    { populate: ['author'], orderBy: { createdAt: 'asc', id: 'asc' } },
+  );
+  if (!images.length) return [];
+  const series = await em.find(
+    ImageSeries,
+    { clinicalCase: caseId },
+    { orderBy: { createdAt: 'asc', id: 'asc' } },
+  );
+  const printed: SummaryKeyImage[] = [];
+  for (const image of images) {
+    const index = series.findIndex((entry) => entry.id === image.series.id);
+    const shown = series[index];
+    let png: Buffer | null = null;
+    try {
+      png = Buffer.from(await store.readWhole(image.storageKey));
+    } catch {
+      // A picture the store lost is named as missing on the page, never a failed summary.
+    }
+    printed.push({
+      caption: image.caption,
+      authorName: image.author.getEntity().displayName,
+      createdAt: image.createdAt,
+      pane: image.pane,
+      seriesLabel: shown
+        ? `Series ${shown.seriesNumber ?? `#${index + 1}`} · ${shown.modality}`
+        : 'A series no longer listed',
+      widthPx: image.widthPx,
+      heightPx: image.heightPx,
+      png,
+    });
+  }
+  return printed;
 }

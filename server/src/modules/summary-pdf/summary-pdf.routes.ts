@@ -3,6 +3,7 @@ import type { MikroORM } from '@mikro-orm/postgresql';
 import { actorOf, requireSignIn, signedInUser } from '../../common/auth-middleware';
 import { pathId } from '../../common/validate';
 import { writeAudit } from '../audit/audit.service';
+import { keyImageStore } from '../key-images/key-images.routes';
 import { loadSummaryContent } from './summary-content';
 import { renderSummaryPdf } from './summary-pdf';
 
@@ -14,11 +15,12 @@ import { renderSummaryPdf } from './summary-pdf';
  */
 export function summaryPdfRoutes(orm: MikroORM): Router {
   const router = Router();
+  const keyImages = keyImageStore();
 
   router.get('/cases/:id/summary.pdf', requireSignIn, async (request, response) => {
     const caseId = pathId(request.params.id, 'The case');
     const em = orm.em.fork();
-    const content = await loadSummaryContent(em, signedInUser(request), caseId);
+    const content = await loadSummaryContent(em, signedInUser(request), caseId, keyImages);
     const pdf = await renderSummaryPdf(content);
     // Audited once the PDF exists, so that a failed rendering records no download.
     await writeAudit(em, actorOf(request), {
@@ -28,6 +30,7 @@ export function summaryPdfRoutes(orm: MikroORM): Router {
       detail: {
         plans: content.plans.length,
         decisionId: content.decision?.id ?? null,
+        keyImages: content.keyImages.length,
         bytes: pdf.byteLength,
       },
     });

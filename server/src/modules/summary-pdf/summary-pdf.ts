@@ -6,7 +6,9 @@
  *                       line saying so when no plan has a finished assessment)
  *   one page a plan     each plan whose newest assessment is done: verdict, lead figures, reasons
  *   one page            the board's votes and the signed decision, when either exists
- *   one page a section  key images, bookings: only when such records exist (none do yet)
+ *   key images          two a page, oldest first, each scaled to fit its half of the page with
+ *                       its caption, pane, series, author and time: only when the case has any
+ *   one page            bookings: only when such records exist (none do yet)
  *
  * The clinical caution is printed in the footer of every page, below the content area, after
  * every page has been laid out (pages are buffered), with "Page n of N".
@@ -17,6 +19,7 @@ import {
   BCLC_STAGE_LABELS,
   caseStatusLabels,
   clinicalCaution,
+  keyImagePaneLabels,
   lesionKindLabels,
   primaryDiagnosisLabels,
   reasonCount,
@@ -27,7 +30,7 @@ import {
   type LiverScores,
 } from '@emberline/shared';
 
-import type { SummaryContent, SummaryPlan, SummaryTally } from './summary-content';
+import type { SummaryContent, SummaryKeyImage, SummaryPlan, SummaryTally } from './summary-content';
 import { leadFigures, verdictWords } from './summary-figures';
 
 /**
@@ -83,11 +86,11 @@ export function renderSummaryPdf(content: SummaryContent, now = new Date()): Pro
     doc.addPage();
     boardPage(doc, content.tallies, content.decision);
   }
-  // Hooks for the sections to come: each gets its own page once its records exist.
-  if (content.keyImages.length) {
+  for (let first = 0; first < content.keyImages.length; first += keyImagesPerPage) {
     doc.addPage();
-    heading(doc, 'Key images');
+    keyImagePage(doc, content.keyImages, first);
   }
+  // Hook for the section to come: its own page once its records exist.
   if (content.bookings.length) {
     doc.addPage();
     heading(doc, 'Booking');
@@ -255,6 +258,67 @@ function boardPage(doc: Doc, tallies: SummaryTally[], decision: DecisionView | n
     line(doc, `Reason: ${amendment.reason}`, muted);
     doc.moveDown(0.3);
   }
+}
+
+/** Key images on a page: two, one above the other, each in a box of half the content height. */
+const keyImagesPerPage = 2;
+/** Room under each picture for its caption and byline (three lines of text), points. */
+const keyImageTextPt = 52;
+
+/** One page of key images, starting at `first`; the heading names their place among all. */
+function keyImagePage(doc: Doc, images: readonly SummaryKeyImage[], first: number): void {
+  const shown = images.slice(first, first + keyImagesPerPage);
+  const last = first + shown.length;
+  write(
+    doc,
+    { weight: 'bold', size: 13 },
+    images.length > keyImagesPerPage
+      ? `Key images ${first + 1}–${last} of ${images.length}`
+      : 'Key images',
+  );
+  doc.moveDown(0.4);
+  const width = doc.page.width - page.margins.left - page.margins.right;
+  const bottom = doc.page.height - page.margins.bottom;
+  const slotHeight = (bottom - doc.y) / keyImagesPerPage;
+  const top = doc.y;
+  shown.forEach((image, index) => {
+    const y = top + index * slotHeight;
+    const boxHeight = slotHeight - keyImageTextPt - 8;
+    drawKeyImage(doc, image, page.margins.left, y, width, boxHeight);
+    doc.y = y + boxHeight + 4;
+    write(doc, { weight: 'medium' }, image.caption ?? 'No caption.');
+    write(
+      doc,
+      { size: 9, colour: muted },
+      `${keyImagePaneLabels[image.pane]} view · ${image.seriesLabel} · ${image.widthPx} × ${image.heightPx} px`,
+    );
+    write(
+      doc,
+      { size: 9, colour: muted },
+      `Kept by ${image.authorName}, ${dateTime(image.createdAt)}`,
+    );
+  });
+}
+
+/** The picture scaled to fit the box (aspect kept, centred), or a line saying it is missing. */
+function drawKeyImage(
+  doc: Doc,
+  image: SummaryKeyImage,
+  x: number,
+  y: number,
+  width: number,
+  height: number,
+): void {
+  if (image.png) {
+    try {
+      doc.image(image.png, x, y, { fit: [width, height], align: 'center', valign: 'center' });
+      return;
+    } catch {
+      // An unreadable picture is named below instead of failing the whole summary.
+    }
+  }
+  doc.y = y;
+  line(doc, 'The picture of this key image could not be read.', muted);
 }
 
 /** The caution and the page number under the content area of every page. */

@@ -97,6 +97,7 @@ describe('DiscussionSection', () => {
     comments: CommentView[],
     votes: AgendaItemVotes[],
   ): Promise<void> {
+    http.expectOne(`/api/cases/${caseId}/key-images`).flush([]);
     http.expectOne(`/api/cases/${caseId}/annotations`).flush(annotations);
     http.expectOne(`/api/cases/${caseId}/comments`).flush(comments);
     http.expectOne(`/api/cases/${caseId}/votes`).flush(votes);
@@ -170,6 +171,7 @@ describe('DiscussionSection', () => {
         { type: 'about:blank', title: 'Forbidden', status: 403, detail: 'Not on this board.' },
         { status: 403, statusText: 'Forbidden' },
       );
+    http.expectOne(`/api/cases/${caseId}/key-images`).flush([]);
     http.expectOne(`/api/cases/${caseId}/annotations`).flush([]);
     http.expectOne(`/api/cases/${caseId}/comments`).flush([]);
     http.expectOne(`/api/cases/${caseId}/series`).flush([]);

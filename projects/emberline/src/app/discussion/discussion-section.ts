@@ -12,6 +12,7 @@ import {
 import { CaseFileState } from '../cases/case-file-state';
 import { problemMessage } from '../core/problem';
 import { SeriesApi } from '../imaging/series-api';
+import { KeyImageList } from '../key-images/key-image-list';
 import { PlanApi } from '../plans/plan-api';
 import { commentsByAgendaItem, type CommentThread } from './comment-threads';
 import { DiscussionApi } from './discussion-api';
@@ -24,13 +25,13 @@ const annotationKindLabels: Record<AnnotationKind, string> = {
 };
 
 /**
- * The case file's Discussion section: what the board marked on the images, said about the case
- * at each meeting and voted. Read-only: annotations, comments and votes are made in the board
- * session.
+ * The case file's Discussion section: the key images kept from the viewer (their author may
+ * remove them here), what the board marked on the images, said about the case at each meeting
+ * and voted. Annotations, comments and votes are made in the board session and read only here.
  */
 @Component({
   selector: 'em-discussion-section',
-  imports: [DatePipe, NgTemplateOutlet, MatButton, MatIcon, MatProgressBar],
+  imports: [DatePipe, NgTemplateOutlet, MatButton, MatIcon, MatProgressBar, KeyImageList],
   templateUrl: './discussion-section.html',
   styleUrl: './discussion-section.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
@@ -39,6 +40,7 @@ export class DiscussionSection {
   private readonly state = inject(CaseFileState);
   private readonly api = inject(DiscussionApi);
 
+  protected readonly caseId = this.state.caseId;
   protected readonly kindLabels = annotationKindLabels;
   protected readonly positionLabels = votePositionLabels;
 
@@ -84,6 +86,9 @@ export class DiscussionSection {
     const series = all[index];
     return `Series ${series.seriesNumber ?? `#${index + 1}`} · ${series.modality}`;
   }
+
+  /** `seriesLabel` for the key image list, bound to this section. */
+  protected readonly seriesLabelOf = (seriesId: string): string => this.seriesLabel(seriesId);
 
   protected optionLabel(option: string): string {
     return voteOptionLabel(option, this.plans());

@@ -23,6 +23,7 @@ import { zoneStyles } from './assessment/zone-styles';
 import { draggedWindow, type DisplayWindow } from './display-window';
 import { directionLetters, sliceViewNames, type SliceViewName } from './slice-axes';
 import { nearestWithin, pathOverlay, planeCutLine } from './slice-overlay';
+import { capturePane } from './pane-capture';
 import { SliceScene } from './slice-scene';
 import {
   fittedViewport,
@@ -221,9 +222,11 @@ export class SliceView {
     const box = host.getBoundingClientRect();
     this.resized(box.width, box.height);
     this.isSceneReady.set(true);
+    this.session.registerCapture(this.view(), () => capturePane(host, () => this.scene?.render()));
   }
 
   private stop(): void {
+    this.session.registerCapture(this.view(), null);
     cancelAnimationFrame(this.frameRequest);
     this.resizeObserver?.disconnect();
     this.scene?.dispose();
@@ -295,9 +298,15 @@ export class SliceView {
     return { x: event.clientX - box.left, y: event.clientY - box.top };
   }
 
+  /** This pane becomes the one "Keep this view" takes. */
+  protected focused(): void {
+    this.session.activePane.set(this.view());
+  }
+
   protected pointerDown(event: PointerEvent): void {
     const host = this.host().nativeElement;
     host.focus();
+    this.focused();
     host.setPointerCapture?.(event.pointerId);
     const { x, y } = this.local(event);
     if (event.button === 2) {

@@ -34,6 +34,7 @@ import { AnnotationList } from './annotations/annotation-list';
 import { ZoneOverlay } from './assessment/zone-overlay';
 import { ZonePanel } from './assessment/zone-panel';
 import { DraftingPanel } from './drafting/drafting-panel';
+import { KeepViewButton } from './keep-view-button';
 import { newDraft, settingsForProfile } from './drafting/drafting-state';
 import { SliceView } from './slice-view';
 import { StructureToggles } from './structure-toggles';
@@ -74,6 +75,7 @@ import { hasWebGl2, noWebGl2Message } from './webgl-support';
     ZonePanel,
     AnnotationControls,
     AnnotationList,
+    KeepViewButton,
   ],
   providers: [ViewerSession, ZoneOverlay, AnnotationLayer],
   templateUrl: './viewer-page.html',

@@ -6,6 +6,7 @@ import {
   voxelToLps,
   type PlanView,
   type StructureKind,
+  type KeyImagePane,
   type StructureView,
   type Vec3,
 } from '@emberline/shared';
@@ -20,6 +21,7 @@ import {
 } from './drafting/clearance-fields';
 import * as drafting from './drafting/drafting-state';
 import { LiveClearance } from './drafting/live-clearance';
+import type { PaneCapture } from './pane-capture';
 import { sliceAxesOf, type SliceViewName } from './slice-axes';
 import { stepSlices } from './slice-viewport';
 import type { LabelAppearance, PathShape, ViewerLabelMap, ViewerVolume } from './viewer-data';
@@ -139,6 +141,10 @@ export class ViewerSession {
 
   readonly hasFirstFrame = signal(false);
   private readonly renderedViews = new Set<string>();
+
+  /** The pane last pressed or focused: the one "Keep this view" takes. */
+  readonly activePane = signal<KeyImagePane>('axial');
+  private readonly captures = new Map<KeyImagePane, () => Promise<PaneCapture>>();
   private clearance: LiveClearance | null = null;
 
   constructor() {
@@ -273,6 +279,18 @@ export class ViewerSession {
       performance.mark(viewerFirstFrameMark);
       this.hasFirstFrame.set(true);
     }
+  }
+
+  /** Each pane says how to take its picture once its scene exists (and withdraws on destroy). */
+  registerCapture(pane: KeyImagePane, capture: (() => Promise<PaneCapture>) | null): void {
+    if (capture) this.captures.set(pane, capture);
+    else this.captures.delete(pane);
+  }
+
+  /** A picture of the pane as it is on screen, with its overlays. */
+  capture(pane: KeyImagePane): Promise<PaneCapture> {
+    const capture = this.captures.get(pane);
+    return capture ? capture() : Promise.reject(new Error('That view is not on screen.'));
   }
 
   kindLabel(kind: StructureKind): string {

@@ -23,6 +23,7 @@ import { clearanceKindOrder } from './drafting/clearance-fields';
 import { SurfaceBuilder } from './surface-builder';
 import type { SurfaceMesh } from './surface-mesh';
 import type { SurfaceReply } from './surface-protocol';
+import { capturePane } from './pane-capture';
 import { SurfaceScene } from './surface-scene';
 import { ViewerSession } from './viewer-session';
 
@@ -62,6 +63,8 @@ const marginReachMm = 5;
       role="application"
       aria-label="3D view of the structures, the applicator paths and the annotations. Arrow keys turn it, plus and minus zoom, 0 resets."
       (keydown)="keyDown($event)"
+      (focus)="focused()"
+      (pointerdown.capture)="focused()"
     >
       <em-margin-legend />
     </div>
@@ -145,9 +148,11 @@ export class VolumeView {
     const box = host.getBoundingClientRect();
     this.resized(box.width, box.height);
     this.isSceneReady.set(true);
+    this.session.registerCapture('3d', () => capturePane(host, () => this.scene?.render()));
   }
 
   private stop(): void {
+    this.session.registerCapture('3d', null);
     cancelAnimationFrame(this.frameRequest);
     this.resizeObserver?.disconnect();
     this.builder?.dispose();
@@ -338,6 +343,11 @@ export class VolumeView {
       this.frameRequest = 0;
       this.scene?.render();
     });
+  }
+
+  /** The 3D view becomes the pane "Keep this view" takes. */
+  protected focused(): void {
+    this.session.activePane.set('3d');
   }
 
   protected reset(): void {

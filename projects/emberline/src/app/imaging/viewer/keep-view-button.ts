@@ -30,7 +30,7 @@ import { ViewerSession } from './viewer-session';
       type="button"
       data-keep-view
       [disabled]="isTaking()"
-      [attr.aria-label]="'Keep this view: the ' + paneLabel() + ' view, as a key image of the case'"
+      title="Keeps a picture of this pane and its view state as a key image of the case"
       (click)="keep()"
     >
       <mat-icon aria-hidden="true">photo_camera</mat-icon>

@@ -23,6 +23,7 @@ import { ClinicalCase } from '../../server/src/modules/cases/case.entity';
 import { Lesion } from '../../server/src/modules/cases/lesion.entity';
 import { FileStore } from '../../server/src/modules/imaging/file-store';
 import { ImageSeries } from '../../server/src/modules/imaging/image-series.entity';
+import { KeyImage } from '../../server/src/modules/key-images/key-image.entity';
 import { NeedlePlan } from '../../server/src/modules/plans/needle-plan.entity';
 import { SafetyProfile } from '../../server/src/modules/plans/safety-profile.entity';
 import { LabelMap } from '../../server/src/modules/structures/label-map.entity';
@@ -32,6 +33,7 @@ import type { SignedInUser } from '../../server/src/common/request-context';
 import { loadSummaryContent } from '../../server/src/modules/summary-pdf/summary-content';
 import { useImagingTestApp } from './imaging-test-app';
 import { plansInStates } from './decision-fixtures';
+import { rgbaPng } from './key-image-png';
 
 const context = useImagingTestApp(
   'corrections',
@@ -313,6 +315,41 @@ describe('correcting and withdrawing a lab panel', () => {
 });
 
 /** A series row with its volume file, a label map file and row, and two structures. */
+/** A key image row and its stored picture, as the key-images routes keep them. */
+async function keepKeyImage(seriesId: string, caseId: string): Promise<string> {
+  const em = context.app.orm.em.fork();
+  const storageKey = `key-images/${randomUUID()}.png`;
+  const bytes = await new FileStore(context.fileStoreDir).writeAtomically(storageKey, [
+    rgbaPng(4, 4, () => [200, 10, 10, 255]),
+  ]);
+  em.persist(
+    new KeyImage({
+      clinicalCase: em.getReference(ClinicalCase, caseId, { wrapped: true }),
+      series: em.getReference(ImageSeries, seriesId, { wrapped: true }),
+      author: em.getReference(User, await userId('presenter@emberline.test'), { wrapped: true }),
+      pane: 'axial',
+      viewState: {
+        cursorLps: [0, 0, 0],
+        sliceIndex: 1,
+        window: { width: 400, level: 40 },
+        camera: null,
+        hiddenLabels: [],
+        labelOpacity: 0.5,
+        planId: null,
+        zones: [],
+      },
+      storageKey,
+      widthPx: 4,
+      heightPx: 4,
+      bytes,
+    }),
+  );
+  await em.flush();
+  const path = join(context.fileStoreDir, ...storageKey.split('/'));
+  expect(existsSync(path)).toBe(true);
+  return path;
+}
+
 async function seriesWithStructures(caseId: string) {
   const presenterId = await userId('presenter@emberline.test');
   const presenter = await context.signIn();
@@ -390,9 +427,13 @@ describe('removing a series', () => {
       { name: 'Tumour A', seriesLabel: 'CT, 10 slices', isConfirmed: false },
     ]);
 
+    // A key image kept from the series: its row and its picture in the file store.
+    const keyImagePath = await keepKeyImage(fixture.seriesId, context.ids.northDraft);
+
     const preview = await presenter.get(`/api/series/${fixture.seriesId}/removal`);
     expect(preview.status).toBe(200);
     const view = preview.body as SeriesRemovalView;
+    expect(view.keyImageCount).toBe(1);
     expect(view.structures.map((structure) => structure.name)).toEqual(['Tumour A', 'Liver']);
     expect(view.structures[0]?.lesionLabel).toMatch(/^segment /);
     expect(view.plans.map((plan) => plan.name)).toEqual(['Lateral approach']);
@@ -411,6 +452,8 @@ describe('removing a series', () => {
     expect(await em.count(Lesion, { clinicalCase: context.ids.northDraft })).toBeGreaterThan(0);
     expect(existsSync(fixture.volumePath)).toBe(false);
     expect(existsSync(fixture.labelMapPath)).toBe(false);
+    expect(await em.count(KeyImage, { series: fixture.seriesId })).toBe(0);
+    expect(existsSync(keyImagePath)).toBe(false);
     expect(await auditActions(fixture.seriesId)).toEqual(['series.removal-read', 'series.delete']);
     expect((await presenter.get(`/api/series/${fixture.seriesId}`)).status).toBe(404);
   });

@@ -298,6 +298,8 @@ export interface SeriesRemovalView {
   plans: { id: string; name: string }[];
   /** Annotations drawn on it (they go with it). */
   annotationCount: number;
+  /** Key images kept from it (they go with it, pictures included). */
+  keyImageCount: number;
   /** Plans on it with assessments: while any is listed, the series cannot be removed. */
   blockedBy: { planId: string; planName: string; assessmentCount: number }[];
 }

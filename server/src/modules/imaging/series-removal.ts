@@ -9,6 +9,7 @@ import { Annotation } from '../annotations/annotation.entity';
 import { Assessment } from '../assessments/assessment.entity';
 import { assertCaseOpenForChanges } from '../cases/case-open-for-changes';
 import { visibilityFilter } from '../cases/case-visibility';
+import { KeyImage } from '../key-images/key-image.entity';
 import { NeedlePlan } from '../plans/needle-plan.entity';
 import { LabelMap } from '../structures/label-map.entity';
 import { Structure } from '../structures/structure.entity';
@@ -23,7 +24,7 @@ export interface SeriesRemovalStores {
 
 /**
  * Removing a series of a case that is open for changes, by its presenting physician (README.md
- * here, "Removing a series"). Its structures, label map, annotations and the plans drafted on it
+ * here, "Removing a series"). Its structures, label map, annotations, key images and the plans drafted on it
  * go with it (the rows by the foreign keys' cascade, in one transaction; the files after the
  * commit, so that a failed removal never leaves rows pointing at missing files). A series an
  * assessment ran on stays: 409 naming the plans.
@@ -56,7 +57,13 @@ export class SeriesRemoval {
       );
     }
     const labelMap = await this.em.findOne(LabelMap, { series: series.id });
-    const fileKeys = { volume: series.storageKey, labelMap: labelMap?.storageKey ?? null };
+    const keyImages = await this.em.find(KeyImage, { series: series.id });
+    const fileKeys = {
+      volume: series.storageKey,
+      labelMap: labelMap?.storageKey ?? null,
+      // Key images live in the imaging store's root, under key-images/.
+      keyImages: keyImages.map((keyImage) => keyImage.storageKey),
+    };
     await this.em.transactional(async (em) => {
       // The rows that hang on the series go by the foreign keys' cascade (structures, label
       // map, annotations, plans without assessments); the series row is the one delete.
@@ -70,6 +77,7 @@ export class SeriesRemoval {
           structureCount: view.structures.length,
           planIds: view.plans.map((plan) => plan.id),
           annotationCount: view.annotationCount,
+          keyImageCount: view.keyImageCount,
           hadLabelMap: view.hasLabelMap,
         },
       });
@@ -78,6 +86,7 @@ export class SeriesRemoval {
     const removals = await Promise.allSettled([
       this.stores.volumes.remove(fileKeys.volume),
       ...(fileKeys.labelMap ? [this.stores.labelMaps.remove(fileKeys.labelMap)] : []),
+      ...fileKeys.keyImages.map((key) => this.stores.volumes.remove(key)),
     ]);
     if (removals.some((removal) => removal.status === 'rejected')) {
       logger.warn(`removing series ${series.id} left image files behind`);
@@ -130,6 +139,7 @@ export class SeriesRemoval {
       hasLabelMap: (await this.em.count(LabelMap, { series: series.id })) > 0,
       plans: plans.map((plan) => ({ id: plan.id, name: plan.name })),
       annotationCount: await this.em.count(Annotation, { series: series.id }),
+      keyImageCount: await this.em.count(KeyImage, { series: series.id }),
       blockedBy: plans
         .filter((plan) => assessmentCount(plan.id) > 0)
         .map((plan) => ({

@@ -133,6 +133,9 @@ export function removalDialogData(
     ...(removal.annotationCount
       ? [`${removal.annotationCount} annotation${removal.annotationCount === 1 ? '' : 's'}`]
       : []),
+    ...(removal.keyImageCount
+      ? [`${removal.keyImageCount} key image${removal.keyImageCount === 1 ? '' : 's'}`]
+      : []),
   ];
   const blockedReason = removal.blockedBy.length
     ? 'It cannot be removed: assessments ran on it (' +

@@ -12,6 +12,7 @@ const removal = (overrides: Partial<SeriesRemovalView> = {}): SeriesRemovalView 
   hasLabelMap: true,
   plans: [{ id: 'p1', name: 'Lateral approach' }],
   annotationCount: 2,
+  keyImageCount: 1,
   blockedBy: [],
   ...overrides,
 });
@@ -27,6 +28,7 @@ describe('removalDialogData', () => {
       'Its label map',
       'Plan Lateral approach, drafted on it',
       '2 annotations',
+      '1 key image',
     ]);
     expect(data.blockedReason).toBeUndefined();
   });

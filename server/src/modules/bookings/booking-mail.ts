@@ -22,7 +22,7 @@ export interface BookingMailFacts {
   timeZone: string;
 }
 
-/** "Tue 5 Jan 2027, 08:30–10:00 (UTC)". */
+/** "Tue, 5 Jan 2027, 08:30–10:00 (UTC)". */
 export function timeSpan(startsAt: Date, endsAt: Date, timeZone: string): string {
   const date = new Intl.DateTimeFormat('en-GB', {
     timeZone,

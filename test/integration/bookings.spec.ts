@@ -5,6 +5,10 @@
  * imaging and the due check. Rules: server/src/modules/bookings/README.md and DEVELOPERS.md
  * ("Roles": off the board 404, a forbidden act on a visible case 403).
  */
+import { execFileSync } from 'node:child_process';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import {
   type BookingQueueItem,
@@ -754,6 +758,46 @@ describe('the treatment and the follow-up', () => {
     const clash = await coordinator.post(`/api/cases/${ablationCase}/follow-up`, body);
     expect(clash.status).toBe(409);
     expect((await logistics(presenter, ablationCase)).followUp?.room).toBe('CT 2');
+  });
+
+  // Read back with poppler-utils' pdftotext, as the summary PDF's own test does.
+  it('prints the booking, its checklist and the treatment on the board summary’s last page', async () => {
+    const response = await coordinator
+      .get(`/api/cases/${ablationCase}/summary.pdf`)
+      .buffer(true)
+      .parse((res, done) => {
+        const chunks: Buffer[] = [];
+        res.on('data', (chunk: Buffer) => chunks.push(chunk));
+        res.on('end', () => done(null, Buffer.concat(chunks)));
+      });
+    expect(response.status).toBe(200);
+    const directory = mkdtempSync(join(tmpdir(), 'emberline-booking-pdf-'));
+    try {
+      const file = join(directory, 'summary.pdf');
+      writeFileSync(file, response.body as Buffer);
+      const pages = execFileSync('pdftotext', ['-enc', 'UTF-8', file, '-'], { encoding: 'utf8' })
+        .split('\f')
+        .slice(0, -1)
+        .map((page) => page.replace(/\s+/g, ' '));
+      const last = pages.at(-1) ?? '';
+      const when = start.toISOString().slice(0, 16).replace('T', ' ');
+      expect(last).toContain(`Booking When: ${when} UTC`);
+      expect(last).toContain('Room: Interventional suite 1');
+      expect(last).toContain('Operator: Dr Mei Tanaka');
+      expect(last).toContain('Anaesthesia: General anaesthesia');
+      expect(last).toContain('State: Done');
+      expect(last).toContain('Follow-up imaging When:');
+      expect(last).toContain('Modality: Contrast-enhanced CT');
+      expect(last).toContain('Treatment Performed:');
+      expect(last).toContain('Complication (Clavien–Dindo): Grade I');
+      expect(last).toContain(
+        `Follow-up imaging proposed: ${treatment.followUp.proposedDate.slice(0, 10)}`,
+      );
+      // The booking page names the case by its code only (the first page has the demographics).
+      expect(last).not.toMatch(/year of birth|female|\b19[0-9]{2}\b/i);
+    } finally {
+      rmSync(directory, { recursive: true, force: true });
+    }
   });
 
   it('markDueFollowUps turns the case follow-up-due once its date comes, tells the coordinators once', async () => {

@@ -6,7 +6,7 @@
  *                       line saying so when no plan has a finished assessment)
  *   one page a plan     each plan whose newest assessment is done: verdict, lead figures, reasons
  *   one page            the board's votes and the signed decision, when either exists
- *   one page a section  key images, bookings: only when such records exist (none do yet)
+ *   one page a section  key images (none exist yet); bookings and treatment, when the case has any
  *
  * The clinical caution is printed in the footer of every page, below the content area, after
  * every page has been laid out (pages are buffered), with "Page n of N".
@@ -15,6 +15,10 @@ import { fileURLToPath } from 'node:url';
 import PDFDocument from 'pdfkit';
 import {
   BCLC_STAGE_LABELS,
+  anaesthesiaLabels,
+  bookingStateLabels,
+  complicationGradeLabels,
+  followUpModalityLabels,
   caseStatusLabels,
   clinicalCaution,
   lesionKindLabels,
@@ -25,9 +29,10 @@ import {
   votePositionLabels,
   type DecisionView,
   type LiverScores,
+  type TreatmentView,
 } from '@emberline/shared';
 
-import type { SummaryContent, SummaryPlan, SummaryTally } from './summary-content';
+import type { SummaryBooking, SummaryContent, SummaryPlan, SummaryTally } from './summary-content';
 import { leadFigures, verdictWords } from './summary-figures';
 
 /**
@@ -88,9 +93,9 @@ export function renderSummaryPdf(content: SummaryContent, now = new Date()): Pro
     doc.addPage();
     heading(doc, 'Key images');
   }
-  if (content.bookings.length) {
+  if (content.bookings.length || content.treatment) {
     doc.addPage();
-    heading(doc, 'Booking');
+    bookingPage(doc, content.bookings, content.treatment);
   }
   footers(doc, content.caseCode);
   doc.end();
@@ -255,6 +260,75 @@ function boardPage(doc: Doc, tallies: SummaryTally[], decision: DecisionView | n
     line(doc, `Reason: ${amendment.reason}`, muted);
     doc.moveDown(0.3);
   }
+}
+
+const checklistStateWords = {
+  open: 'open',
+  met: 'met',
+  'not-met': 'NOT MET',
+  overridden: 'overridden',
+} as const;
+
+/** The procedure and follow-up bookings (not cancelled) and the treatment as recorded. */
+function bookingPage(
+  doc: Doc,
+  bookings: readonly SummaryBooking[],
+  treatment: TreatmentView | null,
+): void {
+  for (const booking of bookings) {
+    const isProcedure = booking.kind === 'procedure';
+    heading(doc, isProcedure ? 'Booking' : 'Follow-up imaging');
+    const endsAt = new Date(booking.startsAt.getTime() + booking.durationMin * 60_000);
+    facts(doc, [
+      ['When', `${dateTime(booking.startsAt)} to ${dateTime(endsAt).slice(11)}`],
+      ['Room', booking.room],
+      ...(isProcedure
+        ? ([
+            ['Operator', booking.operatorName ?? 'None'],
+            [
+              'Anaesthesia',
+              booking.anaesthesia ? anaesthesiaLabels[booking.anaesthesia] : 'Not stated',
+            ],
+          ] as [string, string][])
+        : ([
+            [
+              'Modality',
+              booking.modality ? followUpModalityLabels[booking.modality] : 'Not stated',
+            ],
+          ] as [string, string][])),
+      ['State', bookingStateLabels[booking.state]],
+    ]);
+    if (!isProcedure) continue;
+    if (!booking.checklist) {
+      line(doc, 'Checklist: completed before the procedure was confirmed.', muted);
+      continue;
+    }
+    write(doc, { weight: 'medium' }, 'Checklist');
+    for (const item of booking.checklist) {
+      line(
+        doc,
+        `${item.label}: ${checklistStateWords[item.state]}` +
+          (item.overrideReason ? ` (reason: ${item.overrideReason})` : ''),
+      );
+    }
+  }
+  if (!treatment) return;
+  heading(doc, 'Treatment');
+  facts(doc, [
+    ['Performed', dateTime(new Date(treatment.performedAt))],
+    ['Operator', treatment.operator.displayName],
+    ['Applicators used', treatment.applicatorsUsed],
+    ['Deviation from the plan', treatment.deviation ?? 'None recorded'],
+    ['Complication (Clavien–Dindo)', complicationGradeLabels[treatment.complicationGrade]],
+    ...(treatment.complicationNote
+      ? [['Complication note', treatment.complicationNote] as [string, string]]
+      : []),
+    [
+      'Follow-up imaging proposed',
+      dateTime(new Date(treatment.followUp.proposedDate)).slice(0, 10),
+    ],
+  ]);
+  line(doc, treatment.followUp.basis, muted);
 }
 
 /** The caution and the page number under the content area of every page. */

@@ -1,4 +1,5 @@
 import { Entity, Index, ManyToOne, Property, type Ref } from '@mikro-orm/core';
+import type { EntityManager } from '@mikro-orm/postgresql';
 import type { BookingHistoryEntry } from '@emberline/shared';
 import { BaseEntity } from '../../common/base.entity';
 import { User } from '../users/user.entity';
@@ -43,4 +44,24 @@ export class BookingEvent extends BaseEntity {
     this.changes = fields.changes ?? [];
     if (fields.at) this.at = fields.at;
   }
+}
+
+/** Appends one step to a booking's history, in the caller's unit of work. */
+export function appendBookingEvent(
+  em: EntityManager,
+  bookingId: string,
+  userId: string,
+  action: BookingHistoryEntry['action'],
+  reason: string | null = null,
+  changes: BookingHistoryEntry['changes'] = [],
+): void {
+  em.persist(
+    new BookingEvent({
+      booking: em.getReference(ProcedureBooking, bookingId, { wrapped: true }),
+      action,
+      by: em.getReference(User, userId, { wrapped: true }),
+      reason,
+      changes,
+    }),
+  );
 }

@@ -12,7 +12,7 @@ import { ImageSeries } from '../imaging/image-series.entity';
 import type { MailService } from '../mail/mail.service';
 import { User } from '../users/user.entity';
 import { BookingEvent } from './booking-event.entity';
-import type { ProcedureBooking } from './booking.entity';
+import { ProcedureBooking } from './booking.entity';
 import { evaluateChecklist, type ChecklistEvidence } from './checklist';
 import { thresholdsInForce } from './checklist-thresholds';
 
@@ -159,4 +159,18 @@ export async function toBookingView(
       canMarkDone: isOperator && booking.state === 'confirmed' && isProcedure,
     },
   };
+}
+
+/** The booking as `toBookingView` shows it, read afresh (after a write). */
+export async function loadBookingView(
+  em: EntityManager,
+  user: SignedInUser,
+  bookingId: string,
+  mail: MailService | null,
+): Promise<BookingView> {
+  const fork = em.fork();
+  const booking = await fork.findOneOrFail(ProcedureBooking, bookingId, {
+    populate: ['clinicalCase', 'operator', 'bookedBy'],
+  });
+  return toBookingView(fork, user, booking, mail);
 }

@@ -2,18 +2,14 @@ import { LockMode } from '@mikro-orm/core';
 import type { EntityManager } from '@mikro-orm/postgresql';
 import {
   bookableTreatments,
-  checklistItemKeys,
-  type BookingHistoryEntry,
   type BookingKind,
   type BookingView,
   type CancelBooking,
-  type ChecklistItemKey,
   type CreateBooking,
   type CreateFollowUp,
   type UpdateBooking,
 } from '@emberline/shared';
-import { hasRole } from '../../common/auth-middleware';
-import { ConflictError, ForbiddenError, NotFoundError, ValidationError } from '../../common/errors';
+import { ConflictError, NotFoundError, ValidationError } from '../../common/errors';
 import type { Actor, SignedInUser } from '../../common/request-context';
 import { recordAudit } from '../audit/audit.service';
 import { Assessment } from '../assessments/assessment.entity';
@@ -25,12 +21,11 @@ import type { MailService } from '../mail/mail.service';
 import { ApplicatorProfile } from '../plans/applicator-profile.entity';
 import { NeedlePlan } from '../plans/needle-plan.entity';
 import { User } from '../users/user.entity';
-import { caseForCoordinator, maySeeCase, visibleBooking } from './booking-access';
-import { BookingEvent } from './booking-event.entity';
+import { caseForCoordinator, maySeeCase } from './booking-access';
+import { appendBookingEvent } from './booking-event.entity';
 import { bookingMail, procedureName, timeSpan, type BookingMailKind } from './booking-mail';
-import { checklistOf, toBookingView } from './booking-view';
+import { loadBookingView } from './booking-view';
 import { ProcedureBooking, roomKeyOf, type BookedApplicator } from './booking.entity';
-import { isManualItem } from './checklist';
 
 /**
  * One key for every booking write: the clash check and the insert or change happen under this
@@ -49,9 +44,9 @@ export interface BookingServiceOptions {
 }
 
 /**
- * Procedure and follow-up bookings, their checklist and confirmation (module README). Writes take
- * the booking lock, then the case's row; mail goes out after the commit, so a relay that is away
- * never holds a booking back.
+ * Procedure and follow-up bookings (module README; the checklist is `checklist.service.ts`).
+ * Writes take the booking lock, then the case's row; mail goes out after the commit, so a relay
+ * that is away never holds a booking back.
  */
 export class BookingService {
   constructor(
@@ -100,7 +95,7 @@ export class BookingService {
       booking.notes = body.notes || null;
       booking.applicators = applicators;
       em.persist(booking);
-      this.event(em, booking, user, 'booked');
+      appendBookingEvent(em, booking.id, user.id, 'booked');
       locked.status = 'booked';
       recordAudit(em, actor, {
         action: 'booking.create',
@@ -158,7 +153,7 @@ export class BookingService {
       const wasConfirmed = booking.state === 'confirmed';
       booking.state = 'booked';
       if (wasConfirmed) changes.push({ field: 'state', before: 'confirmed', after: 'booked' });
-      this.event(em, booking, user, 'rebooked', body.reason, changes);
+      appendBookingEvent(em, booking.id, user.id, 'rebooked', body.reason, changes);
       recordAudit(em, actor, {
         action: 'booking.update',
         entityType: 'case',
@@ -192,7 +187,7 @@ export class BookingService {
       }
       booking.state = 'cancelled';
       booking.sequence += 1;
-      this.event(em, booking, user, 'cancelled', body.reason);
+      appendBookingEvent(em, booking.id, user.id, 'cancelled', body.reason);
       if (kind === 'procedure') locked.status = 'decided';
       recordAudit(em, actor, {
         action: kind === 'procedure' ? 'booking.cancel' : 'follow-up.cancel',
@@ -245,7 +240,7 @@ export class BookingService {
       booking.modality = body.modality;
       booking.notes = body.notes || null;
       em.persist(booking);
-      this.event(em, booking, user, 'booked');
+      appendBookingEvent(em, booking.id, user.id, 'booked');
       recordAudit(em, actor, {
         action: 'follow-up.create',
         entityType: 'case',
@@ -258,120 +253,8 @@ export class BookingService {
     return this.view(user, bookingId);
   }
 
-  // ------------------------------------------------------------ checklist and confirmation
-
-  /** A manual item ticked or unticked, by a coordinator of the board or the booking's operator. */
-  async tick(
-    user: SignedInUser,
-    actor: Actor,
-    bookingId: string,
-    key: string,
-    isMet: boolean,
-  ): Promise<BookingView> {
-    const booking = await this.checkableBooking(user, bookingId, key);
-    const itemKey = key as ChecklistItemKey;
-    if (!isManualItem(itemKey)) {
-      throw new ValidationError(`key: ${key} is checked automatically against the case’s record.`, [
-        { path: 'key', message: 'This item is checked automatically; override it instead.' },
-      ]);
-    }
-    booking.checklist = {
-      ...booking.checklist,
-      [itemKey]: { isMet, checkedById: user.id, checkedAt: new Date().toISOString() },
-    };
-    recordAudit(this.em, actor, {
-      action: 'checklist.tick',
-      entityType: 'case',
-      entityId: booking.clinicalCase.id,
-      detail: { bookingId: booking.id, key, isMet },
-    });
-    await this.em.flush();
-    return this.view(user, booking.id);
-  }
-
-  /** A failed automatic item overridden with its reason, kept on the item and in the history. */
-  async override(
-    user: SignedInUser,
-    actor: Actor,
-    bookingId: string,
-    key: string,
-    reason: string,
-  ): Promise<BookingView> {
-    const booking = await this.checkableBooking(user, bookingId, key);
-    const itemKey = key as ChecklistItemKey;
-    if (isManualItem(itemKey)) {
-      throw new ValidationError(`key: ${key} is ticked, not overridden.`, [
-        { path: 'key', message: 'A manual item is ticked by the person who checked it.' },
-      ]);
-    }
-    const item = (await checklistOf(this.em, booking))?.items.find((entry) => entry.key === key);
-    if (!item || item.state === 'met') {
-      throw new ConflictError(`${item?.label ?? key} is met: there is nothing to override.`);
-    }
-    const at = new Date();
-    booking.checklist = {
-      ...booking.checklist,
-      [itemKey]: {
-        ...booking.checklist[itemKey],
-        override: { reason, byId: user.id, at: at.toISOString() },
-      },
-    };
-    this.event(this.em, booking, user, 'override', reason, [
-      { field: key, before: item.finding, after: 'overridden' },
-    ]);
-    recordAudit(this.em, actor, {
-      action: 'checklist.override',
-      entityType: 'case',
-      entityId: booking.clinicalCase.id,
-      detail: { bookingId: booking.id, key, reason },
-    });
-    await this.em.flush();
-    return this.view(user, booking.id);
-  }
-
-  /** Confirms a booked procedure whose every item is met or overridden (409 listing the rest). */
-  async confirm(user: SignedInUser, actor: Actor, bookingId: string): Promise<BookingView> {
-    const booking = await visibleBooking(this.em, user, bookingId);
-    if (!hasRole(user, 'nurse-coordinator')) {
-      throw new ForbiddenError('Only a nurse coordinator of the case’s board confirms a booking.');
-    }
-    if (booking.kind !== 'procedure') {
-      throw new ConflictError('A follow-up imaging booking has no checklist to confirm.');
-    }
-    if (booking.state !== 'booked') {
-      throw new ConflictError(
-        `Only a booked procedure is confirmed; this one is ${booking.state}.`,
-      );
-    }
-    const checklist = await checklistOf(this.em, booking);
-    const failing = checklist?.items.filter(
-      (item) => item.state !== 'met' && item.state !== 'overridden',
-    );
-    if (failing?.length) {
-      throw new ConflictError(
-        `The checklist is not complete: ${failing
-          .map((item) => `${item.label} (${item.state === 'open' ? 'not ticked' : item.finding})`)
-          .join('; ')}. Tick the items, or override a failed one with its reason.`,
-      );
-    }
-    booking.state = 'confirmed';
-    this.event(this.em, booking, user, 'confirmed');
-    recordAudit(this.em, actor, {
-      action: 'booking.confirm',
-      entityType: 'case',
-      entityId: booking.clinicalCase.id,
-      detail: { bookingId: booking.id },
-    });
-    await this.em.flush();
-    return this.view(user, booking.id);
-  }
-
-  async view(user: SignedInUser, bookingId: string): Promise<BookingView> {
-    const em = this.em.fork();
-    const booking = await em.findOneOrFail(ProcedureBooking, bookingId, {
-      populate: ['clinicalCase', 'operator', 'bookedBy'],
-    });
-    return toBookingView(em, user, booking, this.options.mail);
+  view(user: SignedInUser, bookingId: string): Promise<BookingView> {
+    return loadBookingView(this.em, user, bookingId, this.options.mail);
   }
 
   // ------------------------------------------------------------ rules
@@ -423,32 +306,6 @@ export class BookingService {
       name: profile.name,
       version: profile.version,
     }));
-  }
-
-  private async checkableBooking(
-    user: SignedInUser,
-    bookingId: string,
-    key: string,
-  ): Promise<ProcedureBooking> {
-    const booking = await visibleBooking(this.em, user, bookingId);
-    if (!(checklistItemKeys as readonly string[]).includes(key)) {
-      throw new NotFoundError('The checklist item');
-    }
-    const isOperator = booking.operator?.id === user.id;
-    if (!hasRole(user, 'nurse-coordinator') && !isOperator) {
-      throw new ForbiddenError(
-        'Only a nurse coordinator of the case’s board or the booking’s operator works the checklist.',
-      );
-    }
-    if (booking.kind !== 'procedure') {
-      throw new ConflictError('A follow-up imaging booking has no checklist.');
-    }
-    if (booking.state !== 'booked') {
-      throw new ConflictError(
-        `The checklist changes while the procedure is booked; this one is ${booking.state}.`,
-      );
-    }
-    return booking;
   }
 
   private async lockCalendar(em: EntityManager): Promise<void> {
@@ -515,25 +372,6 @@ export class BookingService {
     }
     const operatorName = clash.operator?.getEntity().displayName ?? 'The operator';
     throw new ConflictError(`Operator clash: ${operatorName} is booked ${span} for ${whose}.`);
-  }
-
-  private event(
-    em: EntityManager,
-    booking: ProcedureBooking,
-    user: SignedInUser,
-    action: BookingHistoryEntry['action'],
-    reason: string | null = null,
-    changes: BookingHistoryEntry['changes'] = [],
-  ): void {
-    em.persist(
-      new BookingEvent({
-        booking: em.getReference(ProcedureBooking, booking.id, { wrapped: true }),
-        action,
-        by: em.getReference(User, user.id, { wrapped: true }),
-        reason,
-        changes,
-      }),
-    );
   }
 
   // ------------------------------------------------------------ mail

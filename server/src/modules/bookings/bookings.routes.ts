@@ -14,6 +14,7 @@ import { actorOf, requireRole, requireSignIn, signedInUser } from '../../common/
 import { parse, pathId } from '../../common/validate';
 import type { MailService } from '../mail/mail.service';
 import { BookingService } from './booking.service';
+import { ChecklistService } from './checklist.service';
 import { bookingQueue, caseLogistics } from './logistics';
 import { recordTreatment } from './treatment';
 
@@ -40,6 +41,7 @@ export interface BookingRouteOptions {
 export function bookingRoutes(orm: MikroORM, options: BookingRouteOptions): Router {
   const router = Router();
   const bookings = () => new BookingService(orm.em, options);
+  const checklist = () => new ChecklistService(orm.em, options.mail);
   const caseId = (value: unknown) => pathId(value, 'The case');
   const bookingId = (value: unknown) => pathId(value, 'The booking');
 
@@ -112,7 +114,7 @@ export function bookingRoutes(orm: MikroORM, options: BookingRouteOptions): Rout
   router.put('/bookings/:id/checklist/:key', requireSignIn, async (request, response) => {
     const { isMet } = parse(checklistTickSchema, request.body);
     response.json(
-      await bookings().tick(
+      await checklist().tick(
         signedInUser(request),
         actorOf(request),
         bookingId(request.params.id),
@@ -125,7 +127,7 @@ export function bookingRoutes(orm: MikroORM, options: BookingRouteOptions): Rout
   router.post('/bookings/:id/checklist/:key/override', requireSignIn, async (request, response) => {
     const { reason } = parse(checklistOverrideSchema, request.body);
     response.json(
-      await bookings().override(
+      await checklist().override(
         signedInUser(request),
         actorOf(request),
         bookingId(request.params.id),
@@ -137,7 +139,7 @@ export function bookingRoutes(orm: MikroORM, options: BookingRouteOptions): Rout
 
   router.post('/bookings/:id/confirm', requireSignIn, async (request, response) => {
     response.json(
-      await bookings().confirm(
+      await checklist().confirm(
         signedInUser(request),
         actorOf(request),
         bookingId(request.params.id),

@@ -13,7 +13,7 @@ import { MailCatcher, type CaughtMessage } from '../../server/src/modules/mail/m
 import { MailDelivery } from '../../server/src/modules/mail/mail-delivery.entity';
 import { startTestApp, type ApiClient, type TestApp } from '../support/test-app';
 import { resetToDemo, type DemoIds } from '../support/demo';
-import { decidedCase, signedIn } from './booking-fixtures';
+import { addUser, decidedCase, signedIn } from './booking-fixtures';
 import { boardMembers } from './decision-fixtures';
 
 let testApp: TestApp;
@@ -25,6 +25,7 @@ let coordinator: ApiClient;
 let idOf: (email: string) => string;
 let firstCase: string;
 let secondCase: string;
+let thirdCase: string;
 
 const catcherSettings = { keep: 200, maxMessageBytes: 5 * 1024 * 1024 };
 const team = [
@@ -129,6 +130,11 @@ beforeAll(async () => {
     boardId: ids.northBoard,
     outcome: 'tace',
   });
+  thirdCase = await decidedCase(testApp.orm, {
+    caseCode: 'NLB-2027-303',
+    boardId: ids.northBoard,
+    outcome: 'ablation-mw',
+  });
 }, 60_000);
 
 afterAll(async () => {
@@ -209,6 +215,45 @@ describe('a booking’s mails', () => {
     });
     expect(message.text).not.toContain('The board asked');
     assertNothingIdentifying(message);
+  });
+});
+
+describe('a change of operator', () => {
+  it('sends the new team the update and the previous operator the cancellation, one UID', async () => {
+    const secondOperatorId = await addUser(testApp.orm, {
+      email: 'second.operator@emberline.test',
+      displayName: 'Dr Aino Virtanen',
+      roles: ['proceduralist'],
+      boardId: ids.northBoard,
+      specialty: 'interventional-radiology',
+    });
+    const booked = await book(thirdCase, { room: 'Interventional suite 4' });
+    expect(booked.status, JSON.stringify(booked.body)).toBe(201);
+    const bookingId = (booked.body as BookingView).id;
+    await onlyMessage('Procedure booked: NLB-2027-303 Microwave ablation');
+    const changed = await coordinator.patch(`/api/cases/${thirdCase}/booking`, {
+      operatorId: secondOperatorId,
+      reason: 'Dr Tanaka is on leave that week.',
+    });
+    expect(changed.status, JSON.stringify(changed.body)).toBe(200);
+    const update = await onlyMessage('Procedure changed: NLB-2027-303 Microwave ablation');
+    expect([...update.to].sort()).toEqual([
+      'coordinator@emberline.test',
+      'presenter@emberline.test',
+      'second.operator@emberline.test',
+    ]);
+    const cancellation = await onlyMessage('Procedure cancelled: NLB-2027-303 Microwave ablation');
+    expect(cancellation.to).toEqual(['proceduralist@emberline.test']);
+    expect(invitation(update)).toMatchObject({
+      method: 'REQUEST',
+      uid: `${bookingId}@emberline.invalid`,
+      sequence: 1,
+    });
+    expect(invitation(cancellation)).toMatchObject({
+      method: 'CANCEL',
+      uid: `${bookingId}@emberline.invalid`,
+      sequence: 1,
+    });
   });
 });
 

@@ -757,6 +757,17 @@ describe('the treatment and the follow-up', () => {
     });
     const clash = await coordinator.post(`/api/cases/${ablationCase}/follow-up`, body);
     expect(clash.status).toBe(409);
+    // The care team's mail, as for a procedure (no operator on a follow-up).
+    const followUpId = (response.body as BookingView).id;
+    const mails = await testApp.orm.em
+      .fork()
+      .find(MailDelivery, { reference: `booking:${followUpId}` });
+    expect(mails.map((mail) => [mail.subject, [...mail.recipients].sort()])).toEqual([
+      [
+        'Follow-up imaging booked: NLB-2026-014 Contrast-enhanced CT',
+        ['coordinator@emberline.test', 'presenter@emberline.test'],
+      ],
+    ]);
     expect((await logistics(presenter, ablationCase)).followUp?.room).toBe('CT 2');
   });
 

@@ -42,7 +42,7 @@ export function timeSpan(startsAt: Date, endsAt: Date, timeZone: string): string
 
 export function procedureName(booking: ProcedureBooking, outcome: string | null): string {
   if (booking.kind === 'follow-up-imaging') {
-    return `follow-up ${booking.modality ? followUpModalityLabels[booking.modality] : 'imaging'}`;
+    return booking.modality ? followUpModalityLabels[booking.modality] : 'imaging';
   }
   return outcome && outcome in treatmentLabels
     ? treatmentLabels[outcome as keyof typeof treatmentLabels]

@@ -33,6 +33,9 @@ import { structuresRoutes } from './modules/structures/structures.routes';
 import { summaryPdfRoutes } from './modules/summary-pdf/summary-pdf.routes';
 import { devMailRoutes } from './modules/mail/dev-mail.routes';
 import type { MailCatcher } from './modules/mail/mail-catcher';
+import type { MailService } from './modules/mail/mail.service';
+import { bookingRoutes } from './modules/bookings/bookings.routes';
+import { checklistThresholdRoutes } from './modules/bookings/checklist-thresholds.routes';
 
 export interface Services {
   orm: MikroORM;
@@ -51,6 +54,11 @@ export interface Services {
   assessments?: Pick<AssessmentRuntime, 'queue' | 'displays'> | null;
   /** The local SMTP catcher when it runs in this process (demo, tests): adds /api/dev/mail. */
   mailCatcher?: MailCatcher | null;
+  /**
+   * Outgoing e-mail (booking notifications); without it bookings still work and their views say
+   * that no notification was sent.
+   */
+  mail?: MailService | null;
 }
 
 export const samlCallbackPath = '/api/auth/saml/callback';
@@ -113,6 +121,14 @@ export function createApp(services: Services): Express {
   app.use('/api', summaryPdfRoutes(orm));
   app.use(
     '/api',
+    bookingRoutes(orm, {
+      mail: services.mail ?? null,
+      timeZone: config.hospitalTimeZone ?? 'UTC',
+      log: services.log,
+    }),
+  );
+  app.use(
+    '/api',
     assessmentRoutes(orm, {
       queue: services.assessments?.queue ?? null,
       displays:
@@ -122,6 +138,7 @@ export function createApp(services: Services): Express {
       log: services.log,
     }),
   );
+  app.use('/api/admin', checklistThresholdRoutes(orm));
   app.use('/api/admin', adminRoutes(orm, boardRoom));
   app.use('/api/admin', adminProfileRoutes(orm));
   if (services.mailCatcher) app.use('/api/dev/mail', devMailRoutes(orm, services.mailCatcher));

@@ -36,6 +36,11 @@ export interface AppConfig {
   saml: SamlSettings | null;
   /** Folder of the built Angular app to serve, or null for API only. */
   clientDist: string | null;
+  /**
+   * The IANA time zone the hospital's times are written in (booking mails, clash messages);
+   * `HOSPITAL_TIME_ZONE`, UTC when unset. Stored times are UTC instants whatever it says.
+   */
+  hospitalTimeZone?: string;
 }
 
 const secretFile = fileURLToPath(new URL('../../.data/session-secret', import.meta.url));
@@ -70,5 +75,17 @@ export function configFromEnvironment(env = process.env): AppConfig {
     trustProxy: env.TRUST_PROXY ? Number(env.TRUST_PROXY) : false,
     saml: null,
     clientDist: null,
+    hospitalTimeZone: hospitalTimeZone(env.HOSPITAL_TIME_ZONE),
   };
+}
+
+/** The zone as given, checked against the runtime's IANA data; a wrong name stops the start. */
+function hospitalTimeZone(value: string | undefined): string {
+  const zone = value?.trim() || 'UTC';
+  try {
+    new Intl.DateTimeFormat('en-GB', { timeZone: zone });
+  } catch {
+    throw new Error(`HOSPITAL_TIME_ZONE: "${zone}" is not an IANA time zone (e.g. Europe/Oslo)`);
+  }
+  return zone;
 }

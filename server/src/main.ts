@@ -16,6 +16,7 @@ import { BoardRoom } from './modules/board-session/board-room';
 import { boardSessionAdapter, boardSessionFeatures } from './modules/board-session/board-session';
 import { startDemoMailCatcher } from './modules/mail/mail-catcher';
 import { MailService, mailSettingsFromEnvironment } from './modules/mail/mail.service';
+import { startFollowUpDueCheck } from './modules/bookings/follow-up-due';
 
 const config = configFromEnvironment();
 config.clientDist =
@@ -54,6 +55,13 @@ const app = createApp({
   assessments,
   boardRoom,
   mailCatcher,
+  mail,
+});
+// Treated cases whose follow-up imaging falls due: moved to follow-up-due, coordinators told once.
+const followUpCheck = startFollowUpDueCheck(orm, mail, {
+  timeZone: config.hospitalTimeZone ?? 'UTC',
+  intervalMinutes: Number(process.env.FOLLOW_UP_CHECK_MINUTES ?? 15),
+  log: logger.error,
 });
 
 const port = Number(process.env.PORT ?? 4300);
@@ -72,6 +80,7 @@ await progress.start();
 server.listen(port, host, () => logger.info(`Emberline listening on http://${host}:${port}`));
 
 async function shutDown(): Promise<void> {
+  followUpCheck.stop();
   await io.close();
   await sessionFeatures.close();
   await socketAdapter?.close();

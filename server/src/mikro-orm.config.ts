@@ -22,6 +22,10 @@ import { SafetyProfileVersion } from './modules/plans/safety-profile-version.ent
 import { Attendance } from './modules/meetings/attendance.entity';
 import { Minutes } from './modules/meetings/minutes.entity';
 import { MailDelivery } from './modules/mail/mail-delivery.entity';
+import { ProcedureBooking } from './modules/bookings/booking.entity';
+import { BookingEvent } from './modules/bookings/booking-event.entity';
+import { ChecklistThreshold } from './modules/bookings/checklist-threshold.entity';
+import { TreatmentRecord } from './modules/bookings/treatment-record.entity';
 import { Vote } from './modules/votes/vote.entity';
 import { ItemComment } from './modules/votes/comment.entity';
 import { Annotation } from './modules/annotations/annotation.entity';
@@ -73,6 +77,10 @@ export const entities = [
   Decision,
   DecisionAmendment,
   MailDelivery,
+  ProcedureBooking,
+  BookingEvent,
+  ChecklistThreshold,
+  TreatmentRecord,
 ];
 
 /** "NeedlePlan" → "The needle plan": how a miss names what was looked for. */

@@ -219,13 +219,19 @@ describe('before the decision', () => {
     expect(forSurgery.status).toBe(400);
     expect(problem(forSurgery.body).errors?.map((error) => error.path)).toEqual(['planId']);
   });
+
+  it('takes an urgency of routine, priority or urgent only (400 naming urgency)', async () => {
+    const response = await decide(proceduralist, { urgency: 'tomorrow' });
+    expect(response.status).toBe(400);
+    expect(problem(response.body).errors?.map((error) => error.path)).toEqual(['urgency']);
+  });
 });
 
 describe('the decision', () => {
   let decision: DecisionView;
 
   it('is signed by a proceduralist of the board with quorum, and answers the decision', async () => {
-    const response = await decide(proceduralist);
+    const response = await decide(proceduralist, { urgency: 'priority' });
     expect(response.status, JSON.stringify(response.body)).toBe(201);
     decision = response.body as DecisionView;
     expect(decision).toMatchObject({
@@ -239,6 +245,7 @@ describe('the decision', () => {
       signer: { id: idOf('proceduralist@emberline.test') },
       signInMethod: 'local',
       quorumOverrideReason: null,
+      urgency: 'priority',
       amendments: [],
     });
     expect(decision.quorum).toMatchObject({ isMet: true, missing: [], presentCount: 2 });

@@ -27,6 +27,7 @@ import { ItemComment } from '../../server/src/modules/votes/comment.entity';
 import { Annotation } from '../../server/src/modules/annotations/annotation.entity';
 import { Decision } from '../../server/src/modules/decisions/decision.entity';
 import { quorumOf } from '../../server/src/modules/board-session/quorum';
+import { ProcedureBooking } from '../../server/src/modules/bookings/booking.entity';
 
 /**
  * Every role and an anonymous client against every route of the foundation, one expected status a
@@ -83,6 +84,9 @@ interface Context {
   keyImageId: string;
   /** A meeting of the north board closed by its chair, with its minutes. */
   closedMeetingId: string;
+  /** A decided north case (TACE) with a booked procedure, the proceduralist its operator. */
+  bookedCaseId: string;
+  bookingId: string;
 }
 
 interface Route {
@@ -678,6 +682,108 @@ const routes: Route[] = [
       }),
     expected: row(401, 404, 403, 403, 409, 403, 404),
   },
+  // Logistics (bookings/README.md): coordinators of the board book and confirm; the operator
+  // works the checklist and records the treatment; whoever sees the case reads it.
+  {
+    name: 'GET /api/bookings/queue',
+    call: (c) => c.get('/api/bookings/queue'),
+    expected: row(401, 403, 403, 403, 403, 200, 403),
+  },
+  {
+    name: 'GET /api/cases/:north-decided/logistics',
+    call: (c, x) => c.get(`/api/cases/${x.ids.northDecided}/logistics`),
+    expected: row(401, 404, 200, 200, 200, 200, 404),
+  },
+  {
+    name: 'GET /api/admin/checklist-thresholds',
+    call: (c) => c.get('/api/admin/checklist-thresholds'),
+    expected: row(401, 200, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'PUT /api/admin/checklist-thresholds/inr-max',
+    call: (c) =>
+      c.put('/api/admin/checklist-thresholds/inr-max', {
+        value: 1.8,
+        source: 'Matrix: the value confirmed against the local protocol.',
+      }),
+    expected: row(401, 200, 403, 403, 403, 403, 403),
+  },
+  {
+    name: 'POST /api/cases/:north-decided/booking',
+    call: (c, x) =>
+      c.post(`/api/cases/${x.ids.northDecided}/booking`, {
+        startsAt: '2030-02-04T08:00:00Z',
+        durationMin: 90,
+        room: 'Matrix suite',
+        operatorId: x.proceduralistUserId,
+        anaesthesia: 'sedation',
+      }),
+    expected: row(401, 404, 403, 403, 403, 201, 404),
+  },
+  {
+    name: 'PUT /api/bookings/:booking/checklist/consent',
+    call: (c, x) => c.put(`/api/bookings/${x.bookingId}/checklist/consent`, { isMet: true }),
+    expected: row(401, 404, 403, 403, 200, 200, 404),
+  },
+  {
+    // The case has no laboratory panel: the INR item fails and may be overridden.
+    name: 'POST /api/bookings/:booking/checklist/inr/override',
+    call: (c, x) =>
+      c.post(`/api/bookings/${x.bookingId}/checklist/inr/override`, {
+        reason: 'Matrix: INR taken on the ward this morning.',
+      }),
+    expected: row(401, 404, 403, 403, 200, 200, 404),
+  },
+  {
+    // Items still open: the coordinator is told 409.
+    name: 'POST /api/bookings/:booking/confirm',
+    call: (c, x) => c.post(`/api/bookings/${x.bookingId}/confirm`),
+    expected: row(401, 404, 403, 403, 403, 409, 404),
+  },
+  {
+    name: 'PATCH /api/cases/:booked/booking',
+    call: (c, x) =>
+      c.patch(`/api/cases/${x.bookedCaseId}/booking`, {
+        room: 'Matrix suite 2',
+        reason: 'Matrix: room swap.',
+      }),
+    expected: row(401, 404, 403, 403, 403, 200, 404),
+  },
+  {
+    // The operator, but the booking is not confirmed: 409.
+    name: 'POST /api/cases/:booked/treatment',
+    call: (c, x) =>
+      c.post(`/api/cases/${x.bookedCaseId}/treatment`, {
+        performedAt: '2026-01-05T10:00:00Z',
+        applicatorsUsed: 'Microcatheter',
+        complicationGrade: 'none',
+      }),
+    expected: row(401, 404, 403, 403, 409, 403, 404),
+  },
+  {
+    // Not treated yet: the coordinator is told 409.
+    name: 'POST /api/cases/:booked/follow-up',
+    call: (c, x) =>
+      c.post(`/api/cases/${x.bookedCaseId}/follow-up`, {
+        startsAt: '2030-03-04T08:00:00Z',
+        durationMin: 30,
+        room: 'CT 1',
+        modality: 'ct',
+      }),
+    expected: row(401, 404, 403, 403, 403, 409, 404),
+  },
+  {
+    name: 'DELETE /api/cases/:booked/follow-up (none)',
+    call: (c, x) =>
+      c.send('delete', `/api/cases/${x.bookedCaseId}/follow-up`, { reason: 'Matrix.' }),
+    expected: row(401, 404, 403, 403, 403, 404, 404),
+  },
+  {
+    name: 'DELETE /api/cases/:booked/booking',
+    call: (c, x) =>
+      c.send('delete', `/api/cases/${x.bookedCaseId}/booking`, { reason: 'Matrix: cancelled.' }),
+    expected: row(401, 404, 403, 403, 403, 200, 404),
+  },
   {
     name: 'GET /api/meetings/:closed/minutes',
     call: (c, x) => c.get(`/api/meetings/${x.closedMeetingId}/minutes`),
@@ -943,7 +1049,37 @@ describe.each(who)('role × route matrix: %s', (role) => {
       chair: em.getReference(User, proceduralistUser.id, { wrapped: true }),
       scheduledBy: em.getReference(User, proceduralistUser.id, { wrapped: true }),
     });
-    await em.persist([comment, annotation, decidedAnnotation, decision, closedMeeting]).flush();
+    const bookedCase = new ClinicalCase({
+      caseCode: 'NLB-2026-MX2',
+      board: em.getReference(Board, ids.northBoard, { wrapped: true }),
+      presenter: presenterRef,
+      yearOfBirth: 1961,
+      sex: 'male',
+      primaryDiagnosis: 'hcc',
+    });
+    bookedCase.status = 'booked';
+    const bookedDecision = new Decision({
+      clinicalCase: em.getReference(ClinicalCase, bookedCase.id, { wrapped: true }),
+      outcome: 'tace',
+      rationale: 'Matrix fixture.',
+      signer: em.getReference(User, proceduralistUser.id, { wrapped: true }),
+      signInMethod: 'local',
+      quorum: quorumOf([], []),
+    });
+    const booking = new ProcedureBooking({
+      clinicalCase: em.getReference(ClinicalCase, bookedCase.id, { wrapped: true }),
+      kind: 'procedure',
+      startsAt: new Date('2030-02-05T08:00:00Z'),
+      durationMin: 60,
+      room: 'Matrix angiography',
+      bookedBy: em.getReference(User, proceduralistUser.id, { wrapped: true }),
+    });
+    booking.operator = em.getReference(User, proceduralistUser.id, { wrapped: true });
+    booking.anaesthesia = 'sedation';
+    await em
+      .persist([comment, annotation, decidedAnnotation, decision, closedMeeting, bookedCase])
+      .flush();
+    await em.persist([bookedDecision, booking]).flush();
     const chair = new ApiClient(testApp.app);
     expect((await chair.signIn('proceduralist@emberline.test', demoPassword)).status).toBe(200);
     expect((await chair.post(`/api/meetings/${closedMeeting.id}/close`)).status).toBe(200);
@@ -979,6 +1115,8 @@ describe.each(who)('role × route matrix: %s', (role) => {
       decidedAnnotationId: decidedAnnotation.id,
       keyImageId: (keptImage.body as { id: string }).id,
       closedMeetingId: closedMeeting.id,
+      bookedCaseId: bookedCase.id,
+      bookingId: booking.id,
     };
     client = new ApiClient(testApp.app);
     if (role !== 'anonymous')

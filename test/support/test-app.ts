@@ -12,6 +12,7 @@ import {
   type AssessmentRuntimeOptions,
 } from '../../server/src/modules/assessments/assessment-runtime';
 import { MailCatcher } from '../../server/src/modules/mail/mail-catcher';
+import { MailService, type MailSettings } from '../../server/src/modules/mail/mail.service';
 
 export interface TestApp {
   app: Express;
@@ -20,6 +21,8 @@ export interface TestApp {
   logs: string[];
   /** The local SMTP catcher, when the suite asked for one. */
   mailCatcher: MailCatcher | null;
+  /** The mail service the app sends with, when the suite asked for one. */
+  mail: MailService | null;
   close(): Promise<void>;
 }
 
@@ -33,6 +36,11 @@ export async function startTestApp(
     boardRoom?: Services['boardRoom'];
     /** Starts a local SMTP catcher on a free port and mounts /api/dev/mail. */
     mailCatcher?: boolean;
+    /**
+     * Starts the mail service (pg-boss queue and worker, polled fast) and hands it to the app;
+     * it sends to `smtpUrl`, else to the suite's catcher.
+     */
+    mail?: Partial<MailSettings>;
   } = {},
 ): Promise<TestApp> {
   const url = inject('databaseUrl');
@@ -53,15 +61,37 @@ export async function startTestApp(
   const mailCatcher = options.mailCatcher
     ? await MailCatcher.start({ port: 0, keep: 200, maxMessageBytes: 5 * 1024 * 1024 })
     : null;
+  const log = (message: string, error?: unknown) =>
+    logs.push(`${message} ${error instanceof Error ? error.stack : String(error ?? '')}`);
+  const smtpUrl = options.mail?.smtpUrl ?? mailCatcher?.url;
+  if (options.mail && !smtpUrl) throw new Error('mail needs an smtpUrl or the mail catcher');
+  const mail =
+    options.mail && smtpUrl
+      ? await MailService.start(
+          orm,
+          {
+            connectionString: url,
+            ignoreTls: true,
+            from: 'Emberline <no-reply@emberline.invalid>',
+            retryLimit: 10,
+            retryDelaySeconds: 1,
+            pollingIntervalSeconds: 0.5,
+            maintenanceIntervalSeconds: 60,
+            ...options.mail,
+            smtpUrl,
+          },
+          log,
+        )
+      : null;
   const app = createApp({
     assessments,
     mailCatcher,
+    mail,
     boardRoom: options.boardRoom,
     orm,
     sessionPool,
     config,
-    log: (message, error) =>
-      logs.push(`${message} ${error instanceof Error ? error.stack : String(error ?? '')}`),
+    log,
   });
   return {
     app,
@@ -69,7 +99,9 @@ export async function startTestApp(
     config,
     logs,
     mailCatcher,
+    mail,
     async close() {
+      await mail?.stop();
       await mailCatcher?.close();
       await sessionPool.end();
       await orm.close();

@@ -73,6 +73,19 @@ export const auditActions = [
   'role-policy.update',
   'dev-mail.list',
   'dev-mail.attachment-read',
+  'bookings.queue-read',
+  'logistics.read',
+  'booking.create',
+  'booking.update',
+  'booking.cancel',
+  'booking.confirm',
+  'checklist.tick',
+  'checklist.override',
+  'checklist-threshold.update',
+  'treatment.record',
+  'follow-up.create',
+  'follow-up.cancel',
+  'follow-up.due',
 ] as const;
 export type AuditAction = (typeof auditActions)[number];
 
@@ -150,6 +163,19 @@ export const auditActionLabels: Record<AuditAction, string> = {
   'applicator-profile.update': 'Applicator profile changed',
   'safety-profile.create': 'Safety profile created',
   'safety-profile.update': 'Safety profile changed',
+  'bookings.queue-read': 'Booking queue listed',
+  'logistics.read': 'Case logistics read (bookings, checklist, treatment, follow-up)',
+  'booking.create': 'Procedure booked',
+  'booking.update': 'Booking changed (rebooked)',
+  'booking.cancel': 'Booking cancelled',
+  'booking.confirm': 'Booking confirmed after its checklist',
+  'checklist.tick': 'Checklist item ticked or unticked',
+  'checklist.override': 'Failed checklist item overridden, with its reason',
+  'checklist-threshold.update': 'Checklist threshold changed',
+  'treatment.record': 'Treatment recorded by the operator',
+  'follow-up.create': 'Follow-up imaging booked',
+  'follow-up.cancel': 'Follow-up imaging cancelled',
+  'follow-up.due': 'Follow-up imaging fell due; coordinators notified',
 };
 
 export interface AuditEventView {

@@ -8,6 +8,7 @@
  * RFC 9457 form the HTTP API answers.
  */
 import { z } from 'zod';
+import { bookingUrgencies, type BookingUrgency } from './bookings';
 import type { ProblemDetails } from './problem';
 import { lpsPointSchema } from './plans';
 import type { Specialty } from './roles';
@@ -204,6 +205,8 @@ export const recordDecisionSchema = z
     password: z.string().max(200).optional(),
     /** Recording without quorum: the chair's reason, kept with the decision. */
     quorumOverrideReason: z.string().trim().min(1).max(1000).optional(),
+    /** How soon the board wants the procedure; routine when not given. */
+    urgency: z.enum(bookingUrgencies).optional(),
   })
   .superRefine((value, context) => {
     const isAblation = ablationTreatments.includes(value.outcome);
@@ -255,6 +258,8 @@ export interface DecisionView {
   quorum: QuorumView;
   /** Present when recorded without quorum: the chair's reason. */
   quorumOverrideReason: string | null;
+  /** How soon the board wants the procedure (routine unless the signer said otherwise). */
+  urgency: BookingUrgency;
   amendments: AmendmentView[];
 }
 

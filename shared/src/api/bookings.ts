@@ -185,7 +185,18 @@ export interface BookingView extends BookingSummary {
   checklist: ChecklistView | null;
   history: BookingHistoryEntry[];
   notifications: NotificationView[];
-  permissions: { canEdit: boolean; canConfirm: boolean; canMarkDone: boolean };
+  /**
+   * False when the server runs without an SMTP relay: bookings work, but no notification was
+   * sent (and `notifications` stays empty).
+   */
+  isMailEnabled: boolean;
+  /**
+   * `canEdit`: rebook or cancel (a coordinator of the board, booking not done or cancelled);
+   * `canCheck`: tick and override checklist items (the coordinator, and the booking's operator);
+   * `canConfirm`: confirm (a coordinator); `canMarkDone`: record the treatment (the operator, once
+   * confirmed).
+   */
+  permissions: { canEdit: boolean; canCheck: boolean; canConfirm: boolean; canMarkDone: boolean };
 }
 
 // ---------------------------------------------------------------- checklist
@@ -206,6 +217,16 @@ export const manualChecklistItems: readonly ChecklistItemKey[] = [
   'anticoagulation-plan',
   'fasting',
 ];
+
+export const checklistItemLabels: Record<ChecklistItemKey, string> = {
+  consent: 'Written consent obtained',
+  'anticoagulation-plan': 'Plan for anticoagulant and antiplatelet drugs agreed',
+  fasting: 'Fasting instructions given',
+  'recent-imaging': 'Recent imaging on file',
+  inr: 'INR within the limit',
+  platelets: 'Platelet count within the limit',
+  'lab-age': 'Laboratory panel recent enough',
+};
 
 export const checklistItemStates = ['open', 'met', 'not-met', 'overridden'] as const;
 export type ChecklistItemState = (typeof checklistItemStates)[number];
@@ -246,6 +267,12 @@ export const thresholdKeys = [
   'imaging-max-age-days',
 ] as const;
 export type ThresholdKey = (typeof thresholdKeys)[number];
+export const thresholdLabels: Record<ThresholdKey, string> = {
+  'inr-max': 'Highest INR accepted',
+  'platelets-min': 'Lowest platelet count accepted',
+  'lab-max-age-days': 'Oldest laboratory panel accepted (days before the start)',
+  'imaging-max-age-days': 'Oldest imaging accepted (days before the start)',
+};
 
 export interface ThresholdView {
   key: ThresholdKey;
@@ -273,6 +300,24 @@ export type UpdateThreshold = z.infer<typeof updateThresholdSchema>;
  */
 export const complicationGrades = ['none', 'I', 'II', 'IIIa', 'IIIb', 'IVa', 'IVb', 'V'] as const;
 export type ComplicationGrade = (typeof complicationGrades)[number];
+/** The grades in Emberline's own short words; the classification's paper defines them. */
+export const complicationGradeLabels: Record<ComplicationGrade, string> = {
+  none: 'No complication',
+  I: 'Grade I: off the usual course, managed with simple measures only (no specific treatment)',
+  II: 'Grade II: needed medicines beyond simple measures, a transfusion or parenteral feeding',
+  IIIa: 'Grade IIIa: needed a surgical, endoscopic or radiological intervention, no general anaesthesia',
+  IIIb: 'Grade IIIb: needed an intervention under general anaesthesia',
+  IVa: 'Grade IVa: life-threatening, intensive care, one organ failing',
+  IVb: 'Grade IVb: life-threatening, intensive care, several organs failing',
+  V: 'Grade V: death of the patient',
+};
+
+export const followUpModalities = ['ct', 'mri'] as const;
+export type FollowUpModality = (typeof followUpModalities)[number];
+export const followUpModalityLabels: Record<FollowUpModality, string> = {
+  ct: 'Contrast-enhanced CT',
+  mri: 'Contrast-enhanced MRI',
+};
 
 /** POST /api/cases/:id/treatment — the operator marks the procedure done. */
 export const recordTreatmentSchema = z

@@ -39,6 +39,12 @@ export const routes: Routes = [
         loadChildren: () => import('./meetings/meetings.routes').then((m) => m.meetingRoutes),
       },
       {
+        path: 'bookings',
+        title: 'Bookings',
+        canMatch: [roleGuard('nurse-coordinator')],
+        loadComponent: () => import('./bookings/booking-queue').then((m) => m.BookingQueue),
+      },
+      {
         path: 'admin',
         canMatch: [roleGuard('administrator')],
         loadChildren: () => import('./admin/admin.routes').then((m) => m.adminRoutes),

@@ -35,6 +35,7 @@ function toDecisionView(decision: Decision): DecisionView {
     signInMethod: decision.signInMethod,
     quorum: decision.quorum,
     quorumOverrideReason: decision.quorumOverrideReason,
+    urgency: decision.urgency,
     amendments: decision.amendments
       .getItems()
       .sort((a, b) => a.signedAt.getTime() - b.signedAt.getTime() || a.id.localeCompare(b.id))

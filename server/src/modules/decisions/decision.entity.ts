@@ -7,7 +7,7 @@ import {
   Property,
   type Ref,
 } from '@mikro-orm/core';
-import type { QuorumView, Treatment } from '@emberline/shared';
+import type { BookingUrgency, QuorumView, Treatment } from '@emberline/shared';
 import { BaseEntity } from '../../common/base.entity';
 import { ClinicalCase } from '../cases/case.entity';
 import { AgendaItem } from '../meetings/agenda-item.entity';
@@ -53,6 +53,10 @@ export class Decision extends BaseEntity {
 
   @Property({ type: 'text', nullable: true })
   quorumOverrideReason: string | null = null;
+
+  /** How soon the board wants the procedure; the coordinator's queue sorts by it. */
+  @Property({ type: 'string', length: 12, default: 'routine' })
+  urgency: BookingUrgency = 'routine';
 
   @OneToMany(() => DecisionAmendment, (amendment) => amendment.decision, {
     orderBy: { signedAt: 'asc' },

@@ -126,6 +126,7 @@ export class DecisionService {
       decision.agendaItem = em.getReference(AgendaItem, item.id, { wrapped: true });
       decision.conditions = body.conditions || null;
       decision.quorumOverrideReason = overrideReason;
+      decision.urgency = body.urgency ?? 'routine';
       em.persist(decision);
 
       const plans = await em.find(NeedlePlan, { clinicalCase: found.id });
@@ -159,6 +160,7 @@ export class DecisionService {
           agendaItemId: item.id,
           outcome: body.outcome,
           planId: body.planId ?? null,
+          urgency: decision.urgency,
           setAsidePlanIds: setAside,
           isQuorumMet: quorum.isMet,
           isQuorumOverridden: overrideReason !== null,

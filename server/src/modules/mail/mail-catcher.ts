@@ -25,6 +25,8 @@ export interface CaughtMessage {
   text: string;
   receivedAt: Date;
   attachments: CaughtAttachment[];
+  /** The message as it came over the wire (RFC 5322), for a check of everything it carries. */
+  raw: Buffer;
 }
 
 export interface MailCatcherSettings {
@@ -82,7 +84,8 @@ export class MailCatcher {
             callback(error);
             return;
           }
-          simpleParser(Buffer.concat(chunks))
+          const raw = Buffer.concat(chunks);
+          simpleParser(raw)
             .then((parsed) => {
               catcher?.keep({
                 id: randomUUID(),
@@ -98,6 +101,7 @@ export class MailCatcher {
                   size: attachment.content.length,
                   content: attachment.content,
                 })),
+                raw,
               });
               callback();
             })

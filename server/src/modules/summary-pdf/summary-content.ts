@@ -1,6 +1,12 @@
 import type { EntityManager } from '@mikro-orm/postgresql';
 import type {
+  AnaesthesiaKind,
   AssessmentView,
+  BookingKind,
+  BookingState,
+  ChecklistItemState,
+  FollowUpModality,
+  TreatmentView,
   CaseStatus,
   DecisionView,
   KeyImagePane,
@@ -24,6 +30,25 @@ import type { FileStore } from '../imaging/file-store';
 import { ImageSeries } from '../imaging/image-series.entity';
 import { KeyImage } from '../key-images/key-image.entity';
 import { tallyOf } from '../votes/tally';
+import { ProcedureBooking } from '../bookings/booking.entity';
+import { checklistOf } from '../bookings/booking-view';
+import { TreatmentRecord } from '../bookings/treatment-record.entity';
+import { toTreatmentView } from '../bookings/treatment';
+
+/** A booking of the case that was not cancelled: the procedure or its follow-up imaging. */
+export interface SummaryBooking {
+  kind: BookingKind;
+  state: BookingState;
+  startsAt: Date;
+  durationMin: number;
+  room: string;
+  /** Staff display name only. */
+  operatorName: string | null;
+  anaesthesia: AnaesthesiaKind | null;
+  modality: FollowUpModality | null;
+  /** A procedure's checklist as it stands (booked or confirmed), item by item. */
+  checklist: { label: string; state: ChecklistItemState; overrideReason: string | null }[] | null;
+}
 
 /** An assessed plan as the comparison shows it: the plan and its newest assessment, done. */
 export interface SummaryPlan {
@@ -71,10 +96,9 @@ export interface SummaryContent {
   /** The case's key images, oldest first, with their pictures read from the file store. */
   keyImages: SummaryKeyImage[];
   /**
-   * Hook for the section to come: printed only when its list has entries, and no record feeds
-   * it yet (procedure bookings are not built).
-   */
-  bookings: readonly never[];
+  /** The procedure and follow-up bookings not cancelled, by start; printed with the treatment. */
+  bookings: readonly SummaryBooking[];
+  treatment: TreatmentView | null;
 }
 
 /**
@@ -110,8 +134,48 @@ export async function loadSummaryContent(
     tallies: await discussedTallies(em, found.id),
     decision: decision ?? null,
     keyImages: keyImageStore ? await keyImagesOf(em, keyImageStore, found.id) : [],
-    bookings: [],
+    bookings: await summaryBookings(em, found.id),
+    treatment: await summaryTreatment(em, found.id),
   };
+}
+
+async function summaryBookings(em: EntityManager, caseId: string): Promise<SummaryBooking[]> {
+  const bookings = await em.find(
+    ProcedureBooking,
+    { clinicalCase: caseId, state: { $ne: 'cancelled' } },
+    { populate: ['operator'], orderBy: { startsAt: 'asc', id: 'asc' } },
+  );
+  const summaries: SummaryBooking[] = [];
+  for (const booking of bookings) {
+    const isOpen = booking.state === 'booked' || booking.state === 'confirmed';
+    const checklist = isOpen ? await checklistOf(em, booking) : null;
+    summaries.push({
+      kind: booking.kind,
+      state: booking.state,
+      startsAt: booking.startsAt,
+      durationMin: booking.durationMin,
+      room: booking.room,
+      operatorName: booking.operator?.getEntity().displayName ?? null,
+      anaesthesia: booking.anaesthesia,
+      modality: booking.modality,
+      checklist:
+        checklist?.items.map((item) => ({
+          label: item.label,
+          state: item.state,
+          overrideReason: item.override?.reason ?? null,
+        })) ?? null,
+    });
+  }
+  return summaries;
+}
+
+async function summaryTreatment(em: EntityManager, caseId: string): Promise<TreatmentView | null> {
+  const record = await em.findOne(
+    TreatmentRecord,
+    { clinicalCase: caseId },
+    { populate: ['operator'] },
+  );
+  return record ? toTreatmentView(record) : null;
 }
 
 /** Every plan whose newest assessment is done, oldest plan first: the comparison's columns. */

@@ -8,7 +8,7 @@
  *   one page            the board's votes and the signed decision, when either exists
  *   key images          two a page, oldest first, each scaled to fit its half of the page with
  *                       its caption, pane, series, author and time: only when the case has any
- *   one page            bookings: only when such records exist (none do yet)
+ *   one page            bookings and treatment: only when the case has any
  *
  * The clinical caution is printed in the footer of every page, below the content area, after
  * every page has been laid out (pages are buffered), with "Page n of N".
@@ -17,6 +17,10 @@ import { fileURLToPath } from 'node:url';
 import PDFDocument from 'pdfkit';
 import {
   BCLC_STAGE_LABELS,
+  anaesthesiaLabels,
+  bookingStateLabels,
+  complicationGradeLabels,
+  followUpModalityLabels,
   caseStatusLabels,
   clinicalCaution,
   keyImagePaneLabels,
@@ -28,9 +32,16 @@ import {
   votePositionLabels,
   type DecisionView,
   type LiverScores,
+  type TreatmentView,
 } from '@emberline/shared';
 
-import type { SummaryContent, SummaryKeyImage, SummaryPlan, SummaryTally } from './summary-content';
+import type {
+  SummaryBooking,
+  SummaryContent,
+  SummaryKeyImage,
+  SummaryPlan,
+  SummaryTally,
+} from './summary-content';
 import { leadFigures, verdictWords } from './summary-figures';
 
 /**
@@ -90,10 +101,9 @@ export function renderSummaryPdf(content: SummaryContent, now = new Date()): Pro
     doc.addPage();
     keyImagePage(doc, content.keyImages, first);
   }
-  // Hook for the section to come: its own page once its records exist.
-  if (content.bookings.length) {
+  if (content.bookings.length || content.treatment) {
     doc.addPage();
-    heading(doc, 'Booking');
+    bookingPage(doc, content.bookings, content.treatment);
   }
   footers(doc, content.caseCode);
   doc.end();
@@ -319,6 +329,75 @@ function drawKeyImage(
   }
   doc.y = y;
   line(doc, 'The picture of this key image could not be read.', muted);
+}
+
+const checklistStateWords = {
+  open: 'open',
+  met: 'met',
+  'not-met': 'NOT MET',
+  overridden: 'overridden',
+} as const;
+
+/** The procedure and follow-up bookings (not cancelled) and the treatment as recorded. */
+function bookingPage(
+  doc: Doc,
+  bookings: readonly SummaryBooking[],
+  treatment: TreatmentView | null,
+): void {
+  for (const booking of bookings) {
+    const isProcedure = booking.kind === 'procedure';
+    heading(doc, isProcedure ? 'Booking' : 'Follow-up imaging');
+    const endsAt = new Date(booking.startsAt.getTime() + booking.durationMin * 60_000);
+    facts(doc, [
+      ['When', `${dateTime(booking.startsAt)} to ${dateTime(endsAt).slice(11)}`],
+      ['Room', booking.room],
+      ...(isProcedure
+        ? ([
+            ['Operator', booking.operatorName ?? 'None'],
+            [
+              'Anaesthesia',
+              booking.anaesthesia ? anaesthesiaLabels[booking.anaesthesia] : 'Not stated',
+            ],
+          ] as [string, string][])
+        : ([
+            [
+              'Modality',
+              booking.modality ? followUpModalityLabels[booking.modality] : 'Not stated',
+            ],
+          ] as [string, string][])),
+      ['State', bookingStateLabels[booking.state]],
+    ]);
+    if (!isProcedure) continue;
+    if (!booking.checklist) {
+      line(doc, 'Checklist: completed before the procedure was confirmed.', muted);
+      continue;
+    }
+    write(doc, { weight: 'medium' }, 'Checklist');
+    for (const item of booking.checklist) {
+      line(
+        doc,
+        `${item.label}: ${checklistStateWords[item.state]}` +
+          (item.overrideReason ? ` (reason: ${item.overrideReason})` : ''),
+      );
+    }
+  }
+  if (!treatment) return;
+  heading(doc, 'Treatment');
+  facts(doc, [
+    ['Performed', dateTime(new Date(treatment.performedAt))],
+    ['Operator', treatment.operator.displayName],
+    ['Applicators used', treatment.applicatorsUsed],
+    ['Deviation from the plan', treatment.deviation ?? 'None recorded'],
+    ['Complication (Clavien–Dindo)', complicationGradeLabels[treatment.complicationGrade]],
+    ...(treatment.complicationNote
+      ? [['Complication note', treatment.complicationNote] as [string, string]]
+      : []),
+    [
+      'Follow-up imaging proposed',
+      dateTime(new Date(treatment.followUp.proposedDate)).slice(0, 10),
+    ],
+  ]);
+  line(doc, treatment.followUp.basis, muted);
 }
 
 /** The caution and the page number under the content area of every page. */

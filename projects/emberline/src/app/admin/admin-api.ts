@@ -13,7 +13,10 @@ import type {
   SafetyProfileBody,
   SafetyProfileView,
   Specialty,
+  ThresholdKey,
+  ThresholdView,
   UpdateApplicatorProfile,
+  UpdateThreshold,
 } from '@emberline/shared';
 import type { Observable } from 'rxjs';
 import { SHOWS_OWN_ERRORS } from '../core/http-context-tokens';
@@ -147,6 +150,22 @@ export class AdminApi {
   ): Observable<SafetyProfileView> {
     return this.http.patch<SafetyProfileView>(
       `/api/admin/safety-profiles/${encodeURIComponent(profileId)}`,
+      body,
+      { context: shownBeside() },
+    );
+  }
+
+  /** The pre-procedure checklist's laboratory and imaging thresholds, each with its source. */
+  checklistThresholds(): HttpResourceRef<ThresholdView[] | undefined> {
+    return httpResource<ThresholdView[]>(() => ({
+      url: '/api/admin/checklist-thresholds',
+      context: shownBeside(),
+    }));
+  }
+
+  updateThreshold(key: ThresholdKey, body: UpdateThreshold): Observable<ThresholdView> {
+    return this.http.put<ThresholdView>(
+      `/api/admin/checklist-thresholds/${encodeURIComponent(key)}`,
       body,
       { context: shownBeside() },
     );

@@ -41,6 +41,7 @@ export class AdminLayout {
     { path: 'boards', label: 'Boards' },
     { path: 'applicator-profiles', label: 'Applicator profiles' },
     { path: 'safety-profiles', label: 'Safety profiles' },
+    { path: 'checklist-thresholds', label: 'Checklist thresholds' },
     { path: 'audit', label: 'Audit log' },
   ];
 }

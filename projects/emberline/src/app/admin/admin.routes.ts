@@ -4,6 +4,7 @@ import { AdminBoards } from './admin-boards';
 import { AdminLayout } from './admin-layout';
 import { AdminUsers } from './admin-users';
 import { ApplicatorProfiles } from './applicator-profiles';
+import { ChecklistThresholds } from './checklist-thresholds';
 import { SafetyProfiles } from './safety-profiles';
 
 export const adminRoutes: Routes = [
@@ -23,6 +24,11 @@ export const adminRoutes: Routes = [
         path: 'safety-profiles',
         title: 'Safety profiles · Administration',
         component: SafetyProfiles,
+      },
+      {
+        path: 'checklist-thresholds',
+        title: 'Checklist thresholds · Administration',
+        component: ChecklistThresholds,
       },
       { path: 'audit', title: 'Audit log · Administration', component: AdminAudit },
     ],

@@ -2,10 +2,7 @@ import type { Routes } from '@angular/router';
 import { CaseFile } from './case-file';
 import { SummarySection } from './summary-section';
 
-/**
- * The case file and its sections. Later sections (logistics) join `children` and
- * `caseFileSections`.
- */
+/** The case file and its sections (each also listed in `caseFileSections`). */
 export const caseFileRoutes: Routes = [
   {
     path: '',
@@ -41,6 +38,12 @@ export const caseFileRoutes: Routes = [
         path: 'decision',
         title: 'Case decision',
         loadComponent: () => import('../decisions/decision-section').then((m) => m.DecisionSection),
+      },
+      {
+        path: 'logistics',
+        title: 'Case logistics',
+        loadComponent: () =>
+          import('../bookings/logistics-section').then((m) => m.LogisticsSection),
       },
     ],
   },

@@ -14,16 +14,14 @@ import { CaseFileState } from './case-file-state';
 import { CaseStatusBadge } from './case-status-badge';
 import { AgendaPlacement } from '../meetings/agenda-placement';
 
-/**
- * The sections of a case file, in order (DEVELOPERS.md, "Screens"); the others follow as they
- * are built.
- */
+/** The sections of a case file, in order (DEVELOPERS.md, "Screens"). */
 export const caseFileSections: readonly { path: string; label: string }[] = [
   { path: 'summary', label: 'Summary' },
   { path: 'imaging', label: 'Imaging' },
   { path: 'plans', label: 'Plans' },
   { path: 'discussion', label: 'Discussion' },
   { path: 'decision', label: 'Decision' },
+  { path: 'logistics', label: 'Logistics' },
 ];
 
 /** The case file: its header and the navigation between its sections. */

@@ -25,6 +25,10 @@ export class Shell {
   protected readonly isClinical = computed(() =>
     this.session.roles().some((role) => role !== 'administrator'),
   );
+  /** The coordinator's booking queue. */
+  protected readonly isCoordinator = computed(() =>
+    this.session.roles().includes('nurse-coordinator'),
+  );
   protected readonly mayWork = computed(() => {
     const user = this.user();
     return !!user && !user.mustEnrolTotp && user.roles.length > 0;

@@ -137,6 +137,7 @@ describe('DecisionRecordForm', () => {
     expect(request.request.body).toEqual({
       outcome: 'resection',
       rationale: 'Resectable, good reserve.',
+      urgency: 'routine',
       password: 'secret',
     });
     request.flush({ id: 'decision-1' });
@@ -144,13 +145,14 @@ describe('DecisionRecordForm', () => {
     expect(recorded).toHaveLength(1);
   });
 
-  it('sends an ablation with its plan, the conditions and the chair’s quorum reason', async () => {
+  it('sends an ablation with its plan, the conditions, the urgency and the chair’s quorum reason', async () => {
     await open();
     await choose('decision-outcome', treatmentLabels['ablation-mw']);
     await choose('decision-plan', plans[0].name);
     typeInto(fixture, '#decision-rationale', 'Two needles cover the margin.');
     typeInto(fixture, '#decision-conditions', 'Platelets above 50 on the day.');
     typeInto(fixture, '#decision-quorum-override', 'Surgeon on call joined by phone.');
+    await choose('decision-urgency', 'Urgent');
     typeInto(fixture, '#decision-password', 'secret');
     submit(fixture);
 
@@ -161,6 +163,7 @@ describe('DecisionRecordForm', () => {
       rationale: 'Two needles cover the margin.',
       conditions: 'Platelets above 50 on the day.',
       quorumOverrideReason: 'Surgeon on call joined by phone.',
+      urgency: 'urgent',
       password: 'secret',
     });
     // A refused signature is a 401 the form explains: it must not end the session.
@@ -220,7 +223,11 @@ describe('DecisionRecordForm', () => {
     typeInto(fixture, '#decision-rationale', 'Bilobar disease.');
     submit(fixture);
     const request = http.expectOne(url);
-    expect(request.request.body).toEqual({ outcome: 'tace', rationale: 'Bilobar disease.' });
+    expect(request.request.body).toEqual({
+      outcome: 'tace',
+      rationale: 'Bilobar disease.',
+      urgency: 'routine',
+    });
     request.flush(
       ...problem(401, 'urn:emberline:problem:fresh-sso-required', 'Signing needs a fresh sign-on.'),
     );

@@ -19,10 +19,13 @@ import { MatOption, MatSelect } from '@angular/material/select';
 import type { Observable } from 'rxjs';
 import {
   ablationTreatments,
+  bookingUrgencies,
+  bookingUrgencyLabels,
   recordDecisionSchema,
   treatmentLabels,
   treatments,
   type DecisionView,
+  type BookingUrgency,
   type RecordDecision,
   type Treatment,
 } from '@emberline/shared';
@@ -86,6 +89,8 @@ export class DecisionRecordForm implements OnInit {
 
   protected readonly outcomes = treatments;
   protected readonly outcomeLabels = treatmentLabels;
+  protected readonly urgencies = bookingUrgencies;
+  protected readonly urgencyLabels = bookingUrgencyLabels;
   protected readonly isSaving = signal(false);
   protected readonly errorText = signal('');
   protected readonly needsFreshSso = signal(false);
@@ -96,6 +101,7 @@ export class DecisionRecordForm implements OnInit {
     planId: [{ value: '', disabled: true }, Validators.required],
     rationale: ['', [textRequired, zodValidator(fields.rationale)]],
     conditions: ['', zodValidator(fields.conditions)],
+    urgency: ['routine' as BookingUrgency, Validators.required],
     password: ['', [Validators.required, zodValidator(fields.password)]],
     quorumOverrideReason: ['', zodValidator(fields.quorumOverrideReason)],
   });
@@ -123,6 +129,9 @@ export class DecisionRecordForm implements OnInit {
           : '',
         rationale: draft['rationale'] ?? '',
         conditions: draft['conditions'] ?? '',
+        urgency: (bookingUrgencies as readonly string[]).includes(draft['urgency'] ?? '')
+          ? (draft['urgency'] as BookingUrgency)
+          : 'routine',
         quorumOverrideReason: draft['quorumOverrideReason'] ?? '',
       });
       this.form.controls.planId.setValue(draft['planId'] ?? '');
@@ -175,6 +184,7 @@ export class DecisionRecordForm implements OnInit {
       planId: value.planId,
       rationale: value.rationale,
       conditions: value.conditions,
+      urgency: value.urgency,
       quorumOverrideReason: value.quorumOverrideReason,
     });
     this.document.location.assign('/api/auth/saml/login');
@@ -189,6 +199,7 @@ export class DecisionRecordForm implements OnInit {
     };
     if (this.isAblation() && value.planId) body['planId'] = value.planId;
     if (value.conditions.trim()) body['conditions'] = value.conditions.trim();
+    body['urgency'] = value.urgency;
     if (this.isLocal()) body['password'] = value.password;
     if (value.quorumOverrideReason.trim()) {
       body['quorumOverrideReason'] = value.quorumOverrideReason.trim();

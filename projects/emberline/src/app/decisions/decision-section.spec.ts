@@ -67,6 +67,7 @@ const decision: DecisionView = {
     explanation: 'Not met: hepatobiliary surgery is missing.',
   },
   quorumOverrideReason: 'Surgeon agreed by telephone before the meeting.',
+  urgency: 'priority',
   amendments: [
     {
       id: 'a1',
@@ -199,6 +200,9 @@ describe('DecisionSection', () => {
     ]) {
       expect(text).toContain(part);
     }
+    expect(
+      (fixture.nativeElement as HTMLElement).querySelector('[data-decision-urgency]')?.textContent,
+    ).toBe('Priority');
     const signedAt = (fixture.nativeElement as HTMLElement).querySelector('[data-decision] time');
     expect(signedAt?.getAttribute('datetime')).toBe(decision.signedAt);
     const amendments = Array.from(

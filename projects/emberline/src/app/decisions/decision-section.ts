@@ -5,6 +5,7 @@ import { MatButton } from '@angular/material/button';
 import { MatProgressBar } from '@angular/material/progress-bar';
 import { RouterLink } from '@angular/router';
 import {
+  bookingUrgencyLabels,
   caseStatusLabels,
   treatmentLabels,
   type DecisionView,
@@ -51,6 +52,7 @@ export class DecisionSection {
   private readonly session = inject(AuthSession);
 
   protected readonly outcomeLabels = treatmentLabels;
+  protected readonly urgencyLabels = bookingUrgencyLabels;
   protected readonly methodLabels = signInMethodLabels;
   protected readonly caseId = this.state.caseId;
   protected readonly detail = this.state.detail;

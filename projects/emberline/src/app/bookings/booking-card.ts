@@ -1,0 +1,49 @@
+import { DatePipe } from '@angular/common';
+import { ChangeDetectionStrategy, Component, input } from '@angular/core';
+import {
+  anaesthesiaLabels,
+  bookingStateLabels,
+  followUpModalityLabels,
+  type BookingHistoryEntry,
+  type BookingView,
+  type NotificationView,
+} from '@emberline/shared';
+
+const historyActionLabels: Record<BookingHistoryEntry['action'], string> = {
+  booked: 'Booked',
+  rebooked: 'Rebooked',
+  cancelled: 'Cancelled',
+  confirmed: 'Confirmed',
+  done: 'Marked done',
+  override: 'Checklist item overridden',
+};
+
+const notificationStateLabels: Record<NotificationView['state'], string> = {
+  queued: 'Queued',
+  sent: 'Sent',
+  failed: 'Failed',
+};
+
+/**
+ * One booking as it stands (when, how long, where, who, anaesthesia or imaging, the plan's
+ * applicators, notes, state), then its history and the care team's notifications with their
+ * delivery state.
+ */
+@Component({
+  selector: 'em-booking-card',
+  imports: [DatePipe],
+  templateUrl: './booking-card.html',
+  styleUrl: './booking-card.scss',
+  changeDetection: ChangeDetectionStrategy.OnPush,
+})
+export class BookingCard {
+  readonly booking = input.required<BookingView>();
+  /** Past bookings show their facts only. */
+  readonly isBrief = input(false);
+
+  protected readonly stateLabels = bookingStateLabels;
+  protected readonly anaesthesiaLabels = anaesthesiaLabels;
+  protected readonly modalityLabels = followUpModalityLabels;
+  protected readonly actionLabels = historyActionLabels;
+  protected readonly deliveryLabels = notificationStateLabels;
+}

@@ -13,6 +13,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import {
   type BookingQueueItem,
   type BookingView,
+  type CaseDetail,
   type CaseLogisticsView,
   type ProblemDetails,
   type ThresholdView,
@@ -529,6 +530,42 @@ describe('the checklist', () => {
     await setLabs(ablationCase, { takenAt: new Date(start.getTime() - 14 * dayMs) });
     expect(item(await view(), 'lab-age').state).toBe('met');
     await setLabs(ablationCase, { takenAt: new Date(Date.now() - dayMs), plateletsE9L: 120 });
+  });
+
+  it('reads pre-procedure labs recorded after the decision by the coordinator or a proceduralist', async () => {
+    const panel = (inr: number) => ({
+      takenAt: new Date(Date.now() - 3_600_000).toISOString(),
+      bilirubin: { value: 1.1, unit: 'mg/dL' },
+      albumin: { value: 3.8, unit: 'g/dL' },
+      inr,
+      creatinine: { value: 0.9, unit: 'mg/dL' },
+      sodiumMmolL: 139,
+      plateletsE9L: 140,
+      ascites: 'none',
+      encephalopathy: 'none',
+      dialysisTwiceInPastWeek: false,
+    });
+    const post = (client: ApiClient, inr: number) =>
+      client.post(`/api/cases/${ablationCase}/lab-panels`, panel(inr));
+    expect((await post(member, 1.2)).status).toBe(403);
+    const byCoordinator = await post(coordinator, 2.1);
+    expect(byCoordinator.status).toBe(201);
+    expect((byCoordinator.body as CaseDetail).permissions.canAddLabPanel).toBe(true);
+    // The newest panel is the one in force: INR 2.1 over the maximum of 1.8 (SIR 2019, above).
+    expect(item(await view(), 'inr')).toMatchObject({
+      state: 'not-met',
+      finding: expect.stringContaining('INR 2.1'),
+    });
+    expect((await post(proceduralist, 1.3)).status).toBe(201);
+    expect(item(await view(), 'inr').state).toBe('met');
+    // The panels the board saw stay as they were: no correction once decided.
+    const detail = (await presenter.get(`/api/cases/${ablationCase}`)).body as CaseDetail;
+    const first = detail.labPanels[detail.labPanels.length - 1];
+    const correction = await presenter.post(
+      `/api/cases/${ablationCase}/lab-panels/${first.id}/withdrawal`,
+      { reason: 'Entered against the wrong case.' },
+    );
+    expect(correction.status).toBe(409);
   });
 
   it('is ticked by the coordinator and the operator, not by a member (403); automatic items are not ticked (400)', async () => {

@@ -138,7 +138,7 @@ describe('case file', () => {
     expect(detail.caseCode).toBe('NLB-2026-101');
     expect(detail.status).toBe('draft');
     expect(detail.presenter.displayName).toBe('Dr Priya Raman');
-    expect(detail.permissions).toEqual({ canEdit: true, canDelete: true });
+    expect(detail.permissions).toEqual({ canEdit: true, canDelete: true, canAddLabPanel: true });
 
     const updated = await presenter.patch(`/api/cases/${detail.id}`, {
       primaryDiagnosis: 'crlm',

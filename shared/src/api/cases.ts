@@ -312,8 +312,13 @@ export interface CaseDetail {
   labPanelInForceId?: string | null;
   /** From the lab panel in force; decision support only. */
   scores: LiverScores;
-  /** What the signed-in user may do with this case. */
-  permissions: { canEdit: boolean; canDelete: boolean };
+  /**
+   * What the signed-in user may do with this case. `canAddLabPanel`: before the decision the
+   * presenter (with `canEdit`); once decided, also the board's proceduralists and nurse
+   * coordinators, who record the pre-procedure labs (new panels only: the panels the board saw
+   * are never corrected after the decision).
+   */
+  permissions: { canEdit: boolean; canDelete: boolean; canAddLabPanel: boolean };
   createdAt: string;
   updatedAt: string;
 }

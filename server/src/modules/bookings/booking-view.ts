@@ -7,7 +7,7 @@ import type {
 } from '@emberline/shared';
 import { hasRole } from '../../common/auth-middleware';
 import type { SignedInUser } from '../../common/request-context';
-import { LabPanel } from '../cases/lab-panel.entity';
+import { loadPanelInForce } from '../cases/lab-panel-in-force';
 import { ImageSeries } from '../imaging/image-series.entity';
 import type { MailService } from '../mail/mail.service';
 import { User } from '../users/user.entity';
@@ -35,16 +35,12 @@ export function toBookingSummary(booking: ProcedureBooking): BookingSummary {
   };
 }
 
-/** The case's newest panel (by the date its values were taken) and newest series (by upload). */
+/** The case's panel in force (`loadPanelInForce`) and its newest series (by upload). */
 export async function checklistEvidence(
   em: EntityManager,
   caseId: string,
 ): Promise<ChecklistEvidence> {
-  const [panel] = await em.find(
-    LabPanel,
-    { clinicalCase: caseId },
-    { orderBy: { takenAt: 'desc', createdAt: 'desc' }, limit: 1 },
-  );
+  const panel = await loadPanelInForce(em, caseId);
   const [series] = await em.find(
     ImageSeries,
     { clinicalCase: caseId },

@@ -301,7 +301,14 @@ export class CaseService {
     caseId: string,
     body: CreateLabPanel,
   ): Promise<CaseDetail> {
-    const found = await this.findEditable(user, caseId);
+    const found = await this.findVisible(user, caseId);
+    if (!canAddLabPanel(user, found)) {
+      throw isCaseOpenForChanges(found.status)
+        ? new ForbiddenError('Only the presenting physician of this case edits it.')
+        : new ForbiddenError(
+            "Once decided, the presenter, the board's proceduralists and nurse coordinators record new labs.",
+          );
+    }
     const panel = new LabPanel(
       this.em.getReference(ClinicalCase, found.id, { wrapped: true }),
       this.em.getReference(User, user.id, { wrapped: true }),
@@ -312,7 +319,7 @@ export class CaseService {
       action: 'lab-panel.create',
       entityType: 'case',
       entityId: found.id,
-      detail: { labPanelId: panel.id },
+      detail: { labPanelId: panel.id, isAfterDecision: !isCaseOpenForChanges(found.status) },
     });
     await this.em.flush();
     return this.toDetail(user, found);
@@ -499,7 +506,11 @@ export class CaseService {
       })),
       labPanelInForceId: inForce?.id ?? null,
       scores: scoresOf(found, lesions, inForce),
-      permissions: { canEdit: isEditable, canDelete: isEditable && found.status === 'draft' },
+      permissions: {
+        canEdit: isEditable,
+        canDelete: isEditable && found.status === 'draft',
+        canAddLabPanel: canAddLabPanel(user, found),
+      },
       createdAt: found.createdAt.toISOString(),
       updatedAt: found.updatedAt.toISOString(),
     };
@@ -559,6 +570,20 @@ export function scoresOf(
 
 function canEdit(user: SignedInUser, found: ClinicalCase): boolean {
   return hasRole(user, 'presenting-physician') && found.presenter.id === user.id;
+}
+
+/**
+ * Who records a new lab panel: the presenter while the case is open for changes; once decided,
+ * also the board's proceduralists and nurse coordinators (the caller has checked the user sees
+ * the case, so is on its board). Labs drawn before the procedure are new facts, not edits of
+ * what the board saw: they are added beside the earlier panels, which stay as they were, and
+ * the pre-procedure checklist reads the panel in force.
+ */
+function canAddLabPanel(user: SignedInUser, found: ClinicalCase): boolean {
+  if (isCaseOpenForChanges(found.status)) return canEdit(user, found);
+  return (
+    canEdit(user, found) || hasRole(user, 'proceduralist') || hasRole(user, 'nurse-coordinator')
+  );
 }
 
 function toSummary(found: ClinicalCase): CaseSummary {

@@ -78,7 +78,7 @@ describe('CaseDetailsForm', () => {
       ...detail,
       ecogPerformanceStatus: 1,
       hasVascularInvasion: false,
-      permissions: { canEdit: false, canDelete: false },
+      permissions: { canEdit: false, canDelete: false, canAddLabPanel: false },
     });
 
     expect(fixture.nativeElement.querySelector('form')).toBeNull();

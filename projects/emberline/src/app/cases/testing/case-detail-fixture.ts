@@ -19,7 +19,7 @@ export function caseDetailFixture(overrides: Partial<CaseDetail> = {}): CaseDeta
     lesions: [],
     labPanels: [],
     scores: computeLiverScores({ lesionDiametersMm: [] }),
-    permissions: { canEdit: true, canDelete: true },
+    permissions: { canEdit: true, canDelete: true, canAddLabPanel: true },
     createdAt: '2026-11-20T10:00:00.000Z',
     updatedAt: '2026-11-20T10:00:00.000Z',
     ...overrides,

@@ -19,6 +19,8 @@ let page: Page;
 
 /** The demo case with a series, structures and assessed plans (server/seeders/). */
 const assessedCase = 'NLB-2026-014';
+/** The demo case the board decided (TACE), in the coordinator's queue. */
+const decidedCase = 'NLB-2026-022';
 
 interface AxeViolation {
   id: string;
@@ -243,5 +245,37 @@ describe('every screen has no serious or critical accessibility violation', () =
     await page.getByRole('heading', { name: 'Audit log' }).waitFor();
     await page.locator('tr.mat-mdc-row').first().waitFor();
     await expectAccessible('the audit log');
+  });
+
+  it('the administration’s checklist thresholds and a threshold’s dialog', async () => {
+    await page.getByRole('tab', { name: 'Checklist thresholds' }).click();
+    await page.getByRole('heading', { name: 'Checklist thresholds' }).waitFor();
+    await page.locator('tr.mat-mdc-row').first().waitFor();
+    await expectAccessible('the checklist thresholds');
+    await page
+      .getByRole('button', { name: /^Edit / })
+      .first()
+      .click();
+    const dialog = page.getByRole('dialog');
+    await dialog.getByLabel('Source of the value').waitFor();
+    await expectAccessible('the threshold dialog');
+    await dialog.getByRole('button', { name: 'Cancel' }).click();
+    await dialog.waitFor({ state: 'detached' });
+  });
+
+  it('the coordinator’s bookings and a case’s logistics', async () => {
+    await page.getByRole('button', { name: 'Sign out' }).click();
+    await page.waitForURL(/\/sign-in/);
+    await signIn('coordinator@emberline.test');
+    await page.goto(`${baseUrl}/bookings`);
+    await page.getByRole('heading', { name: 'Bookings', level: 1 }).waitFor();
+    // The demo's decided case (server/seeders/demo-meetings.ts), with or without a booking.
+    await page.getByRole('checkbox', { name: 'Show booked' }).check();
+    await page.getByRole('link', { name: decidedCase, exact: true }).first().waitFor();
+    await expectAccessible('the booking queue');
+    await page.getByRole('link', { name: decidedCase, exact: true }).first().click();
+    await page.waitForURL(/\/logistics/);
+    await page.getByRole('heading', { name: 'Procedure', exact: true }).waitFor();
+    await expectAccessible('the case file’s logistics');
   });
 });

@@ -63,6 +63,8 @@ export default async function setup(project: TestProject): Promise<() => Promise
   }
   const port = await freePort();
   const idpPort = await freePort();
+  // A mail catcher of its own: the demo's default port may be another server's on this machine.
+  const mailCatcherPort = await freePort();
   const baseUrl = `http://127.0.0.1:${port}`;
   const idpDataDir = mkdtempSync(join(tmpdir(), 'emberline-e2e-idp-'));
   const children: ChildProcess[] = [];
@@ -91,6 +93,7 @@ export default async function setup(project: TestProject): Promise<() => Promise
       PUBLIC_URL: baseUrl,
       CLIENT_DIST: join(root, 'dist/emberline/browser'),
       FAKE_IDP_DIR: idpDataDir,
+      MAIL_CATCHER_PORT: String(mailCatcherPort),
     });
     await waitForHttp(`${baseUrl}/api/health`);
   } catch (error) {

@@ -1,5 +1,5 @@
 import { DatePipe } from '@angular/common';
-import { ChangeDetectionStrategy, Component, input } from '@angular/core';
+import { ChangeDetectionStrategy, Component, computed, input } from '@angular/core';
 import {
   anaesthesiaLabels,
   bookingStateLabels,
@@ -41,9 +41,15 @@ export class BookingCard {
   /** Past bookings show their facts only. */
   readonly isBrief = input(false);
 
-  protected readonly stateLabels = bookingStateLabels;
   protected readonly anaesthesiaLabels = anaesthesiaLabels;
   protected readonly modalityLabels = followUpModalityLabels;
   protected readonly actionLabels = historyActionLabels;
   protected readonly deliveryLabels = notificationStateLabels;
+  /** The follow-up imaging has no checklist: "booked" is simply booked. */
+  protected readonly stateText = computed(() => {
+    const booking = this.booking();
+    return booking.kind === 'follow-up-imaging' && booking.state === 'booked'
+      ? 'Booked'
+      : bookingStateLabels[booking.state];
+  });
 }

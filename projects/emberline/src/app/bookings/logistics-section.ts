@@ -23,6 +23,7 @@ import {
   type CaseLogisticsView,
 } from '@emberline/shared';
 import { CaseFileState } from '../cases/case-file-state';
+import { AuthSession } from '../core/auth-session';
 import { problemMessage } from '../core/problem';
 import { BookingApi } from './booking-api';
 import { BookingCard } from './booking-card';
@@ -53,6 +54,7 @@ export class LogisticsSection {
   private readonly dialog = inject(MatDialog);
   private readonly route = inject(ActivatedRoute);
   private readonly router = inject(Router);
+  private readonly session = inject(AuthSession);
 
   protected readonly outcomeLabels = treatmentLabels;
   protected readonly urgencyLabels = bookingUrgencyLabels;
@@ -85,13 +87,36 @@ export class LogisticsSection {
       !!view?.permissions.canBook && view.isBookable && !this.liveProcedure() && !view.treatment
     );
   });
+  /**
+   * A nurse coordinator of the case's board. `permissions.canBook` speaks of the procedure only;
+   * the follow-up imaging is the coordinator's once the treatment is recorded (the server checks
+   * again).
+   */
+  protected readonly isCoordinator = computed(() => {
+    const user = this.session.user();
+    const boardId = this.state.detail()?.board.id;
+    return (
+      !!user &&
+      !!boardId &&
+      user.roles.includes('nurse-coordinator') &&
+      user.boards.some((membership) => membership.boardId === boardId)
+    );
+  });
   protected readonly mayBookFollowUp = computed(() => {
     const view = this.view();
     const followUp = view?.followUp;
     return (
-      !!view?.permissions.canBook &&
-      !!view.treatment &&
-      (!followUp || followUp.state === 'cancelled')
+      this.isCoordinator() && !!view?.treatment && (!followUp || followUp.state === 'cancelled')
+    );
+  });
+  /** Someone who may only read: no booking, no checklist, no treatment to record. */
+  protected readonly isReader = computed(() => {
+    const view = this.view();
+    return (
+      !!view &&
+      !this.isCoordinator() &&
+      !view.permissions.canRecordTreatment &&
+      !view.procedure?.permissions.canCheck
     );
   });
   protected readonly statusText = signal('');
@@ -141,7 +166,7 @@ export class LogisticsSection {
             ? 'The booking is changed; the care team is e-mailed the change.'
             : 'Booked; the care team is e-mailed an invitation.',
         );
-        this.resource.reload();
+        this.reloadAll();
       });
   }
 
@@ -169,7 +194,7 @@ export class LogisticsSection {
       .subscribe((isDone) => {
         if (!isDone) return;
         this.statusText.set('Cancelled; the care team is e-mailed the cancellation.');
-        this.resource.reload();
+        this.reloadAll();
       });
   }
 
@@ -192,13 +217,17 @@ export class LogisticsSection {
       .subscribe((isDone) => {
         if (!isDone) return;
         this.statusText.set('The procedure is recorded; the follow-up imaging is proposed.');
-        this.resource.reload();
-        // The case's status moves on (treated): the header reads it again.
-        this.state.resource.reload();
+        this.reloadAll();
       });
   }
 
   protected changed(): void {
+    this.reloadAll();
+  }
+
+  /** The logistics, and the case file's header: a booking or treatment moves the case's status. */
+  private reloadAll(): void {
     this.resource.reload();
+    this.state.resource.reload();
   }
 }

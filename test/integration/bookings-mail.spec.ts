@@ -236,6 +236,10 @@ describe('a change of operator', () => {
       reason: 'Dr Tanaka is on leave that week.',
     });
     expect(changed.status, JSON.stringify(changed.body)).toBe(200);
+    // The history names the operators by their names, not their ids.
+    expect((changed.body as BookingView).history[1]?.changes).toEqual([
+      { field: 'operator', before: 'Dr Mei Tanaka', after: expect.any(String) },
+    ]);
     const update = await onlyMessage('Procedure changed: NLB-2027-303 Microwave ablation');
     expect([...update.to].sort()).toEqual([
       'coordinator@emberline.test',

@@ -148,6 +148,19 @@ export class BookingService {
         .filter((field) => before[field] !== after[field])
         .map((field) => ({ field, before: before[field], after: after[field] }));
       if (!changes.length) throw new ConflictError('Nothing in the booking changes.');
+      // The history names the operators, not their ids.
+      const operatorChange = changes.find((change) => change.field === 'operatorId');
+      if (operatorChange) {
+        const ids = [operatorChange.before, operatorChange.after].filter(
+          (id): id is string => id !== null,
+        );
+        const names = new Map(
+          (await em.find(User, { id: { $in: ids } })).map((user) => [user.id, user.displayName]),
+        );
+        operatorChange.field = 'operator';
+        operatorChange.before = operatorChange.before && (names.get(operatorChange.before) ?? null);
+        operatorChange.after = operatorChange.after && (names.get(operatorChange.after) ?? null);
+      }
       booking.sequence += 1;
       // A confirmed booking that changes is confirmed again: its checklist reads the new start.
       const wasConfirmed = booking.state === 'confirmed';

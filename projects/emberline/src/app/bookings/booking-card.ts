@@ -2,6 +2,7 @@ import { DatePipe } from '@angular/common';
 import { ChangeDetectionStrategy, Component, computed, input } from '@angular/core';
 import {
   anaesthesiaLabels,
+  checklistItemLabels,
   bookingStateLabels,
   followUpModalityLabels,
   type BookingHistoryEntry,
@@ -22,6 +23,17 @@ const notificationStateLabels: Record<NotificationView['state'], string> = {
   queued: 'Queued',
   sent: 'Sent',
   failed: 'Failed',
+};
+
+/** Booking fields named in a rebooking's history. */
+const changedFieldLabels: Record<string, string | undefined> = {
+  startsAt: 'Start',
+  durationMin: 'Duration (minutes)',
+  room: 'Room',
+  operator: 'Operator',
+  anaesthesia: 'Anaesthesia',
+  notes: 'Notes',
+  state: 'State',
 };
 
 /**
@@ -45,6 +57,15 @@ export class BookingCard {
   protected readonly modalityLabels = followUpModalityLabels;
   protected readonly actionLabels = historyActionLabels;
   protected readonly deliveryLabels = notificationStateLabels;
+  /** A history entry's field as the reader knows it: a booking field or a checklist item. */
+  protected fieldLabel(field: string): string {
+    return (
+      changedFieldLabels[field] ??
+      (checklistItemLabels as Record<string, string | undefined>)[field] ??
+      field
+    );
+  }
+
   /** The follow-up imaging has no checklist: "booked" is simply booked. */
   protected readonly stateText = computed(() => {
     const booking = this.booking();

@@ -1,4 +1,5 @@
 import { DatePipe } from '@angular/common';
+import { RouterLink } from '@angular/router';
 import {
   ChangeDetectionStrategy,
   Component,
@@ -45,7 +46,7 @@ export const checklistStateLabels: Record<ChecklistItemState, string> = {
  */
 @Component({
   selector: 'em-checklist-panel',
-  imports: [DatePipe, MatCheckbox, MatButton, MatIcon, ClinicalCaution],
+  imports: [DatePipe, MatCheckbox, MatButton, MatIcon, ClinicalCaution, RouterLink],
   templateUrl: './checklist-panel.html',
   styleUrl: './checklist-panel.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,

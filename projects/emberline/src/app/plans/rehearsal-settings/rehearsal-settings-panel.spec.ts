@@ -237,7 +237,9 @@ describe('RehearsalSettingsPanel', () => {
   });
 
   it('shows someone who does not present the case the settings, but no form', async () => {
-    await open(caseDetail({ permissions: { canEdit: false, canDelete: false, canAddLabPanel: false } }));
+    await open(
+      caseDetail({ permissions: { canEdit: false, canDelete: false, canAddLabPanel: false } }),
+    );
     expect(valueOf('amplitudeMm')).toBe('12 mm');
     expect((fixture.nativeElement as HTMLElement).querySelector('form')).toBeNull();
     expect((fixture.nativeElement as HTMLElement).querySelector('input')).toBeNull();

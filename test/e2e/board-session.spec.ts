@@ -127,8 +127,12 @@ describe('a board session', () => {
     await chair.screenshot({ path: join(artefacts, 'decision-signed.png'), fullPage: true });
     await chair.getByRole('tab', { name: 'Summary' }).click();
     await chair.getByRole('heading', { name: 'Laboratory values' }).waitFor();
-    expect(await chair.getByRole('button', { name: 'Add panel' }).count()).toBe(0);
+    // The record the board saw is frozen: nothing is edited, corrected or withdrawn...
     expect(await chair.getByRole('button', { name: 'Save changes' }).count()).toBe(0);
+    expect(await chair.getByRole('button', { name: /^(Correct|Withdraw)/ }).count()).toBe(0);
+    // ...but the proceduralist records pre-procedure labs as a new panel beside it.
+    await chair.getByText(/Pre-procedure labs: a new panel is added/).waitFor();
+    expect(await chair.getByRole('button', { name: 'Add panel' }).count()).toBe(1);
   });
 
   it('closes with frozen minutes that show the decision', async () => {

@@ -384,7 +384,13 @@ describe('the decided case’s record', () => {
         () => presenter.post(`${caseUrl}/lesions`, { segment: 'VI', diameterMm: 12, kind: 'hcc' }),
       ],
       ['DELETE lesion', () => presenter.delete(`${caseUrl}/lesions/${detail.lesions[0].id}`)],
-      ['POST lab panel', () => presenter.post(`${caseUrl}/lab-panels`, labs)],
+      [
+        'withdraw a lab panel',
+        () =>
+          presenter.post(`${caseUrl}/lab-panels/${detail.labPanels[0].id}/withdrawal`, {
+            reason: 'Entered twice.',
+          }),
+      ],
       ['POST series', () => presenter.post(`${caseUrl}/series`, {})],
       ['POST structures', () => presenter.post(`/api/series/${seriesId}/structures`, {})],
       [
@@ -405,6 +411,17 @@ describe('the decided case’s record', () => {
     expect(unchanged.lesions).toEqual(detail.lesions);
     expect(unchanged.labPanels).toEqual(detail.labPanels);
     expect(unchanged.ecogPerformanceStatus).toBe(detail.ecogPerformanceStatus);
+  });
+
+  it('takes pre-procedure labs as a new panel beside the ones the board saw', async () => {
+    const before = (await presenter.get(`/api/cases/${ids.northReady}`)).body as CaseDetail;
+    const added = await presenter.post(`/api/cases/${ids.northReady}/lab-panels`, labs);
+    expect(added.status, JSON.stringify(added.body)).toBe(201);
+    const after = added.body as CaseDetail;
+    expect(after.labPanels).toHaveLength(before.labPanels.length + 1);
+    // The earlier panels are exactly as they were.
+    for (const panel of before.labPanels)
+      expect(after.labPanels.find((entry) => entry.id === panel.id)).toEqual(panel);
   });
 
   it('still answers 403 to someone who could never change it', async () => {

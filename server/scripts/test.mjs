@@ -2,7 +2,7 @@
 // `npm test`: every check of the project, in order, then one summary line.
 // Format, lint and type checks count one each; the test runners report their own counts.
 import { existsSync, mkdirSync, readFileSync, rmSync } from 'node:fs';
-import { join } from 'node:path';
+import { join, relative } from 'node:path';
 import {
   ensureChromium,
   ensureDependencies,
@@ -27,6 +27,33 @@ const isPostgresStartedHere = startPostgres().isStartedHere;
 
 const bin = (name) => join(root, 'node_modules', '.bin', name);
 const results = [];
+/** The failed tests' names and first message lines, repeated at the end where a log's tail shows them. */
+const failures = [];
+
+/** `file › test: first line of the message` for each failed test of a Jest-shaped JSON report. */
+function failedTests(report) {
+  const lines = [];
+  for (const file of report.testResults ?? []) {
+    const where = relative(root, file.name ?? '');
+    for (const test of file.assertionResults ?? []) {
+      if (test.status !== 'failed') continue;
+      const message = String(test.failureMessages?.[0] ?? '')
+        .split('\n')[0]
+        .slice(0, 300);
+      lines.push(`${where} › ${test.fullName ?? test.title}: ${message}`);
+    }
+    if (
+      file.status === 'failed' &&
+      !(file.assertionResults ?? []).some((t) => t.status === 'failed')
+    )
+      lines.push(
+        `${where}: ${String(file.message ?? '')
+          .split('\n')[0]
+          .slice(0, 300)}`,
+      );
+  }
+  return lines;
+}
 
 async function check(name, command, args) {
   say(`— ${name}`);
@@ -43,6 +70,7 @@ async function vitestRun(name, args, reportFile) {
   let failed = 0;
   if (existsSync(reportFile)) {
     const report = JSON.parse(readFileSync(reportFile, 'utf8'));
+    failures.push(...failedTests(report));
     passed = report.numPassedTests ?? 0;
     failed =
       (report.numFailedTests ?? 0) +
@@ -107,6 +135,10 @@ for (const r of results) {
   process.stdout.write(
     `  ${r.failed ? 'FAIL' : 'ok  '}  ${r.name}: ${r.passed} passed, ${r.failed} failed\n`,
   );
+}
+if (failures.length) {
+  process.stdout.write('\nFailed\n');
+  for (const line of failures) process.stdout.write(`  ${line}\n`);
 }
 process.stdout.write(`\n${passed} passed, ${failed} failed\n`);
 if (isPostgresStartedHere) stopPostgres();

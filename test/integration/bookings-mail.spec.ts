@@ -9,7 +9,11 @@
 import ICAL from 'ical.js';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { BookingView } from '@emberline/shared';
-import { MailCatcher, type CaughtMessage } from '../../server/src/modules/mail/mail-catcher';
+import {
+  MailCatcher,
+  mailCatcherLimits,
+  type CaughtMessage,
+} from '../../server/src/modules/mail/mail-catcher';
 import { MailDelivery } from '../../server/src/modules/mail/mail-delivery.entity';
 import { startTestApp, type ApiClient, type TestApp } from '../support/test-app';
 import { resetToDemo, type DemoIds } from '../support/demo';
@@ -27,7 +31,7 @@ let firstCase: string;
 let secondCase: string;
 let thirdCase: string;
 
-const catcherSettings = { keep: 200, maxMessageBytes: 5 * 1024 * 1024 };
+const catcherSettings = mailCatcherLimits;
 const team = [
   'coordinator@emberline.test',
   'presenter@emberline.test',

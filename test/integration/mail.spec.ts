@@ -10,6 +10,7 @@ import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
 import { calendarInvitation } from '../../server/src/modules/mail/invitation';
 import {
   MailCatcher,
+  mailCatcherLimits,
   startDemoMailCatcher,
   type CaughtMessage,
 } from '../../server/src/modules/mail/mail-catcher';
@@ -28,7 +29,7 @@ let relay: MailCatcher;
 let relayPort: number;
 let mail: MailService;
 
-const catcherSettings = { keep: 200, maxMessageBytes: 5 * 1024 * 1024 };
+const catcherSettings = mailCatcherLimits;
 
 function settings(smtpUrl: string): MailSettings {
   return {
@@ -291,6 +292,31 @@ describe('the demo catcher at start', () => {
     );
     expect(started).toEqual({ catcher: null, url: `smtp://127.0.0.1:${relayPort}` });
     expect(logs).toEqual([]);
+  });
+});
+
+describe("the catcher's memory", () => {
+  it('drops the oldest messages once the kept ones pass its byte bound', async () => {
+    // Each message below is a little over 15 kB on the wire (its 15,000-byte text with the
+    // encoding's line breaks and the headers): a 40 kB bound keeps two of three.
+    const catcher = await MailCatcher.start({ ...mailCatcherLimits, port: 0, keepBytes: 40_000 });
+    try {
+      const transport = nodemailer.createTransport({ url: catcher.url, ignoreTLS: true });
+      for (const subject of ['first', 'second', 'third']) {
+        await transport.sendMail({
+          from: 'no-reply@emberline.invalid',
+          to: 'coordinator@emberline.test',
+          subject,
+          text: 'x'.repeat(15_000),
+        });
+      }
+      await waitFor(() => (catcher.list().length >= 2 ? true : null), 'the messages');
+      expect(catcher.list().map((message) => message.subject)).toEqual(['third', 'second']);
+      const held = catcher.list().reduce((sum, message) => sum + message.raw.length, 0);
+      expect(held).toBeLessThanOrEqual(40_000);
+    } finally {
+      await catcher.close();
+    }
   });
 });
 

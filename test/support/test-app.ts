@@ -11,7 +11,7 @@ import {
   type AssessmentRuntime,
   type AssessmentRuntimeOptions,
 } from '../../server/src/modules/assessments/assessment-runtime';
-import { MailCatcher } from '../../server/src/modules/mail/mail-catcher';
+import { MailCatcher, mailCatcherLimits } from '../../server/src/modules/mail/mail-catcher';
 import { MailService, type MailSettings } from '../../server/src/modules/mail/mail.service';
 
 export interface TestApp {
@@ -59,7 +59,7 @@ export async function startTestApp(
   const logs: string[] = [];
   const assessments = options.assessments ? await options.assessments(orm) : null;
   const mailCatcher = options.mailCatcher
-    ? await MailCatcher.start({ port: 0, keep: 200, maxMessageBytes: 5 * 1024 * 1024 })
+    ? await MailCatcher.start({ port: 0, ...mailCatcherLimits })
     : null;
   const log = (message: string, error?: unknown) =>
     logs.push(`${message} ${error instanceof Error ? error.stack : String(error ?? '')}`);

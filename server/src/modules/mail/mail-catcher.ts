@@ -36,14 +36,19 @@ export interface MailCatcherSettings {
   keep: number;
   /** A larger message is refused with 552 (RFC 5321 §4.5.3.1.10). */
   maxMessageBytes: number;
+  /** The most bytes (as sent) the kept messages may hold together; older ones are dropped. */
+  keepBytes: number;
 }
 
+/** What the demo and the tests keep: the newest 200 messages, and at most 64 MiB of them. */
+export const mailCatcherLimits: Omit<MailCatcherSettings, 'port'> = {
+  keep: 200,
+  maxMessageBytes: 5 * 1024 * 1024,
+  keepBytes: 64 * 1024 * 1024,
+};
+
 export function mailCatcherSettingsFromEnvironment(env = process.env): MailCatcherSettings {
-  return {
-    port: Number(env.MAIL_CATCHER_PORT ?? 4325),
-    keep: 200,
-    maxMessageBytes: 5 * 1024 * 1024,
-  };
+  return { port: Number(env.MAIL_CATCHER_PORT ?? 4325), ...mailCatcherLimits };
 }
 
 export class MailCatcher {
@@ -150,6 +155,13 @@ export class MailCatcher {
   private keep(message: CaughtMessage): void {
     this.messages.unshift(message);
     if (this.messages.length > this.settings.keep) this.messages.length = this.settings.keep;
+    // A memory bound as well as a count: 200 messages near the size limit would hold a gigabyte.
+    let bytes = 0;
+    const kept = this.messages.findIndex((caught) => {
+      bytes += caught.raw.length;
+      return bytes > this.settings.keepBytes;
+    });
+    if (kept > 0) this.messages.length = kept;
   }
 }
 
